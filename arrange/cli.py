@@ -1,0 +1,261 @@
+"""The command line.  Only this module talks to the terminal.
+
+Exit codes: 0 success, 2 bad input (one-line message), 1 internal fault
+(short message; ``--debug`` shows the traceback).
+"""
+from __future__ import annotations
+
+import json
+import sys
+import traceback
+from collections.abc import Callable
+from pathlib import Path
+from typing import Any, TypeVar
+
+import click
+
+from . import __version__
+from .errors import ArrangeError
+
+F = TypeVar("F", bound=Callable[..., Any])
+
+
+class _State:
+    debug = False
+
+
+def _fail(err: BaseException) -> None:
+    if isinstance(err, ArrangeError):
+        click.echo(f"arrange: error: {err}", err=True)
+        sys.exit(2)
+    if _State.debug:
+        traceback.print_exc()
+    else:
+        click.echo(f"arrange: internal error: {type(err).__name__}: {err} "
+                   "(run with --debug for the traceback)", err=True)
+    sys.exit(1)
+
+
+def guarded(fn: F) -> F:
+    import functools
+
+    @functools.wraps(fn)
+    def wrapper(*args: Any, **kwargs: Any) -> Any:
+        try:
+            return fn(*args, **kwargs)
+        except (click.exceptions.Exit, click.ClickException, click.Abort):
+            raise
+        except Exception as err:  # noqa: BLE001 - the one place faults are turned into exits
+            _fail(err)
+    return wrapper  # type: ignore[return-value]
+
+
+@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(__version__, prog_name="arrange")
+@click.option("--debug", is_flag=True, help="Show the traceback of an internal fault.")
+def main(debug: bool) -> None:
+    """Grow a motif into an RI chain, harmonize and voice it for a section,
+    and write a MusicXML score, a MIDI mock-up and a report."""
+    _State.debug = debug
+
+
+def _overlaps(text: str | None) -> tuple[int, ...] | None:
+    if text is None:
+        return None
+    out = []
+    for i, tok in enumerate(text.replace(" ", "").split(","), start=1):
+        if not tok.lstrip("-").isdigit():
+            from .errors import ChainError
+            raise ChainError(f"{tok!r} (value {i} of --overlaps) is not a whole number",
+                             where="--overlaps", accepted="whole numbers separated by commas, e.g. 2,3,2")
+        out.append(int(tok))
+    return tuple(out)
+
+
+@main.command()
+@click.argument("motif")
+@click.option("--statements", "-k", default=4, show_default=True, type=int,
+              help="How many statements (1..1000).")
+@click.option("--overlap", "-o", default=None, type=int, help="Notes shared by each link (default 2).")
+@click.option("--overlaps", default=None, help="One overlap per link, e.g. 2,3,2.")
+@click.option("--lead-range", nargs=2, default=None, metavar="LOW HIGH",
+              help="Concert range to place the line in, e.g. F4 D5.")
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object.")
+@guarded
+def chain(motif: str, statements: int, overlap: int | None, overlaps: str | None,
+          lead_range: tuple[str, str] | None, as_json: bool) -> None:
+    """Grow MOTIF (e.g. "C4 E4 D4 G4" or "60 64 62 67") into an RI chain."""
+    from .chain import build_chain
+    from .errors import ChainError
+    from .pitch import parse_pitch, parse_pitches
+
+    notes = parse_pitches(motif, where="MOTIF")
+    if overlap is not None and overlaps is not None:
+        raise ChainError("both --overlap and --overlaps given", where="command line",
+                         accepted="one of them")
+    ov: int | tuple[int, ...] = _overlaps(overlaps) or (overlap if overlap is not None else 2)
+    rng = None
+    if lead_range:
+        lo = parse_pitch(lead_range[0], where="--lead-range LOW")
+        hi = parse_pitch(lead_range[1], where="--lead-range HIGH")
+        if lo >= hi:
+            raise ChainError(f"--lead-range {lead_range[0]} {lead_range[1]} is empty or reversed",
+                             where="--lead-range", accepted="LOW below HIGH, e.g. F4 D5")
+        rng = (lo, hi)
+    c = build_chain(notes, statements, ov, rng)
+    if as_json:
+        click.echo(json.dumps(c.to_json()))
+        return
+    click.echo(_chain_table(c))
+
+
+def _chain_table(c: Any) -> str:
+    from .pitch import pitch_name
+
+    lines = [f"motif      {' '.join(pitch_name(p) for p in c.motif)}",
+             f"overlaps   {', '.join(map(str, c.overlaps)) or '-'}",
+             "",
+             "stmt  form  transp  start  pitches"]
+    for s in c.statements:
+        names = " ".join(pitch_name(p) for p in s.pitches)
+        lines.append(f"{s.index:>4}  {s.form:<4}  {s.transposition:>+6}  {s.start + 1:>5}  {names}"
+                     + ("  (by pitch class)" if s.link == "pitch-class" else ""))
+    lines += ["",
+              f"line       {' '.join(c.names)}"]
+    if c.pitches != c.raw_pitches:
+        lines.append(f"raw line   {' '.join(pitch_name(p) for p in c.raw_pitches)}")
+    lo, hi = c.span
+    lines += [f"length     {c.length} notes",
+              f"compass    {c.compass_after_two:+d} semitones after two statements",
+              f"transp.    statement 3 lies {c.transposition:+d} semitones from statement 1",
+              f"span       {pitch_name(lo)}..{pitch_name(hi)} ({hi - lo} semitones)",
+              f"pitch cl.  {c.pitch_classes} of 12"
+              + (f", aggregate complete at note {c.aggregate_at}" if c.aggregate_at else "")]
+    return "\n".join(lines)
+
+
+@main.command()
+@click.argument("project", type=click.Path(dir_okay=False, path_type=Path))
+@click.option("-o", "--out", "out_dir", default="out", show_default=True,
+              type=click.Path(file_okay=False, path_type=Path), help="Output folder.")
+@click.option("--formats", default=None, help="Comma list: musicxml,midi,report,preview.")
+@guarded
+def build(project: Path, out_dir: Path, formats: str | None) -> None:
+    """Build PROJECT.toml into score, MIDI and report files in the output folder."""
+    from .build import write_outputs
+    from .errors import OutputError
+    from .project import FORMATS, load_project
+
+    proj = load_project(project)
+    fmts = None
+    if formats is not None:
+        fmts = tuple(f.strip() for f in formats.split(",") if f.strip())
+        bad = [f for f in fmts if f not in FORMATS]
+        if bad or not fmts:
+            raise OutputError(f"format {bad[0] if bad else formats!r} is not known", where="--formats",
+                              accepted=", ".join(FORMATS))
+    click.echo(f"building {proj.title} ...", err=True)
+    result = write_outputs(proj, out_dir, fmts)
+    for p in result.files:
+        click.echo(str(p))
+    n = len(result.voiced.findings) + len(result.voiced.harmonized.warnings)
+    if n:
+        click.echo(f"{n} warning{'s' if n != 1 else ''}: see the report", err=True)
+
+
+def demo_dir() -> Path:
+    from .sections import _find
+
+    return _find("demo_projects")
+
+
+@main.command()
+@click.option("-o", "--out", "out_dir", default="out", show_default=True,
+              type=click.Path(file_okay=False, path_type=Path), help="Output folder.")
+@guarded
+def demo(out_dir: Path) -> None:
+    """Build every bundled demo project into the output folder."""
+    from .build import write_outputs
+    from .project import load_project
+
+    projects = sorted(demo_dir().glob("*.toml"))
+    for i, path in enumerate(projects, start=1):
+        click.echo(f"[{i}/{len(projects)}] {path.name}", err=True)
+        proj = load_project(path)
+        result = write_outputs(proj, out_dir)
+        for p in result.files:
+            click.echo(str(p))
+
+
+@main.command()
+@click.option("--json", "as_json", is_flag=True, help="Print JSON.")
+@guarded
+def sections(as_json: bool) -> None:
+    """List the sections in voicing_rules/ with their parts and ranges."""
+    from .pitch import pitch_name
+    from .sections import sections as all_sections
+
+    table = all_sections()
+    if as_json:
+        click.echo(json.dumps({
+            name: {"description": s.description,
+                   "parts": [{"name": p.name, "instrument": p.instrument.key,
+                              "transposition": p.instrument.transposition,
+                              "range": list(p.instrument.practical),
+                              "extreme": list(p.instrument.extreme)} for p in s.parts]}
+            for name, s in table.items()}))
+        return
+    for name, s in table.items():
+        click.echo(f"{name}: {s.description}")
+        for p in s.parts:
+            lo, hi = p.instrument.practical
+            click.echo(f"    {p.name:<18} {p.instrument.key:<16} {pitch_name(lo)}-{pitch_name(hi)} "
+                       f"sounding, written {p.instrument.transposition:+d}")
+
+
+STARTER = '''# An arrange project.  Every key is explained; change the values and run
+#   arrange build {name} -o out
+title = "New Cue"
+tempo = 132                      # quarter notes per minute
+meter = "4/4"
+key = "Bb major"                 # tonic + mode
+
+[chain]
+motif = "D4 F4 Eb4 G4"           # pitch names or MIDI numbers
+statements = 4
+overlap = 2                      # or a list, one per link
+# lead_range = ["C4", "G5"]      # concert pitch; octave placement keeps the line inside
+
+[rhythm]
+groove = "straight"
+
+[harmony]
+framework = "Bb6 | Cm7 F7 | Bb6 | Bb6"   # bars split by |, chords share a bar evenly
+
+[section]
+name = "trumpets-4"              # see: arrange sections
+voicing = "close"
+
+[output]
+formats = ["musicxml", "midi", "report"]
+'''
+
+
+@main.command()
+@click.argument("project", type=click.Path(dir_okay=False, path_type=Path))
+@guarded
+def new(project: Path) -> None:
+    """Write a commented starter PROJECT.toml (never over an existing file)."""
+    from .errors import OutputError
+    from .writers.files import write_batch
+
+    if project.exists():
+        raise OutputError(f"{str(project)!r} already exists", where="PROJECT",
+                          accepted="a new file name")
+    write_batch(project.parent if str(project.parent) else Path("."),
+                {project.name: STARTER.format(name=project.name).encode("utf-8")})
+    click.echo(str(project))
+
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,147 @@
+"""The project file (TOML): read it into a typed :class:`Project`.
+
+Each stage reads its own table (``[chain]``, ``[rhythm]`` ...) through a
+:class:`~arrange.tables.Table`; unknown keys are refused by name.  Nothing in
+a project file is evaluated: it is data only.
+"""
+from __future__ import annotations
+
+import re
+import tomllib
+from dataclasses import dataclass
+from pathlib import Path
+
+from . import harmony, rhythm, voicing
+from .errors import ArrangeError, ProjectError
+from .pitch import parse_pitch, parse_pitches
+from .sections import Section, section_from_table
+from .tables import Table
+
+__all__ = ["Project", "ChainSpec", "OutputSpec", "load_project", "project_from_data", "slugify",
+           "FORMATS"]
+
+FORMATS = ("musicxml", "midi", "report", "preview")
+MAX_FILE_BYTES = 1_000_000
+
+
+@dataclass(frozen=True, slots=True)
+class ChainSpec:
+    motif: tuple[int, ...]
+    statements: int
+    overlap: int | tuple[int, ...]
+    lead_range: tuple[int, int] | None
+
+
+@dataclass(frozen=True, slots=True)
+class OutputSpec:
+    formats: tuple[str, ...]
+
+
+@dataclass(frozen=True, slots=True)
+class Project:
+    path: Path | None
+    title: str
+    slug: str
+    tempo: float
+    meter: rhythm.Meter
+    key: harmony.Key
+    chain: ChainSpec
+    rhythm: rhythm.RhythmOptions
+    harmony: harmony.HarmonyOptions
+    section: Section
+    voicing: voicing.VoicingOptions
+    output: OutputSpec
+
+
+def slugify(title: str) -> str:
+    """A file-name-safe slug that cannot leave the output folder."""
+    slug = re.sub(r"[^a-z0-9]+", "-", title.lower()).strip("-")
+    return slug[:60].strip("-") or "untitled"
+
+
+def _chain(t: Table) -> ChainSpec:
+    motif_raw = t.raw("motif")
+    try:
+        motif = parse_pitches(motif_raw, where=t.at("motif"))
+    except ArrangeError as err:
+        raise ProjectError(err.what, where=err.where, accepted=err.accepted) from None
+    statements = t.integer("statements", 4, low=1, high=1000)
+    overlap: int | tuple[int, ...]
+    raw = t.raw("overlap", 2)
+    if isinstance(raw, list):
+        if not all(isinstance(o, int) and not isinstance(o, bool) for o in raw):
+            raise t.error("overlap", f"{raw!r} holds a value that is not a whole number",
+                          "a whole number or a list of whole numbers, one per link")
+        overlap = tuple(raw)
+    else:
+        overlap = t.integer("overlap", 2, low=1, high=max(len(motif) - 1, 1))
+    lead_range = None
+    lr = t.raw("lead_range", None)
+    if lr is not None:
+        if not isinstance(lr, list) or len(lr) != 2:
+            raise t.error("lead_range", f"{lr!r}", "two pitches [LOW, HIGH], e.g. [\"F4\", \"D5\"]")
+        try:
+            lo, hi = (parse_pitch(x, where=t.at("lead_range")) for x in lr)
+        except ArrangeError as err:
+            raise ProjectError(err.what, where=err.where, accepted=err.accepted) from None
+        if lo >= hi:
+            raise t.error("lead_range", f"{lr!r} is empty or reversed", "LOW below HIGH")
+        lead_range = (lo, hi)
+    t.finish()
+    return ChainSpec(motif, statements, overlap, lead_range)
+
+
+def _output(t: Table) -> OutputSpec:
+    raw = t.raw("formats", list(FORMATS))
+    if not isinstance(raw, list) or not raw:
+        raise t.error("formats", f"{raw!r}", "a list drawn from " + ", ".join(FORMATS))
+    for f in raw:
+        if f not in FORMATS:
+            raise t.error("formats", f"format {f!r} is not known", ", ".join(FORMATS))
+    t.finish()
+    return OutputSpec(tuple(dict.fromkeys(raw)))
+
+
+def project_from_data(data: dict[str, object], where: str, path: Path | None = None) -> Project:
+    top = Table(data, where)
+    title = top.string("title")
+    tempo = top.number("tempo", 120, low=20, high=400)
+    meter_text = top.string("meter", "4/4")
+    try:
+        meter = rhythm.parse_meter(meter_text, where=top.at("meter"))
+        key = harmony.parse_key(top.string("key", "C major"), where=top.at("key"))
+    except ArrangeError as err:
+        raise ProjectError(err.what, where=err.where, accepted=err.accepted) from None
+    chain = _chain(top.sub("chain", required=True))
+    rhythm_opts = rhythm.read_options(top.sub("rhythm"))
+    harmony_opts = harmony.read_options(top.sub("harmony", required=True))
+    sec_table = top.sub("section", required=True)
+    section = section_from_table(sec_table)
+    voicing_opts = voicing.read_options(sec_table)
+    sec_table.finish()
+    output = _output(top.sub("output"))
+    top.finish()
+    return Project(path, title, slugify(title), tempo, meter, key, chain, rhythm_opts,
+                   harmony_opts, section, voicing_opts, output)
+
+
+def load_project(path: str | Path) -> Project:
+    p = Path(path)
+    if not p.is_file():
+        raise ProjectError(f"project file {str(p)!r} does not exist", where=str(p),
+                           accepted="the path of a .toml project file (arrange new FILE writes one)")
+    if p.stat().st_size > MAX_FILE_BYTES:
+        raise ProjectError(f"the file is {p.stat().st_size} bytes", where=str(p),
+                           accepted=f"a project file under {MAX_FILE_BYTES} bytes")
+    raw = p.read_bytes()
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as err:
+        raise ProjectError(f"the file is not UTF-8 text (byte {err.start})", where=str(p),
+                           accepted="a UTF-8 TOML file") from None
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as err:
+        raise ProjectError(f"invalid TOML: {err}", where=str(p),
+                           accepted="TOML (https://toml.io), e.g. title = \"My Cue\"") from None
+    return project_from_data(data, p.name, p.resolve())

@@ -1,0 +1,97 @@
+"""``Voiced`` to a Standard MIDI File (format 1), through music21's MIDI objects.
+
+Track 0 carries tempo and meter; then one track per part on its own channel
+(channel 10, the General MIDI percussion channel, is skipped) with its
+General MIDI program.  Notes sound at their performed times; velocities are
+moderate (mf) so a mock-up never starts loud.
+"""
+from __future__ import annotations
+
+from fractions import Fraction
+
+from ..voicing import Voiced
+
+__all__ = ["midi_bytes", "TICKS", "channel_for"]
+
+TICKS = 480          # ticks per quarter note
+DEFAULT_VELOCITY = 80   # mf
+
+
+def channel_for(part_index: int) -> int:
+    """0-based MIDI channel of a part, skipping the percussion channel (9)."""
+    ch = part_index if part_index < 9 else part_index + 1
+    return ch % 16
+
+
+def _tick(q: Fraction) -> int:
+    return int(round(q * TICKS))
+
+
+def midi_bytes(voiced: Voiced, tempo: float) -> bytes:
+    from music21 import midi
+
+    mf = midi.MidiFile()
+    mf.ticksPerQuarterNote = TICKS
+    mf.format = 1
+    line = voiced.harmonized.line
+
+    def track_from(events: list[tuple[int, int, midi.MidiEvent]], index: int) -> midi.MidiTrack:
+        trk = midi.MidiTrack(index)
+        events.sort(key=lambda e: (e[0], e[1]))
+        last = 0
+        for tick, _order, ev in events:
+            dt = midi.DeltaTime(trk, time=tick - last)
+            trk.events.append(dt)
+            ev.track = trk
+            trk.events.append(ev)
+            last = tick
+        end_dt = midi.DeltaTime(trk, time=0)
+        eot = midi.MidiEvent(trk, type=midi.MetaEvents.END_OF_TRACK)
+        eot.data = b""
+        trk.events.extend([end_dt, eot])
+        trk.updateEvents()
+        return trk
+
+    conductor: list[tuple[int, int, midi.MidiEvent]] = []
+    name = midi.MidiEvent(None, type=midi.MetaEvents.SEQUENCE_TRACK_NAME)
+    name.data = b"tempo"
+    conductor.append((0, 0, name))
+    ts = midi.MidiEvent(None, type=midi.MetaEvents.TIME_SIGNATURE)
+    den_pow = {1: 0, 2: 1, 4: 2, 8: 3, 16: 4}[line.meter.denominator]
+    ts.data = bytes([line.meter.numerator, den_pow, 24, 8])
+    conductor.append((0, 1, ts))
+    tp = midi.MidiEvent(None, type=midi.MetaEvents.SET_TEMPO)
+    mpq = int(round(60_000_000 / tempo))
+    tp.data = midi.putNumber(mpq, 3)
+    conductor.append((0, 2, tp))
+    mf.tracks.append(track_from(conductor, 0))
+
+    for k, part in enumerate(voiced.section.parts):
+        ch = channel_for(k) + 1   # music21's MidiEvent.channel is 1-based
+        evs: list[tuple[int, int, midi.MidiEvent]] = []
+        nm = midi.MidiEvent(None, type=midi.MetaEvents.SEQUENCE_TRACK_NAME)
+        nm.data = part.name.encode("utf-8")
+        evs.append((0, 0, nm))
+        pc = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.PROGRAM_CHANGE, channel=ch)
+        pc.data = part.instrument.program - 1
+        evs.append((0, 1, pc))
+        prev_end: dict[int, int] = {}
+        for ve in voiced.events:
+            n = ve.event.note
+            pitch = ve.pitches[k]
+            on = _tick(n.perf_onset)
+            off = max(on + 1, _tick(n.perf_onset + n.perf_duration) - 1)
+            if prev_end.get(pitch, -1) > on:   # never overlap the same key
+                on = prev_end[pitch]
+            non = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.NOTE_ON, channel=ch)
+            non.pitch = pitch
+            non.velocity = DEFAULT_VELOCITY
+            noff = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.NOTE_OFF, channel=ch)
+            noff.pitch = pitch
+            noff.velocity = 0
+            evs.append((on, 3, non))
+            evs.append((off, 2, noff))
+            prev_end[pitch] = off
+        mf.tracks.append(track_from(evs, k + 1))
+    data: bytes = mf.writestr()
+    return data

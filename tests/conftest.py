@@ -1,0 +1,90 @@
+"""Shared helpers for the tests.
+
+Outside references used across the suite:
+* the MusicXML 4.0 schema shipped in the ``musicxml`` package (PyPI), read by ``xmlschema``;
+* music21, partitura and mido as independent readers of what we write.
+"""
+from __future__ import annotations
+
+import os
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+
+ROOT = Path(__file__).resolve().parent.parent
+DEMOS = ROOT / "demo_projects"
+
+
+@pytest.fixture(scope="session")
+def musicxml_schema():
+    import musicxml
+    import xmlschema
+
+    xsd = Path(musicxml.__file__).parent / "generate_classes" / "musicxml_4_0.xsd"
+    assert xsd.is_file(), "the musicxml package no longer ships its MusicXML 4.0 XSD"
+    return xmlschema.XMLSchema(str(xsd))
+
+
+def run_cli(*args: str, cwd: Path | None = None):
+    """Run the CLI in-process with click's runner; returns the Result."""
+    from arrange.cli import main
+
+    runner = CliRunner()
+    old = os.getcwd()
+    try:
+        if cwd:
+            os.chdir(cwd)
+        return runner.invoke(main, list(args), catch_exceptions=False)
+    finally:
+        os.chdir(old)
+
+
+def run_subprocess(*args: str, cwd: Path | None = None) -> subprocess.CompletedProcess[str]:
+    return subprocess.run([sys.executable, "-m", "arrange", *args], capture_output=True,
+                          text=True, cwd=cwd, timeout=300)
+
+
+def write_project(folder: Path, text: str, name: str = "p.toml") -> Path:
+    path = folder / name
+    path.write_text(text, encoding="utf-8")
+    return path
+
+
+def snapshot(folder: Path) -> dict[str, bytes]:
+    if not folder.exists():
+        return {}
+    return {p.name: p.read_bytes() for p in sorted(folder.iterdir()) if p.is_file()}
+
+
+BASIC = '''title = "Test Cue"
+tempo = 120
+meter = "4/4"
+key = "F major"
+
+[chain]
+motif = "A4 G4 C5 Bb4"
+statements = 4
+overlap = 2
+
+[harmony]
+framework = "F6 | F6 | Gm7 C7 | F6"
+
+[section]
+name = "trombones-4"
+voicing = "close"
+'''
+
+
+@pytest.fixture
+def basic_project(tmp_path: Path) -> Path:
+    return write_project(tmp_path, BASIC.replace('"A4 G4 C5 Bb4"', '"A3 G3 C4 Bb3"'))
+
+
+def copy_demo(tmp_path: Path, name: str) -> Path:
+    dst = tmp_path / name
+    shutil.copy(DEMOS / name, dst)
+    return dst

@@ -1,0 +1,121 @@
+"""The command line: answers, exit codes, and bad input (issue: foundation).
+
+Bad input must exit 2 with a one-line message naming the value, where it
+is, and what is accepted; no traceback; no output file written or replaced.
+"""
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+from conftest import BASIC, run_cli, run_subprocess, snapshot, write_project
+
+
+def test_chain_table_answers() -> None:
+    r = run_cli("chain", "C4 E4 D4 G4", "--statements", "4")
+    assert r.exit_code == 0
+    assert "RI" in r.output and "statement 3 lies +5" in r.output
+
+
+def test_chain_json_contract() -> None:
+    r = run_cli("chain", "C4 E4 D4 G4", "--statements", "4", "--json")
+    data = json.loads(r.output)
+    for key in ("motif", "overlaps", "statements", "raw_pitches", "pitches", "names", "length",
+                "compass_after_two", "transposition", "span", "pitch_classes"):
+        assert key in data
+    assert data["length"] == 10 and data["transposition"] == 5 and data["compass_after_two"] == 9
+    assert data["statements"][1] == {"index": 2, "form": "RI", "transposition": 9,
+                                     "pitches": [62, 67, 65, 69], "start": 2, "link": "exact"}
+
+
+def test_chain_lead_range_moves_octaves() -> None:
+    r = run_cli("chain", "C4 E4 D4 G4", "-k", "8", "--lead-range", "C4", "C5", "--json")
+    data = json.loads(r.output)
+    assert data["pitches"] != data["raw_pitches"]
+    assert all(60 <= p <= 72 for p in data["pitches"])
+
+
+@pytest.mark.parametrize("args, needle", [
+    (["chain", "C4 H4 D4"], "'H4'"),
+    (["chain", "C4"], "at least 2 notes"),
+    (["chain", "C4 E4 D4", "--statements", "0"], "1..1000"),
+    (["chain", "C4 E4 D4", "--statements", "1001"], "1..1000"),
+    (["chain", "C4 E4 D4 G4", "--overlap", "3"], "overlaps that work"),
+    (["chain", "C4 E4 D4 G4", "-k", "12", "--lead-range", "E4", "A4"], "lead range"),
+    (["chain", "C4 E4 D4 G4", "--overlaps", "2,x"], "'x'"),
+])
+def test_chain_bad_input(args: list[str], needle: str) -> None:
+    r = run_cli(*args)
+    assert r.exit_code == 2
+    assert needle in r.output
+    assert "Traceback" not in r.output
+    assert "accepted" in r.output
+
+
+def test_help_and_chain_do_not_import_music21_or_numpy() -> None:
+    code = ("import sys; from arrange.cli import main; "
+            "sys.argv=['arrange','chain','C4 E4 D4 G4']; "
+            "import contextlib, io\n"
+            "with contextlib.suppress(SystemExit): main()\n"
+            "print('music21' in sys.modules, 'numpy' in sys.modules, file=sys.stderr)")
+    r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
+    assert r.stderr.strip().splitlines()[-1] == "False False"
+    code2 = code.replace("'chain','C4 E4 D4 G4'", "'--help'")
+    r2 = subprocess.run([sys.executable, "-c", code2], capture_output=True, text=True)
+    assert r2.stderr.strip().splitlines()[-1] == "False False"
+
+
+BAD_PROJECTS = [
+    ("missing", None, "does not exist"),
+    ("toml", 'title = "x"\n[chain\nmotif = 1', "line 2"),
+    ("no-title", BASIC.replace('title = "Test Cue"\n', ""), "'title'"),
+    ("unknown-top", "colour = 3\n" + BASIC, "'colour'"),
+    ("unknown-section-key", BASIC + "\ncolour = 3\n", "'section.colour'"),
+    ("unknown-chain", BASIC.replace("overlap = 2", "overlap = 2\nfoo = 1"), "'chain.foo'"),
+    ("bad-pitch", BASIC.replace('"A4 G4 C5 Bb4"', '"A4 Q4 C5"'), "'Q4'"),
+    ("short-motif", BASIC.replace('"A4 G4 C5 Bb4"', '"A4"'), "at least 2 notes"),
+    ("statements", BASIC.replace("statements = 4", "statements = 5000"), "statements"),
+    ("overlap", BASIC.replace("overlap = 2", "overlap = 3"), "overlaps that work"),
+    ("range", BASIC.replace("overlap = 2", 'overlap = 2\nlead_range = ["A4", "C5"]'), "lead range"),
+    ("section", BASIC.replace('"trombones-4"', '"kazoos-9"'), "kazoos-9"),
+    ("wrong-type", BASIC.replace("tempo = 120", 'tempo = "fast"'), "'tempo'"),
+]
+
+
+@pytest.mark.parametrize("name, text, needle", BAD_PROJECTS, ids=[b[0] for b in BAD_PROJECTS])
+def test_build_bad_project(tmp_path: Path, name: str, text: str | None, needle: str) -> None:
+    out = tmp_path / "out"
+    out.mkdir()
+    (out / "keep.musicxml").write_bytes(b"good score")
+    before = snapshot(out)
+    path = tmp_path / "p.toml" if text is None else write_project(tmp_path, text)
+    r = run_cli("build", str(path), "-o", str(out))
+    assert r.exit_code == 2, r.output
+    assert needle in r.output
+    assert "Traceback" not in r.output
+    assert len(r.output.strip().splitlines()) == 1 or r.output.count("error") == 1
+    assert snapshot(out) == before
+
+
+def test_subprocess_exit_code_and_no_traceback(tmp_path: Path) -> None:
+    r = run_subprocess("chain", "C4 X9")
+    assert r.returncode == 2
+    assert "Traceback" not in r.stderr and "'X9'" in r.stderr
+
+
+def test_new_writes_a_project_that_builds(tmp_path: Path) -> None:
+    p = tmp_path / "start.toml"
+    assert run_cli("new", str(p)).exit_code == 0
+    r = run_cli("build", str(p), "-o", str(tmp_path / "o"))
+    assert r.exit_code == 0, r.output
+    again = run_cli("new", str(p))
+    assert again.exit_code == 2
+
+
+def test_sections_lists_known_sections() -> None:
+    r = run_cli("sections", "--json")
+    data = json.loads(r.output)
+    assert "trumpets-4" in data and "trombones-4" in data
