@@ -28,6 +28,12 @@ QUALITIES: dict[str, tuple[int, ...]] = {
     "sus4": (0, 5, 7),
     "7sus4": (0, 5, 7, 10),
 }
+# available tensions per quality, intervals above the root (common jazz practice)
+_TENSIONS: dict[str, tuple[int, ...]] = {
+    "": (2, 9), "6": (2,), "maj7": (2, 6, 9), "m": (2, 5), "m6": (2, 5), "m7": (2, 5),
+    "7": (1, 2, 3, 6, 8, 9), "7sus4": (2, 9), "sus4": (2, 9), "m7b5": (5, 8), "dim": (2, 5, 8, 11),
+    "dim7": (2, 5, 8, 11), "aug": (2, 6),
+}
 _ALIASES = {"M7": "maj7", "Δ": "maj7", "Δ7": "maj7", "-": "m", "-7": "m7", "min": "m",
             "min7": "m7", "ø": "m7b5", "ø7": "m7b5", "°": "dim", "°7": "dim7", "o7": "dim7"}
 ROOT_NAMES = {"C": 0, "D": 2, "E": 4, "F": 5, "G": 7, "A": 9, "B": 11}
@@ -52,6 +58,13 @@ class Chord:
     @property
     def is_dominant(self) -> bool:
         return 4 in self.intervals and 10 in self.intervals
+
+    @property
+    def tensions(self) -> tuple[int, ...]:
+        """Available tensions as intervals above the root (common jazz practice:
+        the chord scale's non-chord tones a whole step above a chord tone, plus
+        the altered tensions on dominants).  The harmony stage refines this."""
+        return _TENSIONS.get(self.quality, (2,))
 
     def __str__(self) -> str:
         return self.symbol
