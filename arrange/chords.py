@@ -192,7 +192,7 @@ def _read_suffix(s: str, bad) -> _Parts:  # noqa: ANN001, C901 - one small gramm
     else:
         if family:
             p.third = "m"
-        paren = take("(")
+        paren = take("(") if s.startswith(("(maj", "(Maj", "(ma", "(M"), i) else None
         maj = take("maj", "Maj", "ma", "M")
         num = take("6/9", "69", "6", "7", "9", "11", "13")
         if paren and (not maj or not take(")")):

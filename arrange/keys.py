@@ -230,7 +230,7 @@ def tensions_in_scale(intervals: tuple[int, ...], scale: tuple[int, ...], domina
 
     9 11 13 and their alterations are available unless a half step above a chord
     tone (the avoid notes), except b9 and b13 on a dominant; an unaltered dominant
-    takes every tension but the 11.  A chord without
+    takes every tension but the 11; a major sixth chord takes the major seventh.  A chord without
     sixth or seventh also takes the scale's sixth and seventh (C -> C6, Cmaj7)."""
     chord = set(intervals)
     if dominant and not chord & {1, 3, 6, 8} and 7 in chord:
@@ -238,6 +238,8 @@ def tensions_in_scale(intervals: tuple[int, ...], scale: tuple[int, ...], domina
         return tuple(sorted({1, 2, 3, 6, 8, 9} - chord))
     has_67 = bool(chord & {9, 10, 11})
     candidates = {1, 2, 3, 5, 6, 8, 9} | (set() if has_67 else {10, 11})
+    if 9 in chord and 4 in chord and not chord & {10, 11}:
+        candidates.add(11)      # a major sixth chord takes the major seventh (C6 -> Cmaj7)
     if chord == {0, 3, 6, 9}:
         candidates.add(11)      # dim7: a whole step above each chord tone
     out = []

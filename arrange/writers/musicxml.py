@@ -10,10 +10,12 @@ from __future__ import annotations
 from dataclasses import dataclass
 from fractions import Fraction
 
+from ..chords import Chord, parse_chord
 from ..notation import pieces
+from ..spelling import direction_of, m21_name, spell_pitch
 from ..voicing import Voiced
 
-__all__ = ["ScoreInfo", "musicxml_bytes", "m21_figure"]
+__all__ = ["ScoreInfo", "musicxml_bytes", "m21_figure", "chord_symbol"]
 
 _INTERVALS = {"unison": "P1", "major second": "M2", "minor third": "m3", "perfect fourth": "P4",
               "perfect fifth": "P5", "major sixth": "M6", "octave": "P8", "major ninth": "M9",
@@ -29,11 +31,44 @@ class ScoreInfo:
     style: str          # the style word printed with the metronome mark
 
 
-def m21_figure(symbol: str) -> str:
-    """Our chord symbol to a figure music21's ChordSymbol reads (flats as '-')."""
-    if len(symbol) > 1 and symbol[1] == "b":
-        symbol = symbol[0] + "-" + symbol[2:]
-    return symbol.replace("dim7", "o7").replace("maj7", "maj7")
+_M21_CORE = {(0, 4, 7): "", (0, 3, 7): "m", (0, 3, 6): "dim", (0, 4, 8): "+", (0, 2, 7): "sus2",
+             (0, 5, 7): "sus4", (0, 4, 7, 9): "6", (0, 3, 7, 9): "m6", (0, 4, 7, 11): "maj7",
+             (0, 3, 7, 10): "m7", (0, 3, 7, 11): "mM7", (0, 4, 7, 10): "7", (0, 3, 6, 10): "m7b5",
+             (0, 3, 6, 9): "o7", (0, 5, 7, 10): "7sus4", (0, 4, 8, 10): "+7", (0, 4, 8, 11): "+M7"}
+
+
+def m21_figure(chord: Chord | str) -> str:
+    """Our chord to a figure music21's ChordSymbol reads to the same tones: the core
+    (triad, sixth, seventh) as one of music21's kinds, every extension as ``add``
+    with its alteration (music21 rejects spellings such as ``Ebm9`` or ``Cmaj9``,
+    and reads ``C13`` with an 11), flats as ``-``."""
+    from ..spelling import m21_name
+
+    ch = parse_chord(chord) if isinstance(chord, str) else chord
+    core = tuple(sorted(ch.core))
+    five = ""
+    if core not in _M21_CORE:   # an altered fifth on a core music21 has no kind for
+        fifth = next(i for i, d in zip(ch.intervals, ch.degrees, strict=True) if d == 5)
+        core = tuple(sorted(7 if i == fifth else i for i in core))
+        five = {6: "b5", 8: "#5"}[fifth]
+    out = m21_name(ch.root_name) + _M21_CORE[core] + five
+    for iv, d in zip(ch.intervals, ch.degrees, strict=True):
+        if d >= 9:
+            diff = (iv - {9: 2, 11: 5, 13: 9}[d] + 6) % 12 - 6
+            out += "add" + ("b" * -diff if diff < 0 else "#" * diff) + str(d)
+    if ch.bass_name:
+        out += "/" + m21_name(ch.bass_name)
+    return out
+
+
+def chord_symbol(chord: Chord):  # noqa: ANN201
+    """A music21 ChordSymbol for ``chord`` that prints our canonical symbol."""
+    from music21 import harmony
+
+    cs = harmony.ChordSymbol(m21_figure(chord))
+    cs.chordKindStr = chord.quality
+    cs.writeAsChord = False
+    return cs
 
 
 def _instrument(part, index: int):  # noqa: ANN001
@@ -70,7 +105,6 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
         bar,
         dynamics,
         expressions,
-        harmony,
         key,
         metadata,
         meter,  # noqa: F401
@@ -100,32 +134,37 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
             if m_i == 0:
                 m.insert(0, _instrument(part, k))
                 m.insert(0, _clef(part.instrument.clef))
-                mode = hkey.mode if hkey.mode in ("major", "minor") else hkey.mode
-                m.insert(0, key.Key(hkey.tonic_name.replace("b", "-"), mode))
+                m.insert(0, key.Key(m21_name(hkey.tonic_name), hkey.signature_mode))
                 m.insert(0, meter.TimeSignature(str(line.meter)))
                 m.insert(0, dynamics.Dynamic("mf"))
                 if k == 0:
                     m.insert(0, tempo.MetronomeMark(text=info.style, number=info.tempo,
                                                     referent=note.Note(type="quarter")))
                     m.insert(0, expressions.TextExpression("Transposed score"))
+            elif voiced.harmonized.key_at(m_i + 1) != voiced.harmonized.key_at(m_i):
+                kc = voiced.harmonized.key_at(m_i + 1)   # a key change by bar
+                m.insert(0, key.Key(m21_name(kc.tonic_name), kc.signature_mode))
             measures.append(m)
         prev_chord = None
+        part_pitches = [ve.pitches[k] for ve in voiced.events]
         for i, ve in enumerate(voiced.events):
             n = ve.event.note
             if k == 0:
                 m_i = int(n.onset // bar_len)
                 off = n.onset - m_i * bar_len
                 if ve.event.chord.symbol != prev_chord:
-                    cs = harmony.ChordSymbol(m21_figure(ve.event.chord.symbol))
-                    cs.writeAsChord = False
-                    measures[m_i].insert(float(off), cs)
+                    measures[m_i].insert(float(off), chord_symbol(ve.event.chord))
                     prev_chord = ve.event.chord.symbol
                 if i in statement_starts:
                     st = statement_starts[i]
                     measures[m_i].insert(float(off), expressions.RehearsalMark(chr(64 + st.index)
                                          if st.index <= 26 else str(st.index)))
+            way = direction_of(part_pitches[i - 1] if i else None, ve.pitches[k],
+                               part_pitches[i + 1] if i + 1 < len(part_pitches) else None)
+            name = m21_name(spell_pitch(ve.pitches[k], voiced.harmonized.key_at(int(n.onset // bar_len) + 1),
+                                        ve.event.chord, way))
             for pc in pieces(n.onset, n.duration, bar_len):
-                nt = note.Note(ve.pitches[k])
+                nt = note.Note(name)
                 nt.duration.quarterLength = pc.duration
                 if pc.tie_start and pc.tie_stop:
                     nt.tie = _tie("continue")

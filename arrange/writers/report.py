@@ -31,6 +31,7 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str) -> di
             "performed_onset": _num(n.perf_onset), "lead": n.pitch,
             "chord": ev.chord.symbol, "role": ev.role, "technique": ev.technique,
             "lead_function": ev.lead_function, "why": ev.why,
+            "lead_class": ev.lead_class, "lead_name": ev.lead_name,
             "voicing": ve.voicing, "pitches": list(ve.pitches),
         })
     warnings = [{"kind": f.kind, "event": f.event, "part": f.part, "message": f.message,
