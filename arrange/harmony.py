@@ -56,6 +56,7 @@ class Event:
     why: str
     lead_class: str = "chord tone"   # the lead against its framework chord
     lead_name: str = ""              # the lead's spelled pitch class, e.g. "Bb"
+    target: Chord | None = None      # for an approach: the chord it resolves to
 
 
 @dataclass(frozen=True, slots=True)
@@ -233,10 +234,10 @@ def harmonize(line: Line, key: Key, options: HarmonyOptions, *, where: str = "[h
         bar = int(note.onset // bar_len) + 1
         func = function_name(note.pitch, frame)
 
-        def ev(chord: Chord, role: str, tech: str | None, why: str,
+        def ev(chord: Chord, role: str, tech: str | None, why: str, target: Chord | None = None,
                note: Note = note, kind: str = kind, kk: Key = kk) -> Event:
             return Event(note, chord, role, tech, function_name(note.pitch, chord), why, kind,
-                         spell_pc(note.pitch, kk, chord))
+                         spell_pc(note.pitch, kk, chord), target)
 
         if structural[i]:
             what = "chord tone" if kind == "chord tone" else "available tension"
@@ -245,7 +246,7 @@ def harmonize(line: Line, key: Key, options: HarmonyOptions, *, where: str = "[h
         prev = events[-1] if events else None
         if prev is not None and notes[i - 1].pitch == note.pitch and idx[i - 1] == idx[i]:
             events.append(ev(prev.chord, prev.role, prev.technique,
-                             f"repeated lead {name} keeps {prev.chord.symbol}"))
+                             f"repeated lead {name} keeps {prev.chord.symbol}", prev.target))
             continue
         leads_in = i + 1 < len(notes) and idx[i + 1] != idx[i]
         strong = _strong(note, fc, line)
@@ -262,7 +263,8 @@ def harmonize(line: Line, key: Key, options: HarmonyOptions, *, where: str = "[h
             pos = "leading into the next chord" if leads_in else "on a weak position"
             events.append(ev(chord, "approach", tech,
                              f"{label} {pos}; {chord.symbol}, {what}, holds it as "
-                             f"{function_name(note.pitch, chord)} and resolves to {target.symbol}"))
+                             f"{function_name(note.pitch, chord)} and resolves to {target.symbol}",
+                             target))
             continue
         if strong:
             sub = find_substitute(note.pitch, frame, kk)
