@@ -81,7 +81,7 @@ def _candidates(technique: str, target: Chord, key: Key, pitch: int) -> list[tup
             f"the tritone substitute for the dominant of {t}"
         iv = (pitch - root) % 12
         suffixes = ["7"] + ([f"7{_ALTERED[iv]}"] if iv in _ALTERED else []) + \
-            (["7sus4"] if iv == 5 else [])
+            (["7sus4"] if iv == 5 and technique == "dominant" else [])
         if iv in _ALTERED:
             suffixes.reverse()      # name the altered tension the lead sounds
         return [(root_spelling(root, s, key, _letter(target.root_name, steps)), what)

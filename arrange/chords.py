@@ -218,7 +218,7 @@ def _read_suffix(s: str, bad) -> _Parts:  # noqa: ANN001, C901 - one small gramm
             continue
         m = _ALT_RE.match(s, i)
         if not m:
-            raise bad(f"has {s[i:]!r} at position {i + 1} of the quality, which is not an alteration")
+            raise bad(f"has {s[i:]!r} at position {i + 1} of the quality, which no chord symbol has there")
         a = {"+": "#", "-": "b"}.get(m.group(1), m.group(1)) + m.group(2)
         if a not in _ALTS:
             raise bad(f"has the alteration {a!r}, which is not one of " + " ".join(_ALT_ORDER))

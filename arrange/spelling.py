@@ -123,8 +123,11 @@ def root_spelling(pc: int, suffix: str, key: Key, letter_hint: str | None = None
         chord = parse_chord(name + suffix)
         tones = spell_chord(chord)
         clash = sum(1 for t in tones if _pc(t) in key.scale and t not in key.names)
-        accs = sum(abs(_acc(t)) for t in tones)
-        score = (name in _ODD and name not in key.names, clash, accs, letter != letter_hint)
+        side = -1 if key.fifths < 0 else 1
+        against = sum(1 for t in tones if _acc(t) * side < 0 and t not in key.names)
+        foreign = sum(1 for t in tones if t not in key.names)
+        score = (name in _ODD and name not in key.names, clash, against, foreign,
+                 letter != letter_hint)
         if best is None or score < best[0]:
             best = (score, chord)
     assert best is not None
