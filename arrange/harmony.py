@@ -192,8 +192,8 @@ def build_framework(line: Line, key: Key, options: HarmonyOptions, where: str) -
         src = b % len(options.framework) + 1 if options.framework else b + 1
         if left < 0 or (free and (left <= 0 or left % len(free))) or (not free and left):
             raise HarmonyError(
-                f"the chords {written!r} do not fill the bar: the bar does not divide into the meter {meter}; they take "
-                f"{given} beat{'s' if given != 1 else ''} and {len(free)} share the rest of {beats}",
+                f"{written!r} does not divide into the meter {meter}: {given} of its {beats} beats "
+                f"are given and {len(free)} chord{'s' if len(free) != 1 else ''} share the other {left}",
                 where=f"{where} framework, bar {src}",
                 accepted=f"chords that fill {beats} beats in whole beats, e.g. 'Gm7:3 C7:1', "
                          f"or 1, 2{', 4' if beats % 4 == 0 else ''} chords sharing the bar evenly"

@@ -2,9 +2,11 @@
 
 The rules (common practice of jazz and commercial engraving):
 
-1. a chord tone is spelled from the chord root as a stacked third, fifth,
-   seventh ... (the third of Ab7 is C, the seventh of E7 is D);
-2. otherwise a note of the key takes the key's spelling (in F major, Bb not A#);
+1. a note of the key takes the key's spelling, so the key signature holds
+   (in F major, Bb not A#, over any chord);
+2. otherwise a chord tone is spelled from the chord root as a stacked third,
+   fifth, seventh ... (the third of Ab7 is C in C major, the seventh of E7 is D
+   in E major, the third of E7 is G# in F major);
 3. otherwise a tension of the chord is spelled by its degree (b9 of C7 is Db);
 4. otherwise a chromatic note follows its direction: rising notes sharp,
    falling notes flat, never a double accidental nor Cb/Fb/E#/B# unless the
@@ -37,6 +39,8 @@ def _pc(name: str) -> int:
 def spell_pc(pc: int, key: Key, chord: Chord | None = None, direction: int = 0) -> str:
     """A pitch-class name (``Bb``) by the rules above; ``direction`` > 0 rising, < 0 falling."""
     pc %= 12
+    if pc in key.scale:
+        return key.names[key.scale.index(pc)]
     if chord is not None:
         iv = (pc - chord.root) % 12
         if chord.bass is not None and pc == chord.bass and chord.bass_name:
@@ -44,8 +48,6 @@ def spell_pc(pc: int, key: Key, chord: Chord | None = None, direction: int = 0) 
         deg = chord.degree_of(iv)
         if deg is not None:
             return interval_name(chord.root_name, iv, deg)
-    if pc in key.scale:
-        return key.names[key.scale.index(pc)]
     if chord is not None and (pc - chord.root) % 12 in chord.tensions:
         iv = (pc - chord.root) % 12
         deg = _TENSION_DEGREE[iv]
