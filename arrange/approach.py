@@ -119,7 +119,9 @@ def find_approach(pitch: int, target: Chord, current: Chord, key: Key,
 
 def find_substitute(pitch: int, chord: Chord, key: Key) -> Chord | None:
     """A diatonic chord sharing tones with ``chord`` (roots a third apart first)
-    that holds the lead as a chord tone or available tension."""
+    that holds the lead, a note of the key, as a chord tone or available tension."""
+    if pitch % 12 not in key.scale:
+        return None
     best = None
     for c in key.diatonic_sevenths():
         if c.root == chord.root:

@@ -11,7 +11,7 @@ strong beat, or keeps its chord with a warning.
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from fractions import Fraction
 
 from .approach import TECHNIQUES, classify, find_approach, find_substitute, function_name
@@ -19,12 +19,12 @@ from .chords import Chord, parse_chord
 from .errors import ArrangeError, HarmonyError, ProjectError
 from .keys import MODES, Key, parse_key, parse_key_change
 from .rhythm import Line, Note
-from .spelling import spell_pc
+from .spelling import root_spelling, spell_pc
 from .tables import Table
 
 __all__ = ["Key", "parse_key", "FrameworkChord", "Event", "Harmonized", "HarmonyOptions",
            "read_options", "harmonize", "parse_framework", "MODES", "PRESETS", "TECHNIQUES",
-           "lead_function"]
+           "lead_function", "transpose_key", "transpose_chord", "MODULATE"]
 
 # named frameworks of our own naming: per bar, (degree, suffix or None = the diatonic seventh)
 PRESETS: dict[str, tuple[tuple[tuple[int, str | None], ...], ...]] = {
@@ -36,6 +36,7 @@ PRESETS: dict[str, tuple[tuple[tuple[int, str | None], ...], ...]] = {
 _VAMP = {"dorian": 4, "mixolydian": 7, "lydian": 2, "phrygian": 2, "locrian": 2, "aeolian": 6,
          "minor": 6, "harmonic minor": 4, "melodic minor": 4, "major": 4, "ionian": 4}
 _TOKEN = re.compile(r"^(.+?)(?::(\d+))?$")
+MODULATE = ("none", "by-statement")
 
 
 @dataclass(frozen=True, slots=True)
@@ -83,6 +84,7 @@ class HarmonyOptions:
     approach: tuple[str, ...] = TECHNIQUES
     preset: str | None = None
     keys: tuple[tuple[int, Key], ...] = ()             # key changes (first bar, key)
+    modulate: str = "none"                             # "none" | "by-statement"
 
 
 def parse_framework(value: object, *, where: str) -> tuple[tuple[str, ...], ...]:
@@ -136,6 +138,10 @@ def read_options(table: Table) -> HarmonyOptions:
             raise table.error("keys", f"{raw_keys!r} is not a list of key changes",
                               "a list such as ['Ab major from bar 9']")
         keys = sorted(parse_key_change(k, where=table.at("keys")) for k in raw_keys)
+        modulate = table.string("modulate", "none", choices=MODULATE)
+        if modulate != "none" and keys:
+            raise table.error("modulate", f"modulate = {modulate!r} and 'keys' are both given",
+                              "one of them: the chain's transposition or key changes by bar")
         for (b1, _), (b2, _) in zip(keys, keys[1:], strict=False):
             if b1 == b2:
                 raise table.error("keys", f"two keys start at bar {b1}", "one key change per bar")
@@ -145,11 +151,52 @@ def read_options(table: Table) -> HarmonyOptions:
         raise ProjectError(err.what, where=err.where, accepted=err.accepted) from None
     table.finish()
     return HarmonyOptions(framework, tuple(dict.fromkeys(raw)), preset,
-                          tuple((b, k) for b, k in keys))
+                          tuple((b, k) for b, k in keys), modulate)
 
 
 def lead_function(pitch: int, chord: Chord) -> str:
     return function_name(pitch, chord)
+
+
+def transpose_key(key: Key, semitones: int) -> Key:
+    """``key`` moved by ``semitones``, its tonic spelled for the simplest signature."""
+    pc = (key.tonic + semitones) % 12
+    best = None
+    for letter in "CDEFGAB":
+        diff = (pc - "C D EF G A B".index(letter) + 6) % 12 - 6
+        if abs(diff) > 1:
+            continue
+        k = Key(pc, letter + ("#" if diff > 0 else "b" if diff < 0 else ""), key.mode)
+        score = (abs(k.fifths), k.fifths > 0)
+        if best is None or score < best[0]:
+            best = (score, k)
+    assert best is not None
+    return best[1]
+
+
+def transpose_chord(chord: Chord, semitones: int, key: Key) -> Chord:
+    """``chord`` moved by ``semitones``, spelled for ``key``."""
+    if semitones % 12 == 0:
+        return chord
+    moved = root_spelling(chord.root + semitones, chord.quality, key)
+    if chord.bass is None:
+        return moved
+    return parse_chord(f"{moved.symbol}/{spell_pc(chord.bass + semitones, key)}")
+
+
+def statement_keys(line: Line, key: Key) -> tuple[tuple[int, int], ...]:
+    """For ``modulate = "by-statement"``: (first bar, semitones) where each P-form
+    statement after the first begins (from the next bar line if it starts mid-bar)."""
+    out = []
+    bar_len = line.meter.bar
+    for st in line.chain.statements:
+        if st.form != "P" or st.index == 1 or st.start >= len(line.notes):
+            continue
+        onset = line.notes[st.start].onset
+        bar = int(onset // bar_len) + 1 + (1 if onset % bar_len else 0)
+        if bar <= line.bars:
+            out.append((bar, st.transposition))
+    return tuple(out)
 
 
 def _key_at(key: Key, changes: tuple[tuple[int, Key], ...], bar: int) -> Key:
@@ -160,15 +207,14 @@ def _key_at(key: Key, changes: tuple[tuple[int, Key], ...], bar: int) -> Key:
 
 
 def _bar_chords(options: HarmonyOptions, b: int, key: Key, where: str) -> list[tuple[Chord, int | None]]:
+    out: list[tuple[Chord, int | None]] = []
     if options.preset is not None:
         bars = PRESETS[options.preset]
-        out = []
         for degree, suffix in bars[b % len(bars)]:
             d = degree or _VAMP.get(key.mode, 4)
             out.append((key.degree_chord(d, suffix), None))
         return out
     written = options.framework[b % len(options.framework)]
-    out = []
     for j, tok in enumerate(written, start=1):
         m = _TOKEN.match(tok)
         assert m is not None
@@ -177,7 +223,8 @@ def _bar_chords(options: HarmonyOptions, b: int, key: Key, where: str) -> list[t
     return out
 
 
-def build_framework(line: Line, key: Key, options: HarmonyOptions, where: str) -> tuple[FrameworkChord, ...]:
+def build_framework(line: Line, key: Key, options: HarmonyOptions, where: str,
+                    shifts: tuple[tuple[int, int], ...] = ()) -> tuple[FrameworkChord, ...]:
     meter = line.meter
     beat = Fraction(4, meter.denominator)
     beats = meter.numerator
@@ -185,6 +232,9 @@ def build_framework(line: Line, key: Key, options: HarmonyOptions, where: str) -
     for b in range(line.bars):
         bar_key = _key_at(key, options.keys, b + 1)
         chords = _bar_chords(options, b, bar_key, where)
+        shift = next((t for first, t in reversed(shifts) if first <= b + 1), 0)
+        if shift and options.preset is None:
+            chords = [(transpose_chord(c, shift, bar_key), n) for c, n in chords]
         given = sum(n for _c, n in chords if n is not None)
         free = [c for c, n in chords if n is None]
         left = beats - given
@@ -213,7 +263,11 @@ def _strong(note: Note, fc: FrameworkChord, line: Line) -> bool:
 
 
 def harmonize(line: Line, key: Key, options: HarmonyOptions, *, where: str = "[harmony]") -> Harmonized:
-    fw = build_framework(line, key, options, where)
+    shifts: tuple[tuple[int, int], ...] = ()
+    if options.modulate == "by-statement" and line.chain is not None:
+        shifts = statement_keys(line, key)
+        options = replace(options, keys=tuple((b, transpose_key(key, t)) for b, t in shifts))
+    fw = build_framework(line, key, options, where, shifts)
     bar_len = line.meter.bar
     idx = []
     k = 0

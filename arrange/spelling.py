@@ -7,7 +7,9 @@ The rules (common practice of jazz and commercial engraving):
 2. otherwise a chord tone is spelled from the chord root as a stacked third,
    fifth, seventh ... (the third of Ab7 is C in C major, the seventh of E7 is D
    in E major, the third of E7 is G# in F major);
-3. otherwise a tension of the chord is spelled by its degree (b9 of C7 is Db);
+3. otherwise a tension of the chord is spelled by its degree (b9 of C7 is Db,
+   #11 F#); a #9 without direction that would put a sharp in a flat key is
+   written as the minor tenth instead (Eb over C7 in F major);
 4. otherwise a chromatic note follows its direction: rising notes sharp,
    falling notes flat, never a double accidental nor Cb/Fb/E#/B# unless the
    key has them; a note without direction leans to the key signature's side.
@@ -56,7 +58,8 @@ def spell_pc(pc: int, key: Key, chord: Chord | None = None, direction: int = 0) 
         if iv == 6 and 7 not in chord.intervals:
             deg = 5
         name = interval_name(chord.root_name, iv, deg)
-        if abs(_acc(name)) <= 1:
+        against = _acc(name) * (-1 if key.fifths < 0 else 1) < 0
+        if abs(_acc(name)) <= 1 and not (against and direction == 0 and iv == 3):
             return name
     return _chromatic(pc, key, direction)
 

@@ -300,7 +300,7 @@ RICH = ('framework = "Ebm9 | Ab13 | Dbmaj9#11 | C7b9/E | Fm7b5 Bb7#9 | Ebm(maj7)
         'approach = ["dominant", "tritone", "chromatic"]')
 
 
-def test_music21_rereads_our_harmony_elements(tmp_path: Path) -> None:
+def test_music21_rereads_our_harmony_elements(tmp_path: Path, musicxml_schema) -> None:
     from music21 import converter, harmony
 
     proj = _project(tmp_path, RICH, key="Eb minor")
@@ -308,6 +308,7 @@ def test_music21_rereads_our_harmony_elements(tmp_path: Path) -> None:
     r = run_cli("build", str(proj), "-o", str(out), "--formats", "musicxml,report")
     assert r.exit_code == 0, r.output
     report = json.loads((out / "test-cue.report.json").read_text())
+    musicxml_schema.validate(str(out / "test-cue.musicxml"))               # MusicXML 4.0 XSD
     score = converter.parse(str(out / "test-cue.musicxml"))               # music21 as reader
     symbols = list(score.parts[0].flatten().getElementsByClass(harmony.ChordSymbol))
     expected = []
@@ -322,6 +323,14 @@ def test_music21_rereads_our_harmony_elements(tmp_path: Path) -> None:
         assert cs.root().pitchClass == ours.root
         if ours.bass is not None:
             assert cs.bass().pitchClass == ours.bass
+    # the printed text is our canonical symbol (the <kind text> attribute)
+    import re
+    xml = (out / "test-cue.musicxml").read_text()
+    printed = [re.search(r'<root-step>([A-G])</root-step>(?:\s*<root-alter>(-?\d)</root-alter>)?', h)
+               for h in re.findall(r"<harmony>.*?</harmony>", xml, re.S)]
+    texts = re.findall(r'<kind text="([^"]*)"', xml)
+    assert [parse_chord(sym).quality for sym in expected] == texts
+    assert len(printed) == len(expected)
     kinds = {e["technique"] for e in report["events"]}
     assert kinds & {"dominant", "tritone", "chromatic"}
     assert all(e["why"] for e in report["events"])
@@ -344,3 +353,31 @@ def test_report_events_carry_harmony_fields(tmp_path: Path) -> None:
 def test_harmony_errors_are_arrange_errors() -> None:
     with pytest.raises(ArrangeError):
         parse_framework(42, where="x")
+
+
+def test_modulation_follows_the_chain(tmp_path: Path) -> None:
+    """modulate = "by-statement": each P statement's transposition moves key and framework."""
+    from music21 import converter, key
+
+    text = BASIC.replace('overlap = 2', 'overlap = 1').replace(
+        'framework = "F6 | F6 | Gm7 C7 | F6"', 'framework = "F6 | Gm7 C7"\nmodulate = "by-statement"')
+    proj = write_project(tmp_path, text.replace('"A4 G4 C5 Bb4"', '"A3 G3 C4 Bb3"'))
+    out = tmp_path / "out"
+    assert run_cli("build", str(proj), "-o", str(out), "--formats", "musicxml,report").exit_code == 0
+    report = json.loads((out / "test-cue.report.json").read_text())
+    chain = report["chain"]
+    t = chain["statements"][2]["transposition"]            # statement 3 (P form)
+    assert t == chain["transposition"] and t % 12
+    first = report["keys"][0]
+    moved = parse_key("F major").tonic + t
+    assert parse_key(first["key"]).tonic == moved % 12
+    bar = first["bar"]
+    later = [fc for fc in report["framework"] if fc["bar"] >= bar]
+    written = ["F6", "Gm7", "C7"]
+    for fc in later:
+        root = parse_chord(fc["chord"]).root
+        assert any((parse_chord(w).root + t) % 12 == root for w in written)
+    score = converter.parse(str(out / "test-cue.musicxml"))            # music21 as reader
+    sigs = list(score.parts[0].flatten().getElementsByClass(key.KeySignature))
+    assert len(sigs) == 2 and sigs[1].sharps == parse_key(first["key"]).fifths
+    assert sigs[1].measureNumber == bar

@@ -44,9 +44,12 @@ def test_quality_examples() -> None:
     assert spell_pc(2, e, parse_chord("E7")) == "D"           # D (not C##) over E7
     assert spell_pc(8, parse_key("F major"), parse_chord("E7")) == "G#"
     assert spell_pc(3, parse_key("C major"), parse_chord("Ab7")) == "Eb"
-    # the b9 of C7 in F major is Db, its #11 F#, its #9 D# (by degree)
+    # the b9 of C7 in F major is Db, its #11 F# (by degree); its #9 is D# on the way up,
+    # Eb without direction (a flat key keeps to flats)
     f = parse_key("F major")
-    assert [spell_pc(pc, f, parse_chord("C7")) for pc in (1, 6, 3)] == ["Db", "F#", "D#"]
+    assert [spell_pc(pc, f, parse_chord("C7")) for pc in (1, 6)] == ["Db", "F#"]
+    assert spell_pc(3, f, parse_chord("C7"), 1) == "D#" and spell_pc(3, f, parse_chord("C7")) == "Eb"
+    assert spell_pc(3, parse_key("G major"), parse_chord("C7")) == "D#"
 
 
 def test_chromatic_notes_follow_their_direction() -> None:
@@ -65,7 +68,6 @@ def test_chromatic_notes_follow_their_direction() -> None:
 @pytest.mark.parametrize("symbol", [v for v in VOCABULARY if "/" not in v])
 def test_chord_tones_are_stacked_thirds_like_music21(symbol: str) -> None:
     from music21 import harmony
-
     from test_chords import m21_figure
 
     chord = parse_chord(symbol)

@@ -45,6 +45,7 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str) -> di
         "section": {"name": voiced.section.name, "parts": parts},
         "framework": [{"bar": fc.bar, "onset": _num(fc.onset), "duration": _num(fc.duration),
                        "chord": fc.chord.symbol} for fc in h.framework],
+        "keys": [{"bar": b, "key": str(k)} for b, k in getattr(h, "keys", ())],
         "events": events,
         "warnings": warnings,
     }
