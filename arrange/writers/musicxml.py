@@ -147,6 +147,7 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
             measures.append(m)
         prev_chord = None
         part_pitches = [ve.pitches[k] for ve in voiced.events]
+        shown: dict[tuple[int, str, int], int] = {}     # accidentals in force per measure
         for i, ve in enumerate(voiced.events):
             n = ve.event.note
             if k == 0:
@@ -172,6 +173,8 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
                     nt.tie = _tie("start")
                 elif pc.tie_stop:
                     nt.tie = _tie("stop")
+                if not part.instrument.transposition:   # transposing parts: music21 respells
+                    _accidental(nt, pc, shown, voiced.harmonized.key_at(pc.measure + 1))
                 measures[pc.measure].insert(float(pc.offset), nt)
         for m in measures:
             _fill_rests(m, bar_len)
@@ -180,6 +183,26 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
             p.append(m)
         score.insert(0, p)
     return score
+
+
+def _accidental(nt, pc, shown: dict[tuple[int, str, int], int], k) -> None:  # noqa: ANN001
+    """Print an accidental only where the key signature and the measure so far do
+    not already give it (common practice of engraving); a tied-over note never."""
+    from music21 import pitch
+
+    order = "FCGDAEB"
+    sig = {x: 1 for x in order[:k.fifths]} if k.fifths >= 0 else {x: -1 for x in order[::-1][:-k.fifths]}
+    step, octave = nt.pitch.step, nt.pitch.octave
+    alter = int(nt.pitch.alter)
+    slot = (pc.measure, step, octave)
+    need = alter != shown.get(slot, sig.get(step, 0)) and not pc.tie_stop
+    shown[slot] = alter
+    if nt.pitch.accidental is None:
+        if need:
+            nt.pitch.accidental = pitch.Accidental("natural")
+            nt.pitch.accidental.displayStatus = True
+        return
+    nt.pitch.accidental.displayStatus = need
 
 
 def _tie(kind: str):  # noqa: ANN202
