@@ -130,3 +130,15 @@ def test_written_score_spells_by_key(tmp_path: Path) -> None:
         assert n.pitch.name.replace("-", "b") == e["lead_name"]
     sig = score.parts[0].flatten().getElementsByClass("KeySignature")[0]
     assert sig.sharps == -4                                               # Ab major: four flats
+    # an accidental prints only where signature and measure do not give it (common practice
+    # of engraving): trombones do not transpose, so the written notes are the sounding ones
+    in_sig = {"B": -1, "E": -1, "A": -1, "D": -1}
+    for m in score.parts[1].getElementsByClass("Measure"):
+        state: dict[tuple[str, int], int] = {}
+        for n in m.getElementsByClass("Note"):
+            slot = (n.pitch.step, n.pitch.octave)
+            alter = int(n.pitch.alter)
+            printed = n.pitch.accidental is not None and bool(n.pitch.accidental.displayStatus)
+            tied_over = n.tie is not None and n.tie.type in ("stop", "continue")
+            assert printed == (alter != state.get(slot, in_sig.get(n.pitch.step, 0)) and not tied_over)
+            state[slot] = alter
