@@ -14,7 +14,7 @@ from ..sections import Section
 from ..voicing import Voiced
 
 __all__ = ["DYNAMICS", "dynamic_of", "entrances", "page_credits", "style_word", "add_rehearsal", "rehearsal_letter", "add_dynamics", "add_analysis",
-           "add_part_groups", "family"]
+           "add_part_groups", "family", "concert_symbols"]
 
 # the dynamics a project may name, softest first (common practice)
 DYNAMICS = ("ppp", "pp", "p", "mp", "mf", "f", "ff", "fff")
@@ -133,6 +133,22 @@ def add_analysis(measures: list[Any], voiced: Voiced, bar: Fraction) -> None:
             te.style.fontStyle = "italic"
             te.style.fontSize = 8
             measures[m_i].insert(off, te)
+
+
+def concert_symbols(measures: list[Any]) -> None:
+    """Chord symbols above a transposing lead stay at concert pitch in the score
+    (common practice: the score's symbols name what sounds).  music21 writes the part
+    in written pitch by transposing everything on the staff, symbols included, so
+    they are moved the other way first; an exact interval round trip keeps the spelling."""
+    from music21 import harmony, instrument
+
+    insts = list(measures[0].getElementsByClass(instrument.Instrument)) if measures else []
+    ivl = insts[0].transposition if insts else None
+    if ivl is None or ivl.semitones == 0:
+        return
+    for m in measures:
+        for cs in m.getElementsByClass(harmony.ChordSymbol):
+            cs.transpose(ivl, inPlace=True)
 
 
 def family(sound: str) -> str:

@@ -149,6 +149,8 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
             marks.add_rehearsal(measures, voiced, bar_len)
         if lead and info.analysis:
             marks.add_analysis(measures, voiced, bar_len)
+        if lead and info.only_part is None:
+            marks.concert_symbols(measures)
         for m in measures:
             _fill_rests(m, bar_len)
         measures[-1].rightBarline = bar.Barline("final")
