@@ -124,7 +124,7 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
                     m.insert(0, tempo.MetronomeMark(number=info.tempo, referent=note.Note(type="quarter")))
             measures.append(m)
         prev_chord = None
-        for i, ve in enumerate(voiced.events):
+        for ve in voiced.events:
             n = ve.event.note
             if lead:
                 m_i = int(n.onset // bar_len)
