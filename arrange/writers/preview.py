@@ -46,7 +46,11 @@ def pages(musicxml: bytes) -> list[str]:
 # SMuFL metronome notes (SMuFL 1.4, "Metronome marks" range) and the plain Unicode
 # music symbols that ordinary fonts carry: verovio writes them in its own music font,
 # which an SVG viewer or cairosvg does not have, so the tempo would show a blank box.
-_METRONOME_NOTES = {"\ueca5": "\u2669", "\ueca7": "\u266a", "\ueca6": "\u2669"}
+# The same for the accidentals verovio writes inside chord symbols (its text-flat
+# U+EA64, text-natural U+EA65, text-sharp U+EA66; and the standard SMuFL U+E260-E262).
+_METRONOME_NOTES = {"\ueca5": "\u2669", "\ueca7": "\u266a", "\ueca6": "\u2669",
+                    "\uea64": "\u266d", "\uea65": "\u266e", "\uea66": "\u266f",
+                    "\ue260": "\u266d", "\ue261": "\u266e", "\ue262": "\u266f"}
 _SMUFL_TEXT = re.compile(r'<tspan font-family="Leipzig" font-size="(\d+)px">([^<]*)</tspan>')
 
 
