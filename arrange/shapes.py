@@ -10,7 +10,7 @@ per part, top to bottom.  Shapes of common practice:
   by the doubling rule below that;
 * ``drop2`` / ``drop3`` / ``drop2-4``: the close shape with the second, the
   third, or the second and fourth voice from the top an octave lower;
-* ``spread``: the open drop 2-4 shape above, the root (or, with four voices,
+* ``spread``: the open drop 2-4 (or drop 2) shape above, the root (or, with four voices,
   the root or a guide tone) at the bottom;
 * ``unison``: every part on the lead's pitch class, in unison or octaves.
 """
@@ -167,32 +167,38 @@ def structures(lead: int, chord: Chord, vtype: str, rec: Recipes) -> list[tuple[
 
 def _extras(top: tuple[int, ...], e: int, chord: Chord, vtype: str, rec: Recipes,
             floor: int) -> list[tuple[tuple[int, ...], float]]:
-    """Choices of ``e`` voices below the structure ``top``, by the doubling rule."""
+    """Choices of ``e`` doubling voices for the structure ``top`` (top to bottom).
+    They may fall between the structure's voices or below it; the result is the
+    whole voicing, sorted top to bottom, so no two parts cross."""
     cost_of = {"lead": {top[0] % 12}, "root": {chord.root}, "fifth": {fifth_pc(chord)}}
     pc_cost: dict[int, float] = {}
     for name, c in rec.doubling:
         for pc in cost_of[name]:
             pc_cost[pc] = min(c, pc_cost.get(pc, c))
-    fixed: tuple[int, ...] = ()
-    bottom = top[-1]
-    if vtype == "close":      # five voices and up: the lead an octave below first
-        fixed = (top[0] - 12,)
-        bottom = top[0] - 12
+    # five voices and up in close writing: the lead an octave below first (two
+    # octaves below, at a cost, where the part below cannot take it)
+    firsts: list[tuple[tuple[int, ...], float]] = [((), 0.0)]
+    if vtype == "close":
+        firsts = [((top[0] - 12,), 0.0), ((top[0] - 24,), rec.weight("lead-two-octaves"))]
         e -= 1
-    if e == 0:
-        return [(fixed, 0.0)]
-    pool = [p for p in range(bottom - 1, max(bottom - rec.extra_window, floor) - 1, -1) if p % 12 in pc_cost]
     out = []
-    if e <= 4 and len(pool) >= e:
+    for fixed, c0 in firsts:
+        taken = set(top + fixed)
+        low = max(min(top + fixed) - rec.extra_window, floor)
+        pool = [p for p in range(top[0] - 1, low - 1, -1) if p % 12 in pc_cost and p not in taken]
+        if e > 4 or len(pool) < e:
+            continue
         for combo in combinations(pool, e):
-            if vtype == "spread" and combo[-1] % 12 != chord.root:
+            voices = tuple(sorted(top + fixed + combo, reverse=True))
+            if vtype == "spread" and voices[-1] % 12 != chord.root:
                 continue
-            out.append((fixed + combo, sum(pc_cost[p % 12] for p in combo)))
+            out.append((voices, c0 + sum(pc_cost[p % 12] for p in combo)))
+    fixed = firsts[0][0]
     if not out:   # many voices: each further voice doubles the voice four above, an octave down
-        voices = list(top + fixed)
+        voices_l = list(top + fixed)
         for _ in range(e):
-            voices.append(voices[-4] - 12)
-        out.append((tuple(voices[len(top):]), 0.0))
+            voices_l.append(voices_l[-4] - 12)
+        out.append((tuple(sorted(voices_l, reverse=True)), 0.0))
     return out
 
 
@@ -207,6 +213,8 @@ def shapes(lead: int, chord: Chord, vtype: str, n: int, floor: int) -> tuple[tup
             out.append(((lead,) + tuple(lead - 12 * k for k in ks), 0.0))
         return tuple(out)
     found = structures(lead, chord, vtype, rec)
+    if vtype == "spread":    # open above: the drop 2-4 shape, or drop 2 where that sits too low
+        found += structures(lead, chord, "drop2", rec)
     if vtype == "spread" and n <= 4:
         guides = {chord.root, (chord.root + 3) % 12, (chord.root + 4) % 12, (chord.root + 10) % 12,
                   (chord.root + 11) % 12}
@@ -217,7 +225,6 @@ def shapes(lead: int, chord: Chord, vtype: str, n: int, floor: int) -> tuple[tup
             for keep in combinations(top[1:], n - 1):
                 result.setdefault((top[0],) + keep, cost)
         else:
-            for extra, c2 in _extras(top, n - 4, chord, vtype, rec, floor):
-                v = top + extra
+            for v, c2 in _extras(top, n - 4, chord, vtype, rec, floor):
                 result[v] = min(cost + c2, result.get(v, cost + c2))
     return tuple(result.items())
