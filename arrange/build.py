@@ -24,7 +24,8 @@ class BuildResult:
 
 def run_pipeline(project: Project) -> Voiced:
     c = project.chain
-    lead_range = c.lead_range
+    # no lead_range given: the chain is placed into the lead instrument's practical range
+    lead_range = c.lead_range or project.section.lead.instrument.practical
     chain = build_chain(c.motif, c.statements, c.overlap, lead_range)
     line = lay_rhythm(chain, project.meter, project.rhythm)
     harmonized = harmonize(line, project.key, project.harmony,
@@ -61,9 +62,9 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
         from .project import slugify
         from .writers.musicxml import part_bytes
 
-        for k, data in part_bytes(voiced, info).items():
+        for k, part_xml in part_bytes(voiced, info).items():
             name = voiced.section.parts[k].name
-            files[f"{slug}.part{k + 1:02d}-{slugify(name)}.musicxml"] = data
+            files[f"{slug}.part{k + 1:02d}-{slugify(name)}.musicxml"] = part_xml
     midi = None
     if "midi" in formats or out.audio:
         from .writers.midi import MidiOptions, midi_bytes
