@@ -22,7 +22,7 @@ DEFAULT_CELL = {
     "straight": "4 8 8 4 4",
     "swing": "8 8 4 8 4 8",
     "shuffle": "8 8 8 8 4 4",
-    "latin": "4. 8 8 4 8",
+    "latin": "4. 4. 4",         # the 3+3+2 figure
 }
 DEFAULT_COMPOUND_CELL = "4 8"
 ARTICULATIONS = ("groove", "none", "accent", "staccato", "tenuto")

@@ -95,6 +95,7 @@ class Line:
     spans: tuple[StatementSpan, ...] = ()
     notate: str = "eighths"  # "12/8": the swing is written out, no playback swing
     start: Fraction = Fraction(0)   # onset of the first value
+    tempo_scale: Fraction = Fraction(1)  # line quarter notes per project-tempo beat (12/8: 3/2)
 
     @property
     def bars(self) -> int:
@@ -341,8 +342,10 @@ def _finish(chain: Chain, meter: Meter, written: Meter, options: RhythmOptions,
     out_notes = []
     write_out = options.notate == "12/8"
 
+    scale = Fraction(3, 2) if write_out else Fraction(1)   # a quarter beat -> a dotted quarter
+
     def w(x: Fraction) -> Fraction:
-        return warp(x, ratio) if write_out else x
+        return warp(x, ratio) * scale if write_out else x
 
     for k, (pitch, on, dur, st) in enumerate(notes):
         on_w, end_w = w(on), w(on + dur)                  # type: ignore[arg-type, operator]
@@ -373,4 +376,4 @@ def _finish(chain: Chain, meter: Meter, written: Meter, options: RhythmOptions,
                       for s, on, d, f in spans)
     pickup = -w(first) if first < 0 else Fraction(0)
     return Line(chain, out_meter, tuple(out_notes), options.groove,
-                float(ratio), pickup, w(total), out_spans, options.notate, w(first))
+                float(ratio), pickup, w(total), out_spans, options.notate, w(first), scale)
