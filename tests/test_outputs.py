@@ -9,6 +9,7 @@ specification, ISO/IEC 15948).
 from __future__ import annotations
 
 import json
+from fractions import Fraction
 import re
 from pathlib import Path
 
@@ -362,3 +363,25 @@ def test_demo_builds_all_with_progress(tmp_path: Path) -> None:
     for i, d in enumerate(demos, start=1):
         assert f"[{i}/{len(demos)}] {d.stem}" in r.output
     assert len(list(tmp_path.glob("*.report.json"))) == len(demos)
+
+
+def test_midi_swing_offsets_as_the_groove_says(tmp_path: Path) -> None:
+    import mido
+
+    proj = write_project(tmp_path, BASIC.replace("[harmony]", '[rhythm]\ngroove = "swing"\nswing = 0.62\n\n[harmony]'))
+    out = tmp_path / "out"
+    assert run_cli("build", str(proj), "-o", str(out), "--formats", "midi,report").exit_code == 0
+    report = json.loads((out / "test-cue.report.json").read_text())
+    track = mido.MidiFile(str(out / "test-cue.mid")).tracks[1]      # Standard MIDI File via mido
+    t, ons = 0, []
+    for m in track:
+        t += m.time
+        if m.type == "note_on" and m.velocity > 0:
+            ons.append(t)
+    offbeats = [(e, on) for e, on in zip(report["events"], ons, strict=True)
+                if (Fraction(e["onset"]).limit_denominator(96) % 1) == Fraction(1, 2)]
+    assert offbeats
+    for e, on in offbeats:
+        beat = int(Fraction(e["onset"]).limit_denominator(96))
+        # swing 0.62: the off-beat eighth sounds 0.62 of the beat after the beat (480 ticks a quarter)
+        assert on == round((beat + 0.62) * 480)

@@ -42,9 +42,13 @@ def entrances(voiced: Voiced, dynamics: tuple[str, ...]) -> list[tuple[int, str]
     return out
 
 
-def _at(onset: Fraction, duration: Fraction, bar: Fraction) -> tuple[int, float]:
-    first = pieces(onset, duration, bar)[0]
-    return first.measure, float(first.offset)
+def _at(voiced: Voiced, index: int) -> tuple[int, float | Fraction]:
+    """(measure index, offset) where note ``index`` starts, as the note writer cuts it."""
+    line = voiced.harmonized.line
+    n = voiced.events[index].event.note
+    first = pieces(n.onset, n.duration, line.meter, pickup=line.pickup)[0]
+    off = first.offset
+    return first.measure, (off if off.denominator % 3 == 0 else float(off))
 
 
 def page_credits(score: Any, title: str, concert: bool, part_name: str | None = None) -> None:
@@ -75,7 +79,7 @@ def style_word(style: str) -> Any:
     return te
 
 
-def add_rehearsal(measures: list[Any], voiced: Voiced, bar: Fraction) -> dict[int, str]:
+def add_rehearsal(measures: list[Any], voiced: Voiced) -> dict[int, str]:
     """A rehearsal letter on the bar line of each bar where a statement starts (common
     practice puts letters on bar lines; a statement that starts mid-bar is named by the
     letter of its bar, and its exact note by the analysis label).  Returns bar -> letter."""
@@ -86,8 +90,7 @@ def add_rehearsal(measures: list[Any], voiced: Voiced, bar: Fraction) -> dict[in
     for i in sorted(starts):
         if i >= len(voiced.events):
             continue
-        n = voiced.events[i].event.note
-        m_i, _ = _at(n.onset, n.duration, bar)
+        m_i, _ = _at(voiced, i)
         if m_i in letters:
             continue
         letters[m_i] = rehearsal_letter(len(letters) + 1)
@@ -100,12 +103,11 @@ def rehearsal_letter(k: int) -> str:
     return chr(64 + (k - 1) % 26 + 1) * ((k - 1) // 26 + 1)
 
 
-def add_dynamics(measures: list[Any], voiced: Voiced, dynamics: tuple[str, ...], bar: Fraction) -> None:
+def add_dynamics(measures: list[Any], voiced: Voiced, dynamics: tuple[str, ...]) -> None:
     from music21 import dynamics as m21dyn
 
     for i, dyn in entrances(voiced, dynamics):
-        n = voiced.events[i].event.note
-        m_i, off = _at(n.onset, n.duration, bar)
+        m_i, off = _at(voiced, i)
         measures[m_i].insert(off, m21dyn.Dynamic(dyn))
 
 
@@ -114,14 +116,13 @@ def statement_label(st: Any) -> str:
     return f"{st.index}. {st.form} {st.transposition:+d}"
 
 
-def add_analysis(measures: list[Any], voiced: Voiced, bar: Fraction) -> None:
+def add_analysis(measures: list[Any], voiced: Voiced) -> None:
     """Statement labels above the lead; the approach technique under each approach chord."""
     from music21 import expressions
 
     starts = {st.start: st for st in voiced.harmonized.line.chain.statements}
     for i, ve in enumerate(voiced.events):
-        n = ve.event.note
-        m_i, off = _at(n.onset, n.duration, bar)
+        m_i, off = _at(voiced, i)
         if i in starts:
             te = expressions.TextExpression(statement_label(starts[i]))
             te.placement = "above"

@@ -16,11 +16,9 @@ def _num(q: Fraction) -> float | int:
 
 def _statement_table(voiced: Voiced, dynamics: tuple[str, ...]) -> list[dict[str, Any]]:
     """Per statement: its first bar, rehearsal letter, dynamic, and the voicing of its notes."""
-    from ..notation import pieces
     from .marks import dynamic_of, rehearsal_letter
 
     line = voiced.harmonized.line
-    bar = line.meter.bar
     letters: dict[int, str] = {}
     out = []
     for st in line.chain.statements:
@@ -28,12 +26,12 @@ def _statement_table(voiced: Voiced, dynamics: tuple[str, ...]) -> list[dict[str
         first_bar = None
         if st.start < len(voiced.events):
             n = voiced.events[st.start].event.note
-            first_bar = pieces(n.onset, n.duration, bar)[0].measure + 1
+            first_bar = line.bar_of(n.onset)
             if first_bar not in letters:
                 letters[first_bar] = rehearsal_letter(len(letters) + 1)
         voicings = list(dict.fromkeys(voiced.events[i].voicing for i in own))
         out.append({"statement": st.index, "form": st.form, "transposition": st.transposition,
-                    "bar": first_bar, "rehearsal": letters.get(first_bar) if first_bar else None,
+                    "bar": first_bar, "rehearsal": letters.get(first_bar) if first_bar is not None else None,
                     "dynamic": dynamic_of(st.index, dynamics), "voicings": voicings,
                     "notes": [i for i in own]})
     return out
@@ -57,8 +55,8 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
             "index": i, "statement": n.statement, "bar": int(n.onset // line.meter.bar) + 1,
             "onset": _num(n.onset), "duration": _num(n.duration),
             "beat": _num(n.onset % line.meter.bar * Fraction(line.meter.denominator, 4) + 1),
-            "performed_onset": _num(n.perf_onset),
-            "performed_duration": _num(n.perf_duration), "lead": n.pitch,
+            "performed_onset": _num(n.perf_onset), "performed_duration": _num(n.perf_duration),
+            "weight": n.weight, "articulation": n.articulation, "lead": n.pitch,
             "lead_name": pitch_name(n.pitch),
             "chord": ev.chord.symbol, "role": ev.role, "technique": ev.technique,
             "lead_function": ev.lead_function, "why": ev.why,
@@ -77,12 +75,22 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
         "swing": line.swing, "bars": line.bars, "dynamics": list(dynamics),
         "chain": line.chain.to_json(),
         "statements": _statement_table(voiced, dynamics),
+        "rhythm": _rhythm(line),
         "section": {"name": voiced.section.name, "parts": parts},
         "framework": [{"bar": fc.bar, "onset": _num(fc.onset), "duration": _num(fc.duration),
                        "chord": fc.chord.symbol} for fc in h.framework],
         "events": events,
         "warnings": warnings,
     }
+
+
+def _rhythm(line: Any) -> dict[str, Any]:
+    """Per statement its onset, duration and bar span (bar 0 is a pickup)."""
+    return {"groove": line.groove, "swing": line.swing, "written_meter": str(line.meter),
+            "notate": line.notate, "pickup": _num(line.pickup), "bars": line.bars,
+            "statements": [{"index": s.index, "onset": _num(s.onset), "duration": _num(s.duration),
+                            "augment": _num(s.factor), "first_bar": s.first_bar,
+                            "last_bar": s.last_bar} for s in line.spans]}
 
 
 def report_json(data: dict[str, Any]) -> bytes:
