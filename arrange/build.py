@@ -8,7 +8,7 @@ from pathlib import Path
 
 from . import __version__
 from .chain import build_chain
-from .errors import ArrangeError
+from .errors import ArrangeError, LimitError
 from .harmony import harmonize
 from .project import Project
 from .rhythm import lay_rhythm
@@ -23,7 +23,28 @@ class BuildResult:
     files: tuple[Path, ...]
 
 
+# the writers take about 2 ms per written note on a laptop; past this a build takes minutes
+MAX_SCORE_NOTES = 40_000
+
+
+def check_size(project: Project) -> None:
+    """Refuse, before any work starts, a passage too big to write in reasonable time."""
+    c = project.chain
+    n = len(c.motif)
+    links = c.overlap if isinstance(c.overlap, tuple) else (c.overlap,) * (c.statements - 1)
+    notes = n + sum(max(n - o, 0) for o in links)
+    parts = len(project.section.parts)
+    if notes * parts > MAX_SCORE_NOTES:
+        name = project.path.name if project.path else "project"
+        raise LimitError(
+            f"{notes} lead notes for {parts} parts make {notes * parts} written notes",
+            where=f"{name}, key 'chain.statements'",
+            accepted=f"at most {MAX_SCORE_NOTES} written notes (lead notes x parts): fewer "
+                     "statements or a smaller section")
+
+
 def run_pipeline(project: Project) -> Voiced:
+    check_size(project)
     c = project.chain
     # no lead_range given: the chain is placed into the lead instrument's practical range
     lead_range = c.lead_range or project.section.lead.instrument.practical
