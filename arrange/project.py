@@ -66,6 +66,9 @@ def _chain(t: Table) -> ChainSpec:
         motif = parse_pitches(motif_raw, where=t.at("motif"))
     except ArrangeError as err:
         raise ProjectError(err.what, where=err.where, accepted=err.accepted) from None
+    if not 2 <= len(motif) <= 64:
+        raise t.error("motif", f"the motif has {len(motif)} note{'s' if len(motif) != 1 else ''}",
+                      "a motif of 2 to 64 notes")
     statements = t.integer("statements", 4, low=1, high=1000)
     overlap: int | tuple[int, ...]
     raw = t.raw("overlap", 2)
