@@ -26,7 +26,6 @@ from dataclasses import dataclass
 import numpy as np
 
 from . import design_kernel
-
 from .chain import Chain, build_chain
 from .design_spec import DesignSpec, make_spec, parse_steps, tonic_chord
 from .pitch import pitch_name
