@@ -149,18 +149,19 @@ def make_spec(length: int, *, statements: int = 4, overlap: int = 2, start: int 
             raise _contradict(f"every allowed step is larger than --span {span} (smallest {smallest})",
                               "--span/--steps/--max-step", "a span at least as large as the smallest step")
     total = length + (statements - 1) * (length - overlap)
+    if aggregate_within is not None and aggregate_within < 12:
+        raise DesignError(f"--aggregate-within {aggregate_within} is under 12 notes",
+                          where="--aggregate-within", accepted="12 notes or more")
     if aggregate and aggregate_within is None:
         aggregate_within = total
     if aggregate_within is not None:
-        if aggregate_within < 12:
-            raise DesignError(f"--aggregate-within {aggregate_within} is under 12 notes",
-                              where="--aggregate-within", accepted="12 notes or more")
-        if total < 12 or aggregate_within > total:
+        if aggregate_within > total or total < 12:
+            within = "" if aggregate else f" within {aggregate_within}"
             raise _contradict(f"the chain has only {total} notes ({statements} statements, overlap "
-                              f"{overlap}), too few for the aggregate within {aggregate_within}",
+                              f"{overlap}), too few for the aggregate{within}",
                               "--aggregate/--statements/--overlap",
-                              f"more statements, a smaller overlap, or --aggregate-within {min(total, 12)}.."
-                              f"{total}" if total >= 12 else "more statements or a smaller overlap")
+                              "more statements or a smaller overlap"
+                              + (f", or --aggregate-within 12..{total}" if total >= 12 else ""))
         if span is not None and span < 11:
             raise _contradict(f"--span {span} cannot hold all 12 pitch classes", "--span/--aggregate",
                               "a span of 11 or more with --aggregate")
