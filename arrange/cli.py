@@ -266,14 +266,18 @@ class _Progress:
         self.clock = time.monotonic
         self.t0 = self.clock()
         self.shown = False
+        self.percent = -1
 
     def __call__(self, done: int, total: int) -> None:
         if not self.shown and self.clock() - self.t0 < 1.0:
             return
-        self.shown = True
+        percent = 100 * done // max(total, 1)
+        if self.shown and percent == self.percent:
+            return                           # redraw once per percent
+        self.shown, self.percent = True, percent
         width = 30
         filled = width * done // max(total, 1)
-        click.echo(f"\r[{'#' * filled}{'.' * (width - filled)}] {100 * done // max(total, 1):3d}% "
+        click.echo(f"\r[{'#' * filled}{'.' * (width - filled)}] {percent:3d}% "
                    f"{done:,} of {total:,} motifs", err=True, nl=False)
 
     def close(self) -> None:

@@ -207,9 +207,9 @@ def search(spec: DesignSpec, top: int = 10, *, count_only: bool = False,
     lead = n - 1 - r
     for c in range(chunks):
         head = _head(spec, lead, c)
-        motif = [np.full(rows, p, dtype=np.int16) for p in head]
-        motif += [off + np.int16(head[-1]) for off in offsets]
-        gidx, tier, scores = design_kernel.screen(spec, motif, c * rows + local,
+        cols = [np.full(rows, p, dtype=np.int16) for p in head]
+        cols += [off + np.int16(head[-1]) for off in offsets]
+        gidx, tier, scores = design_kernel.screen(spec, cols, c * rows + local,
                                                   with_scores=not count_only)
         for t in range(tiers):
             sel = tier <= t
@@ -231,8 +231,8 @@ def search(spec: DesignSpec, top: int = 10, *, count_only: bool = False,
     for g in best[chosen][1].tolist():
         motif = motif_at(spec, int(g))
         chain = build_chain(motif, spec.statements, spec.overlap)
-        tier = meets(spec, chain)
-        if tier is None or tier > chosen:   # the two searches disagree: a fault, not bad input
+        got = meets(spec, chain)
+        if got is None or got > chosen:   # the two searches disagree: a fault, not bad input
             raise RuntimeError(f"design search and chain disagree on motif {motif}")
         found.append(Found(motif, chain, score_of(chain.pitches)[0], why(spec, chain)))
     found.sort(key=lambda f: (-f.score, f.motif))
@@ -248,7 +248,7 @@ def check_space(spec: DesignSpec, force: bool) -> int:
     if total > MAX_SPACE and not force:
         raise DesignError(
             f"the search space holds {total:,} candidate motifs ({len(spec.steps)} allowed steps "
-            f"^ {spec.length - 1}), about {total / 3e6:,.0f} s of work", where="--length/--max-step/--steps",
+            f"^ {spec.length - 1}), roughly {total / 3e6:,.0f} s at 3 million motifs a second", where="--length/--max-step/--steps",
             accepted=f"at most {MAX_SPACE:,} candidates: narrow --max-step or --steps, shorten "
             "--length, or add --force")
     return total

@@ -15,6 +15,7 @@ by pitch class, and the virtual statements 2 and 3 behind ``compass`` and
 from __future__ import annotations
 
 import math
+from typing import Any
 
 import numpy as np
 
@@ -58,9 +59,9 @@ def _next(stmt: Cols, o: int) -> tuple[Cols, np.ndarray | None]:
 class _Block:
     """Named columns sharing their rows, a running mask, lazy compaction."""
 
-    def __init__(self, arrays: dict[str, np.ndarray | Cols]) -> None:
+    def __init__(self, arrays: dict[str, Any]) -> None:
         self.a = arrays
-        self.mask = np.ones(len(arrays["gidx"]), dtype=bool)  # type: ignore[arg-type]
+        self.mask = np.ones(len(arrays["gidx"]), dtype=bool)
 
     def __len__(self) -> int:
         return len(self.mask)
@@ -123,67 +124,67 @@ def screen(spec: DesignSpec, motif: Cols, gidx: np.ndarray, *, with_scores: bool
     for j in range(2, max(k, 3) + 1):
         if not b.mask.any():
             break
-        nxt, ok = _next(b.a["stmt"], o)       # type: ignore[arg-type]
+        nxt, ok = _next(b.a["stmt"], o)
         b.a["stmt"] = nxt
         m = b.mask
-        m0 = b.a["motif"][0]                  # type: ignore[index]
+        m0 = b.a["motif"][0]
         if j <= k:
             if ok is not None:
                 m &= ok
             new = nxt[o:]
             lo, hi = b.a["lo"], b.a["hi"]
             for c in new:
-                np.minimum(lo, c, out=lo)   # type: ignore[call-overload]
-                np.maximum(hi, c, out=hi)   # type: ignore[call-overload]
-            m &= (lo >= 0) & (hi <= 127)    # type: ignore[operator]
+                np.minimum(lo, c, out=lo)
+                np.maximum(hi, c, out=hi)
+            m &= (lo >= 0) & (hi <= 127)
             if spec.span is not None:
-                m &= hi - lo <= spec.span    # type: ignore[operator]
+                m &= hi - lo <= spec.span
             if outside is not None:
                 out = b.a["out"]
                 for c in new:
-                    out += outside[c % 12]    # type: ignore[operator]
-                m &= out <= spec.chromatic_notes  # type: ignore[operator]
+                    out += outside[c % 12]
+                m &= out <= spec.chromatic_notes
             if agg_m is not None:
                 bits = b.a["bits"]
                 one = np.ones(1, dtype=_DT)
                 for i, c in enumerate(new):
                     if pos + i < agg_m:
-                        bits |= np.left_shift(one, (c % 12).astype(_DT))  # type: ignore[operator]
+                        bits |= np.left_shift(one, (c % 12).astype(_DT))
             pos += len(new)
         elif ok is not None:                  # a virtual statement: only its properties count
-            b.a[f"alive{j}"] = ok if j == 2 else (b.a["alive2"] & ok)  # type: ignore[operator]
+            b.a[f"alive{j}"] = ok if j == 2 else (b.a["alive2"] & ok)
         if j == 2:
             alive2 = b.a["alive2"]
-            b.a["compass"] = np.where(alive2, nxt[-1] - m0, 0)  # type: ignore[operator]
+            b.a["compass"] = np.where(alive2, nxt[-1] - m0, 0)
         if j == 3:
             alive3 = b.a.get("alive3", b.a["alive2"])
-            t = np.where(alive3, nxt[0] - m0, 0)  # type: ignore[operator]
+            t = np.where(alive3, nxt[0] - m0, 0)
             if spec.transposition is not None:
                 if spec.transposition_class:
                     m &= (t - spec.transposition) % 12 == 0
                 else:
                     m &= t == spec.transposition
             if spec.compass is not None:
-                m &= b.a["compass"] == spec.compass  # type: ignore[operator]
+                m &= b.a["compass"] == spec.compass
             if spec.to_key is not None and o <= 2 and k > 3:
                 # exact links: statement j+2 is statement j moved by t (module doc of chain)
                 comp = b.a["compass"]
                 last = (comp + (k // 2 - 1) * t) if k % 2 == 0 else ((k - 1) // 2) * t
-                m &= (last - spec.distance) % 12 == 0  # type: ignore[operator]
+                m &= (last - spec.distance) % 12 == 0
         if j == k and spec.to_key is not None:
-            last_t = (nxt[-1] if k % 2 == 0 else nxt[0]) - m0  # type: ignore[operator]
+            last_t = (nxt[-1] if k % 2 == 0 else nxt[0]) - m0
             m &= (last_t - spec.distance) % 12 == 0
         b.compact()
     if agg_m is not None:
-        b.mask &= b.a["bits"] == 4095         # type: ignore[operator]
+        b.mask &= b.a["bits"] == 4095
     b.compact(force=True)
-    gidx = b.a["gidx"]                        # type: ignore[assignment]
+    gidx = b.a["gidx"]
     if not len(gidx):
         z = np.zeros(0, dtype=np.int64)
         return z, z, np.zeros(0)
     if spec.to_key is not None:
         # statement k is the last one built unless virtual statements followed it
-        last = b.a["stmt"][-1] if k >= 3 else _line(spec, b.a["motif"])[-1]  # type: ignore[index, arg-type]
+        last = b.a["stmt"][-1] if k >= 3 else _line(spec, b.a["motif"])[-1]
         pc = last % 12
         chord = np.zeros(12, dtype=bool)
         chord[list(tonic_chord(spec.to_key))] = True
@@ -192,8 +193,8 @@ def screen(spec: DesignSpec, motif: Cols, gidx: np.ndarray, *, with_scores: bool
         tier = np.where(chord[pc], 0, np.where(scale[pc], 1, 2))
     else:
         tier = np.zeros(len(gidx), dtype=np.int64)
-    sc = scores(_line(spec, b.a["motif"])) if with_scores else np.zeros(len(gidx))  # type: ignore[arg-type]
-    return gidx, tier, sc                     # type: ignore[return-value]
+    sc = scores(_line(spec, b.a["motif"])) if with_scores else np.zeros(len(gidx))
+    return gidx, tier, sc
 
 
 def scores(line: Cols) -> np.ndarray:

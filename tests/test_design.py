@@ -105,7 +105,7 @@ def test_every_result_rebuilt_meets_every_constraint(args: list[str]) -> None:
     from arrange.pitch import parse_pitch
     start = parse_pitch(_opt(args, "--start")) if _opt(args, "--start") else 60
     if from_key and not _opt(args, "--start"):
-        from music21 import pitch   # a transition starts on the first key's tonic, octave 4
+        from music21 import pitch  # a transition starts on the first key's tonic, octave 4
         start = pitch.Pitch(from_key.split()[0].replace("b", "-") + "4").midi
     previous = None
     for res in out["results"]:
