@@ -24,7 +24,8 @@ class BuildResult:
 
 def run_pipeline(project: Project) -> Voiced:
     c = project.chain
-    lead_range = c.lead_range
+    # no lead_range given: the chain is placed into the lead instrument's practical range
+    lead_range = c.lead_range or project.section.lead.instrument.practical
     chain = build_chain(c.motif, c.statements, c.overlap, lead_range)
     line = lay_rhythm(chain, project.meter, project.rhythm)
     harmonized = harmonize(line, project.key, project.harmony,
