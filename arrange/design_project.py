@@ -1,9 +1,9 @@
 """A starter project (TOML text) around the designer's best motif.
 
 The framework moves tonic, dominant, tonic; for a transition it moves from the
-first key's tonic to the second key's dominant and tonic.  One framework bar is
-written per eight line notes (the build lays straight eighths in 4/4 unless the
-project's ``[rhythm]`` says otherwise), so the cadence lands on the last bars.
+first key's tonic to the second key's dominant and tonic.  The framework has as
+many bars as the rhythm stage's default groove gives the line in 4/4 (asked of
+:func:`arrange.rhythm.lay_rhythm` itself), so the cadence lands on the last bars.
 """
 from __future__ import annotations
 
@@ -47,6 +47,15 @@ def _framework(first: str, dominant: str, last: str, bars: int) -> str:
     return f"{first} {dominant} {last}"
 
 
+def _bars(chain: Chain) -> int:
+    """Bars of the line under the default rhythm in 4/4, as the build will lay it."""
+    from .rhythm import lay_rhythm, parse_meter, read_options
+    from .tables import Table
+
+    line = lay_rhythm(chain, parse_meter("4/4"), read_options(Table({}, "design [rhythm]")))
+    return max(1, line.bars)
+
+
 def project_text(spec: DesignSpec, chain: Chain, why: str) -> str:
     start_key = spec.from_key or spec.key
     end_key = spec.to_key or start_key
@@ -55,7 +64,7 @@ def project_text(spec: DesignSpec, chain: Chain, why: str) -> str:
 
     k1 = start_key or parse_key("C major")
     k2 = end_key or k1
-    bars = max(1, -(-chain.length // 8))
+    bars = _bars(chain)
     framework = _framework(tonic_symbol(k1), dominant_symbol(k2), tonic_symbol(k2), bars)
     if spec.from_key is not None and spec.to_key is not None:
         title = f"Transition {spec.from_key} to {spec.to_key}"
@@ -80,7 +89,7 @@ def project_text(spec: DesignSpec, chain: Chain, why: str) -> str:
         f"overlap = {spec.overlap}",
         "",
         "[harmony]",
-        f"# {bars} bar{'s' if bars != 1 else ''}: one per eight line notes of straight eighths",
+        f"# {bars} bar{'s' if bars != 1 else ''}: what the default groove gives this line in 4/4",
         f"framework = {q(framework)}",
         "",
         "[section]",

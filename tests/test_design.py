@@ -270,7 +270,11 @@ def test_write_project_builds_and_moves_between_keys(tmp_path: Path) -> None:
     b = run_cli("build", str(proj), "-o", str(out))
     assert b.exit_code == 0, b.output
     report = json.loads(next(out.glob("*.report.json")).read_text(encoding="utf-8"))
-    assert report["chain"]["pitches"] == best["chain"]["pitches"]
+    assert report["chain"]["motif"] == best["motif"]
+    # the cadence lands at the end: the last lead note sounds over the second key's tonic
+    events = report["events"]
+    assert events[-1]["chord"] == "Ab"
+    assert "Eb7" in {e["chord"] for e in events} and events[0]["chord"] == "F"
     # never over an existing file
     before = proj.read_bytes()
     again = run_cli("design", "--length", "4", "--write-project", str(proj))
