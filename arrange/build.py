@@ -8,6 +8,7 @@ from pathlib import Path
 
 from . import __version__
 from .chain import build_chain
+from .errors import ArrangeError
 from .harmony import harmonize
 from .project import Project
 from .rhythm import lay_rhythm
@@ -26,11 +27,22 @@ def run_pipeline(project: Project) -> Voiced:
     c = project.chain
     # no lead_range given: the chain is placed into the lead instrument's practical range
     lead_range = c.lead_range or project.section.lead.instrument.practical
-    chain = build_chain(c.motif, c.statements, c.overlap, lead_range)
+    try:
+        chain = build_chain(c.motif, c.statements, c.overlap, lead_range)
+    except ArrangeError as err:
+        raise _in_project(err, project, "chain") from None
     line = lay_rhythm(chain, project.meter, project.rhythm)
     harmonized = harmonize(line, project.key, project.harmony,
                            where=f"{project.path.name if project.path else 'project'} [harmony]")
     return voice(harmonized, project.section, project.voicing)
+
+
+def _in_project(err: ArrangeError, project: Project, table: str) -> ArrangeError:
+    """The same error, placed in the project file: ``p.toml, key 'chain.motif'``."""
+    name = project.path.name if project.path else "project"
+    where = f"{name}, key '{table}.{err.where}'" if err.where and " " not in err.where \
+        else f"{name} [{table}]" + (f", {err.where}" if err.where else "")
+    return type(err)(err.what, where=where, accepted=err.accepted)
 
 
 def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...]) -> dict[str, bytes]:
