@@ -9,8 +9,8 @@ specification, ISO/IEC 15948).
 from __future__ import annotations
 
 import json
-from fractions import Fraction
 import re
+from fractions import Fraction
 from pathlib import Path
 
 import pytest
