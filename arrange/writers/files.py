@@ -51,11 +51,11 @@ def write_batch(folder: Path, files: dict[str, bytes]) -> list[Path]:
     try:
         for name, data in files.items():
             final = safe_name(folder, name)
-            fd, tmp = tempfile.mkstemp(prefix=f".{name}.", suffix=".tmp", dir=folder)
-            temps.append((Path(tmp), final))
+            fd, tmp_name = tempfile.mkstemp(prefix=f".{name}.", suffix=".tmp", dir=folder)
+            temps.append((Path(tmp_name), final))
             with os.fdopen(fd, "wb") as fh:
                 fh.write(data)
-            os.chmod(tmp, 0o666 & ~_umask())
+            os.chmod(tmp_name, 0o666 & ~_umask())
         for tmp, final in temps:
             if final.is_dir():
                 raise IsADirectoryError(21, "a folder has the output's name", str(final))

@@ -51,6 +51,11 @@ def _at(voiced: Voiced, index: int) -> tuple[int, float | Fraction]:
     return first.measure, (off if off.denominator % 3 == 0 else float(off))
 
 
+def _text_style(obj: Any) -> Any:
+    """music21's text style (a TextStyle at run time; typed loosely by music21)."""
+    return obj.style
+
+
 def page_credits(score: Any, title: str, concert: bool, part_name: str | None = None) -> None:
     """The title and 'Transposed score' (or 'Concert score'; in a part, the part's name)
     on the first page, as MusicXML credits (positions in tenths on an A4 page at
@@ -58,12 +63,12 @@ def page_credits(score: Any, title: str, concert: bool, part_name: str | None = 
     from music21 import text
 
     heading = text.TextBox(title, 600, 1650)
-    heading.style.justify = "center"
-    heading.style.fontSize = 20
+    _text_style(heading).justify = "center"
+    _text_style(heading).fontSize = 20
     heading.page = 1
     kind = text.TextBox(part_name or ("Concert score" if concert else "Transposed score"), 60, 1600)
-    kind.style.justify = "left"
-    kind.style.fontStyle = "italic"
+    _text_style(kind).justify = "left"
+    _text_style(kind).fontStyle = "italic"
     kind.page = 1
     score.insert(0, heading)
     score.insert(0, kind)
@@ -75,7 +80,7 @@ def style_word(style: str) -> Any:
 
     te = expressions.TextExpression(style)
     te.placement = "above"
-    te.style.fontWeight = "bold"
+    _text_style(te).fontWeight = "bold"
     return te
 
 
@@ -126,13 +131,13 @@ def add_analysis(measures: list[Any], voiced: Voiced) -> None:
         if i in starts:
             te = expressions.TextExpression(statement_label(starts[i]))
             te.placement = "above"
-            te.style.fontStyle = "italic"
+            _text_style(te).fontStyle = "italic"
             measures[m_i].insert(off, te)
         if ve.event.role == "approach" and ve.event.technique:
             te = expressions.TextExpression(ve.event.technique)
             te.placement = "below"
-            te.style.fontStyle = "italic"
-            te.style.fontSize = 8
+            _text_style(te).fontStyle = "italic"
+            _text_style(te).fontSize = 8
             measures[m_i].insert(off, te)
 
 

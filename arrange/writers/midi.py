@@ -127,12 +127,12 @@ def midi_bytes(voiced: Voiced, tempo: float, options: MidiOptions | None = None)
 
         n_parts = len(voiced.section.parts)
         velocity = VELOCITY[opts.dynamics[0]]
-        for j, (name, channel, program, notes) in enumerate((
+        for j, (track_name, channel, program, notes) in enumerate((
                 ("Bass", channel_for(n_parts), 33, bass_notes(voiced)),
                 ("Drums", 9, None, drum_notes(voiced)))):
             evs = []
             nm = midi.MidiEvent(None, type=midi.MetaEvents.SEQUENCE_TRACK_NAME)
-            nm.data = name.encode("utf-8")
+            nm.data = track_name.encode("utf-8")
             evs.append((0, 0, nm))
             if program is not None:
                 pc = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.PROGRAM_CHANGE,

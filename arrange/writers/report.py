@@ -62,7 +62,7 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
             "lead_function": ev.lead_function, "why": ev.why,
             "voicing": ve.voicing, "pitches": list(ve.pitches),
         })
-    def bar_of(ev: int | None) -> int | None:
+    def bar_of(ev: int | None) -> Any:
         return events[ev]["bar"] if ev is not None and 0 <= ev < len(events) else None
 
     warnings = [{"kind": f.kind, "event": f.event, "bar": bar_of(f.event), "part": f.part,
