@@ -8,6 +8,7 @@ from pathlib import Path
 
 from . import __version__
 from .chain import build_chain
+from .errors import ArrangeError, LimitError
 from .harmony import harmonize
 from .project import Project
 from .rhythm import lay_rhythm
@@ -22,34 +23,102 @@ class BuildResult:
     files: tuple[Path, ...]
 
 
-def run_pipeline(project: Project) -> Voiced:
+# the writers take about 2 ms per written note on a laptop; past this a build takes minutes
+MAX_SCORE_NOTES = 40_000
+
+
+def check_size(project: Project) -> None:
+    """Refuse, before any work starts, a passage too big to write in reasonable time."""
     c = project.chain
-    lead_range = c.lead_range
-    chain = build_chain(c.motif, c.statements, c.overlap, lead_range)
+    n = len(c.motif)
+    links = c.overlap if isinstance(c.overlap, tuple) else (c.overlap,) * (c.statements - 1)
+    notes = n + sum(max(n - o, 0) for o in links)
+    parts = len(project.section.parts)
+    if notes * parts > MAX_SCORE_NOTES:
+        name = project.path.name if project.path else "project"
+        raise LimitError(
+            f"{notes} lead notes for {parts} parts make {notes * parts} written notes",
+            where=f"{name}, key 'chain.statements'",
+            accepted=f"at most {MAX_SCORE_NOTES} written notes (lead notes x parts): fewer "
+                     "statements or a smaller section")
+
+
+def run_pipeline(project: Project) -> Voiced:
+    check_size(project)
+    c = project.chain
+    # no lead_range given: the chain is placed into the lead instrument's practical range
+    lead_range = c.lead_range or project.section.lead.instrument.practical
+    try:
+        chain = build_chain(c.motif, c.statements, c.overlap, lead_range)
+    except ArrangeError as err:
+        raise _in_project(err, project, "chain") from None
     line = lay_rhythm(chain, project.meter, project.rhythm)
     harmonized = harmonize(line, project.key, project.harmony,
                            where=f"{project.path.name if project.path else 'project'} [harmony]")
     return voice(harmonized, project.section, project.voicing)
 
 
-def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...]) -> dict[str, bytes]:
-    """Every asked file as bytes, in memory, before anything is written."""
+def _in_project(err: ArrangeError, project: Project, table: str) -> ArrangeError:
+    """The same error, placed in the project file: ``p.toml, key 'chain.motif'``."""
+    name = project.path.name if project.path else "project"
+    where = f"{name}, key '{table}.{err.where}'" if err.where and " " not in err.where \
+        else f"{name} [{table}]" + (f", {err.where}" if err.where else "")
+    return type(err)(err.what, where=where, accepted=err.accepted)
+
+
+def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
+                   notes: list[str] | None = None) -> dict[str, bytes]:
+    """Every asked file as bytes, in memory, before anything is written.  One-line
+    notices (audio skipped, say) are appended to ``notes``."""
     files: dict[str, bytes] = {}
     slug = project.slug
-    if "musicxml" in formats or "preview" in formats:
+    out = project.output
+    info = None
+    if "musicxml" in formats or "preview" in formats or out.parts:
         from .writers.musicxml import ScoreInfo, musicxml_bytes
 
-        xml = musicxml_bytes(voiced, ScoreInfo(project.title, project.tempo, _style(project)))
+        info = ScoreInfo(project.title, project.tempo, _style(project), dynamics=out.dynamics,
+                         analysis=out.analysis, concert=out.concert_score, version=__version__)
+        xml = musicxml_bytes(voiced, info)
         if "musicxml" in formats:
             files[f"{slug}.musicxml"] = xml
-    if "midi" in formats:
-        from .writers.midi import midi_bytes
+        if "preview" in formats:
+            from .writers.preview import have_png, png_bytes, svg_bytes
 
-        files[f"{slug}.mid"] = midi_bytes(voiced, project.tempo)
+            svg = svg_bytes(xml)
+            files[f"{slug}.svg"] = svg
+            if have_png():
+                files[f"{slug}.png"] = png_bytes(svg)
+            elif notes is not None:
+                notes.append("preview: PNG skipped, cairosvg is not installed (pip install cairosvg)")
+    if out.parts and info is not None:
+        from .project import slugify
+        from .writers.musicxml import part_bytes
+
+        for k, part_xml in part_bytes(voiced, info).items():
+            name = voiced.section.parts[k].name
+            files[f"{slug}.part{k + 1:02d}-{slugify(name)}.musicxml"] = part_xml
+    midi = None
+    if "midi" in formats or out.audio:
+        from .writers.midi import MidiOptions, midi_bytes
+
+        midi = midi_bytes(voiced, project.tempo,
+                          MidiOptions(out.dynamics, out.humanize, out.seed, out.rhythm_section))
+        if "midi" in formats:
+            files[f"{slug}.mid"] = midi
+    if out.audio and midi is not None:
+        from .writers.audio import missing_message, wav_bytes
+
+        wav = wav_bytes(midi)
+        if wav is not None:
+            files[f"{slug}.wav"] = wav
+        elif notes is not None:
+            notes.append(missing_message() or "audio skipped")
     if "report" in formats:
         from .writers.report import report_data, report_json, report_markdown
 
-        data = report_data(voiced, title=project.title, tempo=project.tempo, version=__version__)
+        data = report_data(voiced, title=project.title, tempo=project.tempo, version=__version__,
+                           dynamics=out.dynamics)
         files[f"{slug}.report.json"] = report_json(data)
         files[f"{slug}.report.md"] = report_markdown(data)
     return files
@@ -60,10 +129,11 @@ def _style(project: Project) -> str:
             "latin": "Latin"}.get(project.rhythm.groove, project.rhythm.groove.title())
 
 
-def write_outputs(project: Project, out_dir: Path, formats: tuple[str, ...] | None = None) -> BuildResult:
+def write_outputs(project: Project, out_dir: Path, formats: tuple[str, ...] | None = None,
+                  notes: list[str] | None = None) -> BuildResult:
     from .writers.files import write_batch
 
     voiced = run_pipeline(project)
-    files = render_outputs(project, voiced, formats or project.output.formats)
+    files = render_outputs(project, voiced, formats or project.output.formats, notes)
     paths = write_batch(out_dir, files)
     return BuildResult(voiced, tuple(paths))

@@ -139,28 +139,65 @@ def _chain_table(c: Any) -> str:
 @click.option("-o", "--out", "out_dir", default="out", show_default=True,
               type=click.Path(file_okay=False, path_type=Path), help="Output folder.")
 @click.option("--formats", default=None, help="Comma list: musicxml,midi,report,preview.")
+@click.option("--parts/--no-parts", default=None, help="Also write one MusicXML file per part.")
+@click.option("--analysis/--no-analysis", default=None,
+              help="Statement labels and approach techniques on the score.")
+@click.option("--audio/--no-audio", default=None,
+              help="Also render a WAV through fluidsynth (when installed).")
 @guarded
-def build(project: Path, out_dir: Path, formats: str | None) -> None:
+def build(project: Path, out_dir: Path, formats: str | None, parts: bool | None,
+          analysis: bool | None, audio: bool | None) -> None:
     """Build PROJECT.toml into score, MIDI and report files in the output folder."""
-    from .build import write_outputs
-    from .errors import OutputError
-    from .project import FORMATS, load_project
+    from .project import load_project
 
-    proj = load_project(project)
-    fmts = None
-    if formats is not None:
-        fmts = tuple(f.strip() for f in formats.split(",") if f.strip())
-        bad = [f for f in fmts if f not in FORMATS]
-        if bad or not fmts:
-            raise OutputError(f"format {bad[0] if bad else formats!r} is not known", where="--formats",
-                              accepted=", ".join(FORMATS))
-    click.echo(f"building {proj.title} ...", err=True)
-    result = write_outputs(proj, out_dir, fmts)
-    for p in result.files:
+    proj = _with_flags(load_project(project), parts, analysis, audio)
+    fmts = _formats(formats)
+    _build_one(proj, out_dir, fmts, label=proj.title)
+
+
+def _formats(formats: str | None) -> tuple[str, ...] | None:
+    from .errors import OutputError
+    from .project import FORMATS
+
+    if formats is None:
+        return None
+    fmts = tuple(f.strip() for f in formats.split(",") if f.strip())
+    bad = [f for f in fmts if f not in FORMATS]
+    if bad or not fmts:
+        raise OutputError(f"format {bad[0] if bad else formats!r} is not known", where="--formats",
+                          accepted=", ".join(FORMATS))
+    return fmts
+
+
+def _with_flags(proj: Any, parts: bool | None, analysis: bool | None, audio: bool | None) -> Any:
+    from dataclasses import replace
+
+    out = proj.output
+    changes = {k: v for k, v in (("parts", parts), ("analysis", analysis), ("audio", audio))
+               if v is not None}
+    return replace(proj, output=replace(out, **changes)) if changes else proj
+
+
+def _build_one(proj: Any, out_dir: Path, fmts: tuple[str, ...] | None, *, label: str) -> None:
+    """Run the pipeline and the writers, saying on stderr what is being done."""
+    from .build import render_outputs, run_pipeline
+    from .writers.files import write_batch
+
+    err = sys.stderr.isatty()
+    click.echo(f"{label}: voicing ...", err=True, nl=not err)
+    voiced = run_pipeline(proj)
+    click.echo(("\r" if err else "") + f"{label}: writing ...", err=True, nl=not err)
+    notes: list[str] = []
+    files = render_outputs(proj, voiced, fmts or proj.output.formats, notes)
+    paths = write_batch(out_dir, files)
+    click.echo(("\r" if err else "") + f"{label}: {len(paths)} files" + " " * 8, err=True)
+    for p in paths:
         click.echo(str(p))
-    n = len(result.voiced.findings) + len(result.voiced.harmonized.warnings)
+    for note in notes:
+        click.echo(f"arrange: {note}", err=True)
+    n = len(voiced.findings) + len(voiced.harmonized.warnings)
     if n:
-        click.echo(f"{n} warning{'s' if n != 1 else ''}: see the report", err=True)
+        click.echo(f"{label}: {n} warning{'s' if n != 1 else ''}: see the report", err=True)
 
 
 def demo_dir() -> Path:
@@ -172,19 +209,18 @@ def demo_dir() -> Path:
 @main.command()
 @click.option("-o", "--out", "out_dir", default="out", show_default=True,
               type=click.Path(file_okay=False, path_type=Path), help="Output folder.")
+@click.option("--parts/--no-parts", default=None, help="Also write one MusicXML file per part.")
+@click.option("--analysis/--no-analysis", default=None, help="Analysis labels on the scores.")
+@click.option("--audio/--no-audio", default=None, help="Also render WAVs (when fluidsynth is installed).")
 @guarded
-def demo(out_dir: Path) -> None:
+def demo(out_dir: Path, parts: bool | None, analysis: bool | None, audio: bool | None) -> None:
     """Build every bundled demo project into the output folder."""
-    from .build import write_outputs
     from .project import load_project
 
     projects = sorted(demo_dir().glob("*.toml"))
     for i, path in enumerate(projects, start=1):
-        click.echo(f"[{i}/{len(projects)}] {path.name}", err=True)
-        proj = load_project(path)
-        result = write_outputs(proj, out_dir)
-        for p in result.files:
-            click.echo(str(p))
+        proj = _with_flags(load_project(path), parts, analysis, audio)
+        _build_one(proj, out_dir, None, label=f"[{i}/{len(projects)}] {path.stem}")
 
 
 @main.command()
@@ -255,6 +291,127 @@ def new(project: Path) -> None:
     write_batch(project.parent if str(project.parent) else Path("."),
                 {project.name: STARTER.format(name=project.name).encode("utf-8")})
     click.echo(str(project))
+
+
+class _Progress:
+    """A progress bar on stderr, shown once a search has run for a second."""
+
+    def __init__(self) -> None:
+        import time
+
+        self.clock = time.monotonic
+        self.t0 = self.clock()
+        self.shown = False
+        self.percent = -1
+
+    def __call__(self, done: int, total: int) -> None:
+        if not self.shown and self.clock() - self.t0 < 1.0:
+            return
+        percent = 100 * done // max(total, 1)
+        if self.shown and percent == self.percent:
+            return                           # redraw once per percent
+        self.shown, self.percent = True, percent
+        width = 30
+        filled = width * done // max(total, 1)
+        click.echo(f"\r[{'#' * filled}{'.' * (width - filled)}] {percent:3d}% "
+                   f"{done:,} of {total:,} motifs", err=True, nl=False)
+
+    def close(self) -> None:
+        if self.shown:
+            click.echo("", err=True)
+
+
+@main.command()
+@click.option("--length", "-n", required=True, type=int, help="Notes in the motif (2..8).")
+@click.option("--statements", "-k", default=4, show_default=True, type=int, help="Statements (1..64).")
+@click.option("--overlap", "-o", default=2, show_default=True, type=int, help="Notes shared by each link.")
+@click.option("--start", default=None, help="First note (default C4; a transition's first tonic).")
+@click.option("--max-step", default=None, type=int, help="Largest melodic step in semitones (default 12).")
+@click.option("--steps", default=None, help="Allowed step sizes, e.g. 1,2,5 (both ways) or +3,-4.")
+@click.option("--no-repeats", is_flag=True, help="No pitch class twice inside the motif.")
+@click.option("--transposition", default=None, type=int, help="Statement 3 lies T semitones from statement 1.")
+@click.option("--transposition-class", is_flag=True, help="Accept --transposition in any octave.")
+@click.option("--compass", default=None, type=int, help="Compass after two statements, semitones.")
+@click.option("--span", default=None, type=int, help="The whole chain within S semitones.")
+@click.option("--aggregate", is_flag=True, help="The chain completes all 12 pitch classes.")
+@click.option("--aggregate-within", default=None, type=int, help="... within its first M notes.")
+@click.option("--key", "key_text", default=None, help='Key for --diatonic / --chromatic-notes, e.g. "F major".')
+@click.option("--diatonic", is_flag=True, help="Every chain note in the key.")
+@click.option("--chromatic-notes", default=None, type=int, help="At most M chain notes outside the key.")
+@click.option("--from-key", default=None, help='A transition: the key the chain starts in.')
+@click.option("--to-key", default=None, help="... and the key its last statement reaches.")
+@click.option("--top", default=10, show_default=True, type=int, help="How many results to show (1..1000).")
+@click.option("--count", "count_only", is_flag=True, help="Only count the motifs that meet the constraints.")
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object.")
+@click.option("--force", is_flag=True, help="Search a space of more than 10^9 motifs.")
+@click.option("--write-project", default=None, type=click.Path(dir_okay=False, path_type=Path),
+              help="Write a starter project around the best result (never over a file).")
+@guarded
+def design(length: int, statements: int, overlap: int, start: str | None, max_step: int | None,
+           steps: str | None, no_repeats: bool, transposition: int | None, transposition_class: bool,
+           compass: int | None, span: int | None, aggregate: bool, aggregate_within: int | None,
+           key_text: str | None, diatonic: bool, chromatic_notes: int | None, from_key: str | None,
+           to_key: str | None, top: int, count_only: bool, as_json: bool, force: bool,
+           write_project: Path | None) -> None:
+    """Search every motif of --length notes for RI chains with the properties asked."""
+    from .design_spec import make_spec, parse_steps
+    from .errors import DesignError, OutputError
+    from .harmony import parse_key
+    from .pitch import parse_pitch
+
+    if not 1 <= top <= 1000:
+        raise DesignError(f"--top {top} is out of range", where="--top", accepted="1..1000")
+    if write_project is not None and count_only:
+        raise DesignError("--write-project with --count", where="--write-project/--count",
+                          accepted="one of the two (--count ranks nothing)")
+    if write_project is not None and write_project.exists():
+        raise OutputError(f"{str(write_project)!r} already exists", where="--write-project",
+                          accepted="a new file name")
+    spec = make_spec(
+        length, statements=statements, overlap=overlap,
+        start=parse_pitch(start, where="--start") if start is not None else None,
+        max_step=max_step, steps=parse_steps(steps) if steps is not None else None,
+        no_repeats=no_repeats, transposition=transposition, transposition_class=transposition_class,
+        compass=compass, span=span, aggregate=aggregate, aggregate_within=aggregate_within,
+        key=parse_key(key_text, where="--key") if key_text is not None else None,
+        diatonic=diatonic, chromatic_notes=chromatic_notes,
+        from_key=parse_key(from_key, where="--from-key") if from_key is not None else None,
+        to_key=parse_key(to_key, where="--to-key") if to_key is not None else None)
+    from .design import check_space, search
+
+    total = check_space(spec, force)
+    click.echo(f"searching {total:,} motifs ({len(spec.steps)} allowed steps ^ {length - 1}) ...", err=True)
+    bar = _Progress()
+    try:
+        found = search(spec, top, count_only=count_only, progress=bar)
+    finally:
+        bar.close()
+    for note in found.relaxed:
+        click.echo(f"arrange: relaxed {note}", err=True)
+    if write_project is not None:
+        from .design_project import project_text
+        from .writers.files import write_batch
+
+        if not found.results:
+            raise DesignError("no motif meets the constraints, so there is no project to write",
+                              where="--write-project", accepted="looser constraints")
+        best = found.results[0]
+        write_batch(write_project.parent if str(write_project.parent) else Path("."),
+                    {write_project.name: project_text(spec, best.chain, best.why).encode("utf-8")})
+        click.echo(f"wrote {write_project}", err=True)
+    if as_json:
+        click.echo(json.dumps(found.to_json()))
+        return
+    if count_only:
+        click.echo(str(found.count))
+        return
+    click.echo(f"{found.count:,} of {found.searched:,} motifs meet the constraints")
+    for i, f in enumerate(found.results, start=1):
+        c = f.chain
+        click.echo(f"{i:>3}. {f.score:.4f}  {' '.join(c.names[:length]):<32} T {c.transposition:+d}  "
+                   f"compass {c.compass_after_two:+d}  span {c.span[1] - c.span[0]}")
+        click.echo(f"     line  {' '.join(c.names)}")
+        click.echo(f"     why   {f.why}")
 
 
 if __name__ == "__main__":

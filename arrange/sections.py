@@ -16,7 +16,7 @@ from .pitch import parse_pitch, pitch_name
 from .tables import Table
 
 __all__ = ["Instrument", "Part", "Section", "data_dir", "instruments", "sections", "get_section",
-           "section_from_table", "MAX_PARTS"]
+           "section_from_table", "read_rules", "describe_range", "MAX_PARTS"]
 
 MAX_PARTS = 16
 
@@ -32,7 +32,7 @@ class Instrument:
     interval: str
     program: int                   # General MIDI, 1-based
     sound: str                     # MusicXML instrument sound id
-    clef: str                      # treble | bass | alto | treble8vb
+    clef: str                      # treble | bass | alto | tenor | treble8vb
 
 
 @dataclass(frozen=True, slots=True)
@@ -65,6 +65,11 @@ def data_dir() -> Path:
     return _find("voicing_rules")
 
 
+def read_rules(name: str) -> dict[str, Any]:
+    """One TOML file of ``voicing_rules/`` as a dict (no caching)."""
+    return _read(name)
+
+
 def _read(name: str) -> dict[str, Any]:
     path = data_dir() / name
     with path.open("rb") as fh:
@@ -82,7 +87,23 @@ def instruments() -> dict[str, Instrument]:
             extreme=(parse_pitch(d["extreme"][0], where=where), parse_pitch(d["extreme"][1], where=where)),
             transposition=int(d["transposition"]), interval=d["interval"],
             program=int(d["program"]), sound=d["sound"], clef=d["clef"])
+        _check_instrument(out[key], where)
     return out
+
+
+CLEFS = ("treble", "bass", "alto", "tenor", "treble8vb")
+
+
+def _check_instrument(inst: Instrument, where: str) -> None:
+    (plo, phi), (xlo, xhi) = inst.practical, inst.extreme
+    if not (xlo <= plo < phi <= xhi):
+        raise VoicingError(f"practical {inst.practical} and extreme {inst.extreme} ranges", where=where,
+                           accepted="LOW below HIGH, the practical range inside the extreme one")
+    if inst.clef not in CLEFS:
+        raise VoicingError(f"clef {inst.clef!r} is not known", where=where, accepted=", ".join(CLEFS))
+    if not 1 <= inst.program <= 128:
+        raise VoicingError(f"program {inst.program}", where=where,
+                           accepted="a General MIDI program 1..128")
 
 
 def _instrument(name: object, where: str) -> Instrument:

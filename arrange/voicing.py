@@ -1,28 +1,40 @@
 """Voicing stage: a :class:`~arrange.harmony.Harmonized` in, a :class:`Voiced` out.
 
-Foundation version: 4-way close under the lead (the lead on top, the other
-three chord tones in the octave below it; a lead note outside the chord
-replaces the chord tone just under it), for four-part sections.
+1. The plan gives each note its voicing type: one type for the passage, or
+   ``auto`` (opening toward the climax and the end, bar by bar), overridden by
+   ``by_statement`` and then ``by_bar``.
+2. For each note, :func:`arrange.shapes.shapes` builds the candidate voicings
+   (the lead on top, exactly as placed); :mod:`arrange.rules` scores every
+   candidate with the weighted rule penalties (numpy, all candidates at once).
+3. :func:`solve` picks one candidate per note by dynamic programming over the
+   whole line, minimising lower-voice motion plus penalties; the cost of one
+   step is an ``(a, b)`` numpy array, so the work is linear in the notes.
+4. The chosen voicings' rule marks become the findings of the report.
 """
 from __future__ import annotations
 
 from dataclasses import dataclass
+from fractions import Fraction
 
-from .chords import Chord
+import numpy as np
+
+from . import rules
 from .errors import VoicingError
 from .harmony import Event, Harmonized
 from .pitch import pitch_name
 from .sections import Section
+from .shapes import VOICINGS, recipes, shapes
 from .tables import Table
 
-__all__ = ["Finding", "VoicedEvent", "Voiced", "VoicingOptions", "read_options", "voice", "VOICINGS"]
+__all__ = ["Finding", "VoicedEvent", "Voiced", "VoicingOptions", "read_options", "voice", "VOICINGS",
+           "PLANS", "plan", "candidates", "solve", "path_cost"]
 
-VOICINGS = ("close",)
+PLANS = VOICINGS + ("auto",)
 
 
 @dataclass(frozen=True, slots=True)
 class Finding:
-    kind: str                 # e.g. "range", "low-interval", "harmony"
+    kind: str                 # one of rules.KINDS
     event: int | None         # 0-based event index
     part: str | None          # part name
     message: str
@@ -46,46 +58,170 @@ class Voiced:
 
 @dataclass(frozen=True, slots=True)
 class VoicingOptions:
-    voicing: str = "close"
+    voicing: str = "close"                                   # a type or "auto"
+    by_statement: tuple[tuple[int, str], ...] = ()
+    by_bar: tuple[tuple[int, int, str], ...] = ()            # (first bar, last bar, type)
+    allow_extreme: bool = False
+
+
+def _plan_table(table: Table, key: str) -> dict[str, str]:
+    raw = table.raw(key, {})
+    if not isinstance(raw, dict):
+        raise table.error(key, f"{raw!r}", "a table such as { 4 = \"spread\" }")
+    for k, v in raw.items():
+        if v not in VOICINGS:
+            raise table.error(key, f"voicing {v!r} for {k!r} is not known", ", ".join(VOICINGS))
+    return raw
 
 
 def read_options(table: Table) -> VoicingOptions:
-    voicing = table.string("voicing", "close", choices=VOICINGS)
-    return VoicingOptions(voicing)
+    """The voicing keys of ``[section]``: voicing, by_statement, by_bar, allow_extreme."""
+    voicing = table.string("voicing", "close", choices=PLANS)
+    by_statement = []
+    for k, v in _plan_table(table, "by_statement").items():
+        if not k.isdigit() or int(k) < 1:
+            raise table.error("by_statement", f"statement {k!r}", "statement numbers 1, 2, ...")
+        by_statement.append((int(k), v))
+    by_bar = []
+    for k, v in _plan_table(table, "by_bar").items():
+        lo, _, hi = k.partition("-")
+        if not lo.strip().isdigit() or not (hi.strip().isdigit() or not hi) or int(lo) < 1 \
+                or (hi and int(hi) < int(lo)):
+            raise table.error("by_bar", f"bar range {k!r}", "a bar \"9\" or a range \"9-12\"")
+        by_bar.append((int(lo), int(hi) if hi else int(lo), v))
+    allow = table.boolean("allow_extreme", False)
+    return VoicingOptions(voicing, tuple(sorted(by_statement)), tuple(sorted(by_bar)), allow)
 
 
-def _four_note(chord: Chord) -> list[int]:
-    pcs = list(dict.fromkeys(chord.pitch_classes))
-    if len(pcs) == 3:
-        # a triad: add the sixth (major) or seventh (others), as 4-way practice does
-        pcs.append((chord.root + (9 if chord.quality == "" else 10)) % 12)
-    return pcs[:4]
+def _bar(ev: Event, bar_len: Fraction) -> int:
+    return int(ev.note.onset // bar_len) + 1
 
 
-def close_voicing(lead: int, chord: Chord) -> tuple[int, ...]:
-    pcs = _four_note(chord)
-    lead_pc = lead % 12
-    if lead_pc not in pcs:
-        below = min(pcs, key=lambda pc: (lead_pc - pc) % 12)
-        pcs = [lead_pc if pc == below else pc for pc in pcs]
-    others = sorted((pc for pc in pcs if pc != lead_pc), key=lambda pc: (lead_pc - pc) % 12)
-    return (lead,) + tuple(lead - ((lead_pc - pc) % 12 or 12) for pc in others)
+def plan(harmonized: Harmonized, options: VoicingOptions) -> tuple[str, ...]:
+    """The voicing type of every note."""
+    events = harmonized.events
+    bar_len = harmonized.line.meter.bar
+    bars = [_bar(ev, bar_len) for ev in events]
+    if options.voicing == "auto" and events:
+        rec = recipes()
+        last = max(bars)
+        leads = [ev.note.pitch for ev in events]
+        climax = bars[leads.index(max(leads))]
+        reach = max(1.0, rec.auto_reach * last)
+        types = {}
+        for b in set(bars):
+            openness = max(1 - abs(b - climax) / reach, 1 - (last - b) / reach, 0.0)
+            types[b] = [v for o, v in rec.auto_steps if openness >= o][-1]
+        chosen = [types[b] for b in bars]
+    else:
+        chosen = [options.voicing] * len(events)
+    statements = dict(options.by_statement)
+    for i, ev in enumerate(events):
+        chosen[i] = statements.get(ev.note.statement, chosen[i])
+        for lo, hi, v in options.by_bar:
+            if lo <= bars[i] <= hi:
+                chosen[i] = v
+    return tuple(chosen)
+
+
+def candidates(ev: Event, vtype: str, section: Section, weights: dict[str, float],
+               cache: dict[tuple[object, ...], tuple[np.ndarray, np.ndarray]]) -> tuple[np.ndarray, np.ndarray]:
+    """Candidate voicings ``(k, n)`` of one note and their costs ``(k,)``, best kept."""
+    key = (ev.note.pitch, ev.chord, vtype)
+    hit = cache.get(key)
+    if hit is not None:
+        return hit
+    n = len(section.parts)
+    floor = min(p.instrument.extreme[0] for p in section.parts)
+    found = shapes(ev.note.pitch, ev.chord, vtype, n, floor)
+    P = np.array([s for s, _c in found], dtype=np.int64)
+    base = np.array([c for _s, c in found], dtype=float)
+    ctx = rules.context([ev.chord] * len(P), [vtype] * len(P))
+    cost = base + rules.penalties(rules.masks(P, ctx, section), weights)
+    keep = np.argsort(cost, kind="stable")[:recipes().max_candidates]
+    cache[key] = (P[keep], cost[keep])
+    return cache[key]
+
+
+def solve(cands: list[np.ndarray], costs: list[np.ndarray], motion: float) -> tuple[list[int], float]:
+    """Dynamic programme: one candidate per note minimising costs plus motion of
+    the lower voices (every voice but the lead), summed in semitones."""
+    total = costs[0].astype(float)
+    back: list[np.ndarray] = []
+    steps: dict[tuple[int, int], np.ndarray] = {}
+    for i in range(1, len(cands)):
+        a, b = cands[i - 1], cands[i]
+        key = (id(a), id(b))
+        step = steps.get(key)
+        if step is None:
+            step = motion * np.abs(a[:, None, 1:] - b[None, :, 1:]).sum(axis=2)
+            if len(steps) < 2048:      # repeated steps (same notes, same chords) cost nothing
+                steps[key] = step
+        whole = total[:, None] + step
+        arg = whole.argmin(axis=0)
+        back.append(arg)
+        total = whole[arg, np.arange(len(b))] + costs[i]
+    j = int(total.argmin())
+    best = float(total[j])
+    path = [j]
+    for arg in reversed(back):
+        j = int(arg[j])
+        path.append(j)
+    return path[::-1], best
+
+
+def path_cost(cands: list[np.ndarray], costs: list[np.ndarray], path: list[int], motion: float) -> float:
+    """The cost :func:`solve` minimises, for one given choice (plain Python)."""
+    total = float(costs[0][path[0]])
+    for i in range(1, len(path)):
+        prev, cur = cands[i - 1][path[i - 1]], cands[i][path[i]]
+        total += float(costs[i][path[i]])
+        total += motion * sum(abs(int(x) - int(y)) for x, y in zip(prev[1:], cur[1:], strict=True))
+    return total
+
+
+def _check_lead(harmonized: Harmonized, section: Section, options: VoicingOptions) -> None:
+    lead = section.lead
+    lo, hi = lead.instrument.extreme
+    bar_len = harmonized.line.meter.bar
+    for i, ev in enumerate(harmonized.events):
+        p = ev.note.pitch
+        if not lo <= p <= hi and not options.allow_extreme:
+            plo, phi = lead.instrument.practical
+            raise VoicingError(
+                f"the lead {lead.name} ({lead.instrument.name}) cannot play {pitch_name(p)}, note "
+                f"{i + 1} of the chain (bar {_bar(ev, bar_len)}), even after octave placement: its "
+                f"extreme range is {pitch_name(lo)}-{pitch_name(hi)}", where="[section]",
+                accepted=f"a [chain] lead_range inside {pitch_name(plo)}-{pitch_name(phi)} (or none: "
+                "the lead's practical range is the default), a section whose lead plays the line, "
+                "or allow_extreme = true")
 
 
 def voice(harmonized: Harmonized, section: Section, options: VoicingOptions) -> Voiced:
-    n = len(section.parts)
-    if n != 4:
-        raise VoicingError(f"section {section.name!r} has {n} parts", where="[section]",
-                           accepted="a four-part section for now (trumpets-4, trombones-4)")
-    events = []
-    findings = []
-    for i, ev in enumerate(harmonized.events):
-        pitches = close_voicing(ev.note.pitch, ev.chord)
-        events.append(VoicedEvent(ev, options.voicing, pitches))
-        for part, p in zip(section.parts, pitches, strict=False):
-            lo, hi = part.instrument.practical
-            if not lo <= p <= hi:
-                findings.append(Finding("range", i, part.name,
-                                        f"{pitch_name(p)} lies outside the practical range "
-                                        f"{pitch_name(lo)}-{pitch_name(hi)} of {part.name}"))
-    return Voiced(harmonized, section, tuple(events), tuple(findings))
+    events = harmonized.events
+    if not events:
+        return Voiced(harmonized, section, (), ())
+    _check_lead(harmonized, section, options)
+    statements = {ev.note.statement for ev in events}
+    for s, _v in options.by_statement:
+        if s not in statements:
+            raise VoicingError(f"by_statement names statement {s}", where="[section] by_statement",
+                               accepted=f"statements 1..{max(statements)} of this chain")
+    types = plan(harmonized, options)
+    weights = {k: recipes().weight(k) for k in ("motion",) + rules.KINDS}
+    cache: dict[tuple[object, ...], tuple[np.ndarray, np.ndarray]] = {}
+    cands, costs = [], []
+    for ev, vtype in zip(events, types, strict=True):
+        P, c = candidates(ev, vtype, section, weights, cache)
+        cands.append(P)
+        costs.append(c)
+    path, _ = solve(cands, costs, weights["motion"])
+    chosen = np.stack([cands[i][j] for i, j in enumerate(path)])
+    bar_len = harmonized.line.meter.bar
+    bars = [_bar(ev, bar_len) for ev in events]
+    ctx = rules.context([ev.chord for ev in events], types)
+    found = rules.findings(chosen, ctx, section, bars=bars, allow_extreme=options.allow_extreme,
+                           vtypes=types)
+    voiced = tuple(VoicedEvent(ev, vtype, tuple(int(p) for p in row))
+                   for ev, vtype, row in zip(events, types, chosen, strict=True))
+    return Voiced(harmonized, section, voiced, tuple(Finding(*f) for f in found))

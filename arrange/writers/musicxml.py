@@ -14,8 +14,9 @@ from ..chords import Chord, parse_chord
 from ..notation import pieces
 from ..spelling import direction_of, m21_name, spell_pitch
 from ..voicing import Voiced
+from . import marks
 
-__all__ = ["ScoreInfo", "musicxml_bytes", "m21_figure", "chord_symbol"]
+__all__ = ["ScoreInfo", "musicxml_bytes", "part_bytes", "m21_figure", "chord_symbol", "swing_ratio"]
 
 _INTERVALS = {"unison": "P1", "major second": "M2", "minor third": "m3", "perfect fourth": "P4",
               "perfect fifth": "P5", "major sixth": "M6", "octave": "P8", "major ninth": "M9",
@@ -29,6 +30,11 @@ class ScoreInfo:
     title: str
     tempo: float
     style: str          # the style word printed with the metronome mark
+    dynamics: tuple[str, ...] = ("mf",)   # one per statement; the last holds for the rest
+    analysis: bool = False                # statement labels and approach techniques
+    concert: bool = False                 # concert score instead of a transposed one
+    only_part: int | None = None          # build the single part k (for --parts)
+    version: str = ""
 
 
 _M21_CORE = {(0, 4, 7): "", (0, 3, 7): "m", (0, 3, 6): "dim", (0, 4, 8): "+", (0, 2, 7): "sus2",
@@ -71,13 +77,23 @@ def chord_symbol(chord: Chord):  # noqa: ANN201
     return cs
 
 
-def _instrument(part, index: int):  # noqa: ANN001
+def part_abbreviation(part) -> str:  # noqa: ANN001
+    """'Tpt. 2' for 'Trumpet 2': a numbered part name keeps its number in the
+    abbreviation, as score margins show it (common practice)."""
+    words = part.name.split()
+    abbr = part.abbreviation
+    if len(words) > 1 and words[-1].isdigit() and not abbr.rstrip().endswith(words[-1]):
+        return f"{abbr} {words[-1]}"
+    return abbr
+
+
+def _instrument(part, index: int, concert: bool = False):  # noqa: ANN001
     from music21 import instrument, interval
 
     inst = instrument.Instrument()
     spec = part.instrument
     inst.partName = part.name
-    inst.partAbbreviation = part.abbreviation
+    inst.partAbbreviation = part_abbreviation(part)
     inst.instrumentName = spec.name
     inst.instrumentAbbreviation = spec.abbreviation
     inst.instrumentSound = spec.sound
@@ -85,7 +101,7 @@ def _instrument(part, index: int):  # noqa: ANN001
     inst.midiChannel = index if index < 9 else index + 1
     inst.partId = f"P{index + 1}"
     inst.instrumentId = f"P{index + 1}-I1"
-    if spec.transposition:
+    if spec.transposition and not concert:
         name = _INTERVALS[spec.interval]
         # music21's transposition: written -> sounding, so the interval goes down
         ivl = interval.Interval(name)
@@ -103,8 +119,6 @@ def _clef(name: str):  # noqa: ANN202
 def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
     from music21 import (
         bar,
-        dynamics,
-        expressions,
         key,
         metadata,
         meter,  # noqa: F401
@@ -115,73 +129,94 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
 
     line = voiced.harmonized.line
     bar_len = line.meter.bar
-    n_measures = line.bars
+    n_measures = line.measures
+    shift = 1 if line.pickup else 0
     hkey = voiced.harmonized.key
     score = stream.Score(id="score")
     score.atSoundingPitch = True
     score.metadata = metadata.Metadata()
     score.metadata.title = info.title
     score.metadata.movementTitle = info.title
-    statement_starts = {st.start: st for st in line.chain.statements}
     for k, part in enumerate(voiced.section.parts):
+        if info.only_part is not None and k != info.only_part:
+            continue
+        lead = k == (info.only_part or 0)     # this staff carries tempo, marks and symbols
         p = stream.Part(id=f"P{k + 1}")
         p.atSoundingPitch = True
         p.partName = part.name
-        p.partAbbreviation = part.abbreviation
+        p.partAbbreviation = part_abbreviation(part)
         measures = []
         for m_i in range(n_measures):
-            m = stream.Measure(number=m_i + 1)
+            m = stream.Measure(number=m_i + 1 - shift)
+            if shift and m_i == 0:          # the pickup: measure 0, implicit (MusicXML 4.0)
+                m.showNumber = stream.enums.ShowNumber.NEVER
+                m.paddingLeft = float(bar_len - line.pickup)
             if m_i == 0:
-                m.insert(0, _instrument(part, k))
+                m.insert(0, _instrument(part, k, info.concert))
                 m.insert(0, _clef(part.instrument.clef))
                 m.insert(0, key.Key(m21_name(hkey.tonic_name), hkey.signature_mode))
                 m.insert(0, meter.TimeSignature(str(line.meter)))
-                m.insert(0, dynamics.Dynamic("mf"))
-                if k == 0:
-                    m.insert(0, tempo.MetronomeMark(text=info.style, number=info.tempo,
-                                                    referent=note.Note(type="quarter")))
-                    m.insert(0, expressions.TextExpression("Transposed score"))
-            elif voiced.harmonized.key_at(m_i + 1) != voiced.harmonized.key_at(m_i):
-                kc = voiced.harmonized.key_at(m_i + 1)   # a key change by bar
+                if lead:
+                    beat = note.Note(type="quarter")
+                    if line.tempo_scale != 1:      # a shuffle written in 12/8: the dotted quarter
+                        beat.duration.dots = 1
+                    m.insert(0, marks.style_word(info.style))
+                    m.insert(0, tempo.MetronomeMark(number=info.tempo, referent=beat))
+            elif voiced.harmonized.key_at(m_i + 1 - shift) != voiced.harmonized.key_at(m_i - shift):
+                kc = voiced.harmonized.key_at(m_i + 1 - shift)   # a key change by bar
                 m.insert(0, key.Key(m21_name(kc.tonic_name), kc.signature_mode))
             measures.append(m)
         prev_chord = None
         part_pitches = [ve.pitches[k] for ve in voiced.events]
         shown: dict[tuple[int, str, int], int] = {}     # accidentals in force per measure
+        respell = bool(part.instrument.transposition) and not info.concert
         for i, ve in enumerate(voiced.events):
             n = ve.event.note
-            if k == 0:
-                m_i = int(n.onset // bar_len)
-                off = n.onset - m_i * bar_len
+            cut = pieces(n.onset, n.duration, line.meter, pickup=line.pickup)
+            if lead:
+                m_i, off = cut[0].measure, cut[0].offset
                 if ve.event.chord.symbol != prev_chord:
-                    measures[m_i].insert(float(off), chord_symbol(ve.event.chord))
+                    measures[m_i].insert(_offset(off), chord_symbol(ve.event.chord))
                     prev_chord = ve.event.chord.symbol
-                if i in statement_starts:
-                    st = statement_starts[i]
-                    measures[m_i].insert(float(off), expressions.RehearsalMark(chr(64 + st.index)
-                                         if st.index <= 26 else str(st.index)))
             way = direction_of(part_pitches[i - 1] if i else None, ve.pitches[k],
                                part_pitches[i + 1] if i + 1 < len(part_pitches) else None)
-            name = m21_name(spell_pitch(ve.pitches[k], voiced.harmonized.key_at(int(n.onset // bar_len) + 1),
-                                        ve.event.chord, way))
-            for pc in pieces(n.onset, n.duration, bar_len):
+            bar_key = voiced.harmonized.key_at(int(n.onset // bar_len) + 1)
+            name = m21_name(spell_pitch(ve.pitches[k], bar_key, ve.event.chord, way))
+            for j, pc in enumerate(cut):
                 nt = note.Note(name)
-                nt.duration.quarterLength = pc.duration
+                nt.duration = _duration(pc.duration)
                 if pc.tie_start and pc.tie_stop:
                     nt.tie = _tie("continue")
                 elif pc.tie_start:
                     nt.tie = _tie("start")
                 elif pc.tie_stop:
                     nt.tie = _tie("stop")
-                if not part.instrument.transposition:   # transposing parts: music21 respells
-                    _accidental(nt, pc, shown, voiced.harmonized.key_at(pc.measure + 1))
-                measures[pc.measure].insert(float(pc.offset), nt)
-        for m in measures:
-            _fill_rests(m, bar_len)
+                if j == 0 and n.articulation:
+                    nt.articulations.append(_articulation(n.articulation))
+                if not respell:     # transposing parts in written pitch: music21 respells them
+                    _accidental(nt, pc, shown, voiced.harmonized.key_at(pc.measure + 1 - shift))
+                measures[pc.measure].insert(_offset(pc.offset), nt)
+        marks.add_dynamics(measures, voiced, info.dynamics)
+        if lead:
+            marks.add_rehearsal(measures, voiced)
+        if lead and info.analysis:
+            marks.add_analysis(measures, voiced)
+        if lead and info.only_part is None:
+            marks.concert_symbols(measures)
+        for m_i, m in enumerate(measures):
+            m_start = -line.pickup if shift and m_i == 0 else (m_i - shift) * bar_len
+            m_len = line.pickup if shift and m_i == 0 else bar_len
+            _fill_rests(m, m_len, line.meter, m_start, line.pickup)
+            _tuplet_brackets(m)
         measures[-1].rightBarline = bar.Barline("final")
         for m in measures:
             p.append(m)
         score.insert(0, p)
+    if info.only_part is None:
+        marks.add_part_groups(score, voiced.section)
+        marks.page_credits(score, info.title, info.concert)
+    else:
+        marks.page_credits(score, info.title, info.concert, voiced.section.parts[info.only_part].name)
     return score
 
 
@@ -211,7 +246,48 @@ def _tie(kind: str):  # noqa: ANN202
     return tie.Tie(kind)
 
 
-def _fill_rests(m, bar_len: Fraction) -> None:  # noqa: ANN001
+def _offset(q: Fraction) -> float | Fraction:
+    """music21 keeps triplet offsets exact only as Fractions."""
+    return q if q.denominator % 3 == 0 else float(q)
+
+
+def _duration(q: Fraction):  # noqa: ANN202
+    from music21 import duration
+
+    return duration.Duration(q)
+
+
+def _articulation(name: str):  # noqa: ANN202
+    from music21 import articulations
+
+    return {"accent": articulations.Accent, "staccato": articulations.Staccato,
+            "tenuto": articulations.Tenuto}[name]()
+
+
+def _tuplet_brackets(m) -> None:  # noqa: ANN001
+    """Bracket each run of triplets that fills a beat division (tuplet start/stop)."""
+    run: list = []
+    total = Fraction(0)
+    for n in m.notesAndRests:
+        tup = n.duration.tuplets
+        if not tup:
+            run, total = [], Fraction(0)
+            continue
+        run.append(n)
+        total += Fraction(n.quarterLength).limit_denominator(96) * 3 / 2
+        if total.denominator == 1 and total in (1, 2):    # a full triplet group: 3 in the time of 2
+            if len(run) == 1:
+                run[0].duration.tuplets[0].type = "startStop"
+            else:
+                run[0].duration.tuplets[0].type = "start"
+                run[-1].duration.tuplets[0].type = "stop"
+            run, total = [], Fraction(0)
+
+
+def _fill_rests(m, bar_len: Fraction, meter=None, start: Fraction = Fraction(0),  # noqa: ANN001
+                pickup: Fraction = Fraction(0)) -> None:
+    """Rests in every gap of measure ``m`` (``bar_len`` long, starting at time
+    ``start``), cut by the notation rules for rests of the meter."""
     from music21 import note
 
     filled = sorted((Fraction(n.offset).limit_denominator(96), Fraction(n.quarterLength).limit_denominator(96))
@@ -225,10 +301,53 @@ def _fill_rests(m, bar_len: Fraction) -> None:  # noqa: ANN001
     if t < bar_len:
         gaps.append((t, bar_len - t))
     for off, dur in gaps:
-        for pc in pieces(off, dur, bar_len):
+        for pc in pieces(start + off, dur, meter or bar_len, pickup=pickup, rest=True):
             r = note.Rest()
-            r.duration.quarterLength = pc.duration
-            m.insert(float(pc.offset), r)
+            r.duration = _duration(pc.duration)
+            if pc.whole_bar:
+                r.fullMeasure = True
+            m.insert(_offset(pc.offset), r)
+
+
+def swing_ratio(line) -> tuple[int, int] | None:  # noqa: ANN001
+    """``(first, second)`` of the MusicXML 4.0 ``<swing>`` element for a swung
+    line written in straight eighths; None where playback is straight."""
+    if line.groove not in ("swing", "shuffle") or line.notate == "12/8":
+        return None
+    r = Fraction(line.swing).limit_denominator(100)
+    return r.numerator, r.denominator - r.numerator
+
+
+def _add_swing(data: bytes, ratio: tuple[int, int]) -> bytes:
+    """Put ``<swing>`` (MusicXML 4.0 playback; music21 cannot write it) into the
+    ``<sound>`` of the first part's opening tempo direction."""
+    import xml.etree.ElementTree as ET
+
+    at = data.index(b"<score-partwise")
+    head, body = data[:at], data[at:]
+    root = ET.fromstring(body)
+    part = root.find("part")
+    assert part is not None
+    measure = part.find("measure")
+    assert measure is not None
+    sound = next((s for s in measure.iter("sound") if "tempo" in s.attrib), None)
+    if sound is None:
+        direction = ET.Element("direction")
+        ET.SubElement(ET.SubElement(direction, "direction-type"), "words").text = "Swing"
+        sound = ET.SubElement(direction, "sound")
+        first_note = next((i for i, el in enumerate(measure) if el.tag == "note"), len(measure))
+        measure.insert(first_note, direction)
+    swing = ET.Element("swing")
+    ET.SubElement(swing, "first").text = str(ratio[0])
+    ET.SubElement(swing, "second").text = str(ratio[1])
+    ET.SubElement(swing, "swing-type").text = "eighth"
+    offset = sound.find("offset")      # <swing> comes before <offset> (XSD sequence)
+    if offset is not None:
+        sound.insert(list(sound).index(offset), swing)
+    else:
+        sound.append(swing)
+    ET.indent(root, space="  ")
+    return head + ET.tostring(root, encoding="utf-8", xml_declaration=False) + b"\n"
 
 
 def musicxml_bytes(voiced: Voiced, info: ScoreInfo) -> bytes:
@@ -238,5 +357,24 @@ def musicxml_bytes(voiced: Voiced, info: ScoreInfo) -> bytes:
     exporter = GeneralObjectExporter(score)
     exporter.makeNotation = False
     data: bytes = exporter.parse()
+    ratio = swing_ratio(voiced.harmonized.line)
+    if ratio is not None:
+        data = _add_swing(data, ratio)
     # the kind's text already prints the whole symbol (Cm9, not Cm7 add 9)
-    return data.replace(b"<degree>", b'<degree print-object="no">')
+    data = data.replace(b"<degree>", b'<degree print-object="no">')
+    return finish_xml(data, voiced, info)
+
+
+def finish_xml(data: bytes, voiced: Voiced, info: ScoreInfo) -> bytes:
+    """What music21 leaves out: sound ids, measure numbering, our credit line."""
+    from .xmlfinish import finish
+
+    return finish(data, voiced, info)
+
+
+def part_bytes(voiced: Voiced, info: ScoreInfo) -> dict[int, bytes]:
+    """One MusicXML file per part, in written pitch, each with its own marks."""
+    from dataclasses import replace
+
+    return {k: musicxml_bytes(voiced, replace(info, only_part=k, concert=False))
+            for k in range(len(voiced.section.parts))}

@@ -1,0 +1,230 @@
+"""Voicing shapes: the candidate voicings of one lead note over one chord.
+
+The recipes (four-note chord forms, tension substitutions, doublings, search
+limits, cost weights, the auto plan) come from ``voicing_rules/voicings.toml``.
+Every candidate holds the lead on top, exactly as placed, and one sounding pitch
+per part, top to bottom.  Shapes of common practice:
+
+* ``close``: the four-note form packed within the octave under the lead;
+  with five voices the lead doubled an octave below, further voices doubled
+  by the doubling rule below that;
+* ``drop2`` / ``drop3`` / ``drop2-4``: the close shape with the second, the
+  third, or the second and fourth voice from the top an octave lower;
+* ``spread``: the open drop 2-4 (or drop 2) shape above, the root (or, with four voices,
+  the root or a guide tone) at the bottom;
+* ``unison``: every part on the lead's pitch class, in unison or octaves.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import lru_cache
+from itertools import combinations, combinations_with_replacement
+
+from .chords import Chord
+from .errors import VoicingError
+from .sections import read_rules
+
+__all__ = ["VOICINGS", "Recipes", "recipes", "four_note_form", "chord_forms", "close_under",
+           "drop", "structures", "shapes", "fifth_pc"]
+
+VOICINGS = ("close", "drop2", "drop2-4", "drop3", "spread", "unison")
+CLOSED = ("close", "drop2", "drop2-4", "drop3")
+_ON = ("any", "dominant", "minor")
+
+
+@dataclass(frozen=True, slots=True)
+class Recipes:
+    forms: tuple[tuple[str, tuple[int, ...]], ...]
+    substitutions: tuple[tuple[int, int, str], ...]   # (tension, replaces, on)
+    doubling: tuple[tuple[str, float], ...]
+    max_candidates: int
+    extra_window: int
+    weights: tuple[tuple[str, float], ...]
+    auto_reach: float
+    auto_steps: tuple[tuple[float, str], ...]
+
+    def form(self, quality: str) -> tuple[int, ...] | None:
+        return dict(self.forms).get(quality)
+
+    def weight(self, name: str) -> float:
+        return dict(self.weights)[name]
+
+
+@lru_cache(maxsize=1)
+def recipes() -> Recipes:
+    where = "voicing_rules/voicings.toml"
+    d = read_rules("voicings.toml")
+    try:
+        forms = tuple((q, tuple(int(i) % 12 for i in iv)) for q, iv in d["forms"].items())
+        subs = tuple((int(s["tension"]) % 12, int(s["replaces"]) % 12, str(s["on"]))
+                     for s in d["substitutions"])
+        doubling = tuple((k, float(v)) for k, v in d["doubling"].items())
+        search = d["search"]
+        weights = tuple((k, float(v)) for k, v in d["weights"].items())
+        auto = d["auto"]
+        steps = tuple((float(a), str(b)) for a, b in auto["steps"])
+        rec = Recipes(forms, subs, doubling, int(search["max_candidates"]),
+                      int(search["extra_window"]), weights, float(auto["reach"]), steps)
+    except (KeyError, TypeError, ValueError) as err:
+        raise VoicingError(f"the recipe table is broken ({err!r})", where=where,
+                           accepted="tables forms, substitutions, doubling, search, weights, auto") from None
+    for q, iv in rec.forms:
+        if len(set(iv)) != 4:
+            raise VoicingError(f"form {q!r} = {list(iv)}", where=f"{where} [forms]",
+                               accepted="four different intervals above the root")
+    for _t, _r, on in rec.substitutions:
+        if on not in _ON:
+            raise VoicingError(f"on = {on!r}", where=f"{where} [[substitutions]]", accepted=", ".join(_ON))
+    bad = [v for _o, v in rec.auto_steps if v not in VOICINGS]
+    if bad or set(dict(rec.doubling)) - {"lead", "root", "fifth"}:
+        raise VoicingError(f"auto steps or doublings {bad or list(dict(rec.doubling))}", where=where,
+                           accepted="voicings " + ", ".join(VOICINGS) + "; doublings lead, root, fifth")
+    return rec
+
+
+def _is_minor(chord: Chord) -> bool:
+    return 3 in chord.intervals and 4 not in chord.intervals
+
+
+def fifth_pc(chord: Chord) -> int:
+    iv = {i % 12 for i in chord.intervals}
+    fifth = 7 if 7 in iv else 6 if 6 in iv else 8 if 8 in iv else 7
+    return (chord.root + fifth) % 12
+
+
+def four_note_form(chord: Chord, rec: Recipes) -> tuple[int, ...]:
+    """The chord's four-note form as intervals above the root."""
+    form = rec.form(chord.quality)
+    if form is not None:
+        return form
+    iv = list(dict.fromkeys(i % 12 for i in chord.intervals))
+    if len(iv) < 4:      # an unlisted triad: the sixth (major) or seventh (otherwise)
+        iv.append(9 if 4 in iv and 9 not in iv else 10 if 10 not in iv else 11)
+    for drop_first in (7, 0):   # more than four tones: leave out the fifth, then the root
+        if len(iv) > 4 and drop_first in iv:
+            iv.remove(drop_first)
+    return tuple(iv[:4])
+
+
+def chord_forms(chord: Chord, rec: Recipes) -> list[tuple[tuple[int, ...], float]]:
+    """The plain form and its tension substitutions, each with its cost."""
+    base = four_note_form(chord, rec)
+    avail = {t % 12 for t in chord.tensions} - set(base)
+    subs = [(t, r) for t, r, on in rec.substitutions
+            if t in avail and r in base and (on == "any" or (on == "dominant" and chord.is_dominant)
+                                             or (on == "minor" and _is_minor(chord)))]
+    cost = rec.weight("substitution")
+    out = [(base, 0.0)]
+    for k in (1, 2):
+        for combo in combinations(subs, k):
+            if len({r for _t, r in combo}) < k:
+                continue
+            rep = {r: t for t, r in combo}
+            form = tuple(rep.get(i, i) for i in base)
+            out.append((form, cost * k))
+    return out
+
+
+def _with_lead(pcs: tuple[int, ...], lead_pc: int, chord: Chord, rec: Recipes) -> tuple[int, ...]:
+    """Make the lead's pitch class one of the four: a tension takes the tone its
+    substitution names, any other note the chord tone just below it."""
+    if lead_pc in pcs:
+        return pcs
+    iv = (lead_pc - chord.root) % 12
+    for t, r, _on in rec.substitutions:
+        target = (chord.root + r) % 12
+        if t == iv and target in pcs:
+            return tuple(lead_pc if p == target else p for p in pcs)
+    below = min(pcs, key=lambda p: (lead_pc - p) % 12)
+    return tuple(lead_pc if p == below else p for p in pcs)
+
+
+def close_under(lead: int, pcs: tuple[int, ...]) -> tuple[int, ...]:
+    """The lead, then the other pitch classes packed in the octave below it."""
+    lead_pc = lead % 12
+    below = sorted({(lead_pc - p) % 12 for p in pcs if p != lead_pc})
+    return (lead,) + tuple(lead - d for d in below)
+
+
+def drop(close: tuple[int, ...], vtype: str) -> tuple[int, ...]:
+    """Drop voicings from a four-voice close shape (top to bottom)."""
+    dropped = {"close": (), "drop2": (1,), "drop3": (2,), "drop2-4": (1, 3), "spread": (1, 3)}[vtype]
+    moved = [p - 12 if i in dropped else p for i, p in enumerate(close)]
+    return tuple(sorted(moved, reverse=True))
+
+
+def structures(lead: int, chord: Chord, vtype: str, rec: Recipes) -> list[tuple[tuple[int, ...], float]]:
+    """Four-voice structures under ``lead`` (distinct, each with its cost)."""
+    out: dict[tuple[int, ...], float] = {}
+    for form, cost in chord_forms(chord, rec):
+        pcs = _with_lead(tuple((chord.root + i) % 12 for i in form), lead % 12, chord, rec)
+        if len(set(pcs)) < 4:
+            continue
+        shape = drop(close_under(lead, pcs), vtype)
+        out[shape] = min(cost, out.get(shape, cost))
+    return list(out.items())
+
+
+def _extras(top: tuple[int, ...], e: int, chord: Chord, vtype: str, rec: Recipes,
+            floor: int) -> list[tuple[tuple[int, ...], float]]:
+    """Choices of ``e`` doubling voices for the structure ``top`` (top to bottom).
+    They may fall between the structure's voices or below it; the result is the
+    whole voicing, sorted top to bottom, so no two parts cross."""
+    cost_of = {"lead": {top[0] % 12}, "root": {chord.root}, "fifth": {fifth_pc(chord)}}
+    pc_cost: dict[int, float] = {}
+    for name, c in rec.doubling:
+        for pc in cost_of[name]:
+            pc_cost[pc] = min(c, pc_cost.get(pc, c))
+    # five voices and up in close writing: the lead an octave below first (two
+    # octaves below, at a cost, where the part below cannot take it)
+    firsts: list[tuple[tuple[int, ...], float]] = [((), 0.0)]
+    if vtype == "close":
+        firsts = [((top[0] - 12,), 0.0), ((top[0] - 24,), rec.weight("lead-two-octaves"))]
+        e -= 1
+    out = []
+    for fixed, c0 in firsts:
+        taken = set(top + fixed)
+        low = max(min(top + fixed) - rec.extra_window, floor)
+        pool = [p for p in range(top[0] - 1, low - 1, -1) if p % 12 in pc_cost and p not in taken]
+        if e > 4 or len(pool) < e:
+            continue
+        for combo in combinations(pool, e):
+            voices = tuple(sorted(top + fixed + combo, reverse=True))
+            if vtype == "spread" and voices[-1] % 12 != chord.root:
+                continue
+            out.append((voices, c0 + sum(pc_cost[p % 12] for p in combo)))
+    fixed = firsts[0][0]
+    if not out:   # many voices: each further voice doubles the voice four above, an octave down
+        voices_l = list(top + fixed)
+        for _ in range(e):
+            voices_l.append(voices_l[-4] - 12)
+        out.append((tuple(sorted(voices_l, reverse=True)), 0.0))
+    return out
+
+
+@lru_cache(maxsize=4096)
+def shapes(lead: int, chord: Chord, vtype: str, n: int, floor: int) -> tuple[tuple[tuple[int, ...], float], ...]:
+    """All candidate voicings for ``n`` parts (top to bottom), each with its recipe cost.
+    ``floor`` is the lowest pitch any extra voice may take (the section's extreme low)."""
+    rec = recipes()
+    if vtype == "unison":
+        out = []
+        for ks in combinations_with_replacement(range(4), n - 1):
+            out.append(((lead,) + tuple(lead - 12 * k for k in ks), 0.0))
+        return tuple(out)
+    found = structures(lead, chord, vtype, rec)
+    if vtype == "spread":    # open above: the drop 2-4 shape, or drop 2 where that sits too low
+        found += structures(lead, chord, "drop2", rec)
+    if vtype == "spread" and n <= 4:
+        guides = {chord.root, (chord.root + 3) % 12, (chord.root + 4) % 12, (chord.root + 10) % 12,
+                  (chord.root + 11) % 12}
+        found = [(s, c) for s, c in found if s[-1] % 12 in guides] or found
+    result: dict[tuple[int, ...], float] = {}
+    for top, cost in found:
+        if n <= 4:
+            for keep in combinations(top[1:], n - 1):
+                result.setdefault((top[0],) + keep, cost)
+        else:
+            for v, c2 in _extras(top, n - 4, chord, vtype, rec, floor):
+                result[v] = min(cost + c2, result.get(v, cost + c2))
+    return tuple(result.items())

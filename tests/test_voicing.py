@@ -1,0 +1,154 @@
+"""Voicing types, the plan, and the voice-leading search.
+
+References: hand-worked voicings of common practice (4-way close, drop 2, drop 3,
+drop 2-4, tension substitutions); music21 ``harmony.ChordSymbol`` for the chord's
+pitch classes; brute-force enumeration for the dynamic programme.
+"""
+from __future__ import annotations
+
+import itertools
+import json
+from pathlib import Path
+
+import numpy as np
+import pytest
+from conftest import BASIC, run_cli, write_project
+
+from arrange.chords import parse_chord
+from arrange.shapes import close_under, drop, recipes, shapes, structures
+from arrange.voicing import path_cost, solve
+
+TYPES = ("close", "drop2", "drop2-4", "drop3", "spread", "unison")
+
+
+# hand-worked examples (common practice): C6 with A4 on top
+@pytest.mark.parametrize("vtype, expected", [
+    ("close", (69, 67, 64, 60)),      # A4 G4 E4 C4
+    ("drop2", (69, 64, 60, 55)),      # A4 E4 C4 G3: G4 an octave lower
+    ("drop3", (69, 67, 60, 52)),      # A4 G4 C4 E3: E4 an octave lower
+    ("drop2-4", (69, 64, 55, 48)),    # A4 E4 G3 C3: G4 and C4 an octave lower
+])
+def test_drop_shapes_hand_worked(vtype: str, expected: tuple[int, ...]) -> None:
+    close = close_under(69, (0, 4, 7, 9))
+    assert close == (69, 67, 64, 60)
+    assert drop(close, vtype) == expected
+
+
+# tension substitutions of common practice, hand-worked under the lead
+@pytest.mark.parametrize("symbol, lead, expected", [
+    ("Cmaj7", 74, (74, 71, 67, 64)),   # 9 for the root: D5 B4 G4 E4
+    ("G7", 76, (76, 71, 67, 65)),      # 13 for the fifth: E5 B4 G4 F4
+    ("Cm7", 77, (77, 72, 70, 67)),     # 11 for the third: F5 C5 Bb4 G4
+    ("C7", 70, (70, 67, 64, 60)),      # chord tones only: Bb4 G4 E4 C4
+])
+def test_substitutions_hand_worked(symbol: str, lead: int, expected: tuple[int, ...]) -> None:
+    found = [s for s, _c in structures(lead, parse_chord(symbol), "close", recipes())]
+    assert expected in found
+    assert all(s[0] == lead for s in found)
+
+
+def _build(tmp_path: Path, section: str, voicing: str, extra: str = "", lead_range: str = '["F4", "F5"]',
+           statements: int = 6) -> dict:
+    text = BASIC.replace('name = "trombones-4"', f'name = "{section}"') \
+                .replace('voicing = "close"', f'voicing = "{voicing}"\n{extra}') \
+                .replace("statements = 4", f"statements = {statements}\nlead_range = {lead_range}")
+    path = write_project(tmp_path, text, f"{section}-{voicing}.toml")
+    out = tmp_path / f"out-{section}-{voicing}"
+    r = run_cli("build", str(path), "-o", str(out), "--formats", "report")
+    assert r.exit_code == 0, r.output
+    return json.loads((out / "test-cue.report.json").read_text())
+
+
+@pytest.mark.parametrize("vtype", TYPES)
+def test_lead_on_top_and_exact(tmp_path: Path, vtype: str) -> None:
+    rep = _build(tmp_path, "saxes-5", vtype)
+    chain = rep["chain"]["pitches"]
+    assert [e["lead"] for e in rep["events"]] == chain         # the lead carries the chain as placed
+    for e in rep["events"]:
+        assert e["pitches"][0] == e["lead"] == max(e["pitches"])   # lead on top (common practice)
+        assert e["pitches"] == sorted(e["pitches"], reverse=True)  # no crossing by construction
+        assert e["voicing"] == vtype
+
+
+def test_four_voice_types_by_their_definitions(tmp_path: Path) -> None:
+    # common practice: close within an octave; drop 2 = close with voice 2 an octave lower;
+    # drop 3 likewise voice 3; drop 2-4 voices 2 and 4
+    for vtype, raised in (("close", ()), ("drop2", (3,)), ("drop3", (3,)), ("drop2-4", (2, 3))):
+        rep = _build(tmp_path, "trumpets-4", vtype)
+        for e in rep["events"]:
+            p = list(e["pitches"])
+            back = [q + 12 if i in raised else q for i, q in enumerate(p)]
+            close = sorted(back, reverse=True)
+            assert close[0] - close[-1] <= 12, (vtype, p)
+            where = {"close": [], "drop2": [1], "drop3": [2], "drop2-4": [1, 3]}[vtype]
+            assert [close.index(back[i]) for i in raised] == where, (vtype, p)
+
+
+def test_five_voice_close_doubles_the_lead(tmp_path: Path) -> None:
+    rep = _build(tmp_path, "saxes-5", "close")
+    for e in rep["events"]:
+        p = e["pitches"]
+        assert p[0] - p[3] <= 12                       # 4-way close under the lead
+        assert p[4] in (p[0] - 12, p[0] - 24)          # the fifth voice doubles the lead below
+
+
+def test_every_voice_is_chord_tone_or_tension(tmp_path: Path) -> None:
+    from music21 import harmony
+
+    from arrange.writers.musicxml import m21_figure
+
+    for section, vtype in (("saxes-5", "close"), ("brass-8", "spread"), ("strings-5", "drop2-4"),
+                           ("trumpets-4", "drop3"), ("brass-6", "drop2")):
+        rep = _build(tmp_path, section, vtype)
+        for e in rep["events"]:
+            chord = parse_chord(e["chord"])
+            pcs = set(harmony.ChordSymbol(m21_figure(e["chord"])).pitchClasses)   # music21 reference
+            allowed = pcs | {(chord.root + t) % 12 for t in chord.tensions}
+            for p in e["pitches"]:
+                if p % 12 != e["lead"] % 12:      # the lead (and its doubling) is the chain's own note
+                    assert p % 12 in allowed, (section, vtype, e["chord"], e["pitches"])
+
+
+def test_low_register_reports_low_interval_findings(tmp_path: Path) -> None:
+    low = _build(tmp_path, "trombones-4", "close", lead_range='["G2", "G3"]')
+    kinds = [w for w in low["warnings"] if w["kind"] == "low-interval"]
+    assert kinds and all(w["part"] and w["event"] is not None and "bar" in w["message"] for w in kinds)
+    kept = _build(tmp_path, "trumpets-4", "close", lead_range='["F4", "F5"]')
+    assert not [w for w in kept["warnings"] if w["kind"] == "low-interval"]
+
+
+def test_by_statement_and_by_bar_plan(tmp_path: Path) -> None:
+    rep = _build(tmp_path, "brass-6", "close", extra='by_statement = { 3 = "spread" }\nby_bar = { "1" = "drop2" }')
+    for e in rep["events"]:
+        bar = int(e["onset"] // 4) + 1
+        want = "drop2" if bar == 1 else "spread" if e["statement"] == 3 else "close"
+        assert e["voicing"] == want
+
+
+def test_auto_opens_toward_the_end(tmp_path: Path) -> None:
+    rep = _build(tmp_path, "saxes-5", "auto", statements=12)
+    ev = rep["events"]
+    openness = {"close": 0, "drop2": 1, "drop2-4": 2, "drop3": 1, "spread": 3}
+    assert ev[-1]["voicing"] != "close"                 # the end opens up
+    climax = max(range(len(ev)), key=lambda i: (ev[i]["lead"], -i))
+    assert ev[climax]["voicing"] != "close"             # so does the climax
+    assert "close" in {e["voicing"] for e in ev}        # and the rest stays close
+    assert openness[ev[-1]["voicing"]] >= openness[ev[0]["voicing"]]
+
+
+def test_dp_equals_brute_force_on_small_lines() -> None:
+    chords = [parse_chord(s) for s in ("F6", "Gm7", "C7", "Fmaj7", "Bb7")]
+    leads = [69, 70, 72, 69, 74]
+    rng = np.random.default_rng(7)
+    for trial in range(6):
+        vtype = ("close", "drop2", "spread")[trial % 3]
+        cands, costs = [], []
+        for ch, lead in zip(chords, leads, strict=True):
+            found = shapes(lead, ch, vtype, 6, 36)[:4]
+            cands.append(np.array([s for s, _c in found]))
+            costs.append(rng.uniform(0, 20, len(found)))
+        path, best = solve(cands, costs, 1.0)
+        brute = min(path_cost(cands, costs, list(p), 1.0)
+                    for p in itertools.product(*(range(len(c)) for c in cands)))
+        assert best == pytest.approx(brute)                       # brute-force minimum
+        assert path_cost(cands, costs, path, 1.0) == pytest.approx(best)
