@@ -223,11 +223,50 @@ def _bar_chords(options: HarmonyOptions, b: int, key: Key, where: str) -> list[t
     return out
 
 
+def _beats(meter) -> tuple[Fraction, ...]:  # noqa: ANN001
+    """Beat onsets inside a bar (the meter's own grouping where it has one)."""
+    beats = getattr(meter, "beats", None)
+    if beats:
+        return tuple(beats)
+    step = Fraction(4, meter.denominator)
+    return tuple(step * k for k in range(meter.numerator))
+
+
+def _strong_points(meter) -> set[Fraction]:  # noqa: ANN001
+    """The downbeat and the start of each large division (beat 3 of 4/4)."""
+    groups = getattr(meter, "groups", None)
+    if not groups:
+        return {Fraction(0)} | ({Fraction(2)} if str(meter) == "4/4" else set())
+    out, t = set(), Fraction(0)
+    for g in groups:
+        out.add(t)
+        t += sum(g, Fraction(0))
+    return out
+
+
+def split_bar(counts: list[int | None], n_beats: int) -> list[int] | None:
+    """Beats per chord: given counts stay, the others share the rest evenly, the
+    earlier chords taking the spare beats (3 chords in 4/4: 2 1 1, common practice
+    of lead sheets).  None where the chords cannot fill the bar in whole beats."""
+    given = sum(c for c in counts if c is not None)
+    free = sum(1 for c in counts if c is None)
+    left = n_beats - given
+    if left < 0 or (free and left < free) or (not free and left):
+        return None
+    out, k = [], 0
+    for c in counts:
+        if c is None:
+            out.append(left // free + (1 if k < left % free else 0))
+            k += 1
+        else:
+            out.append(c)
+    return out
+
+
 def build_framework(line: Line, key: Key, options: HarmonyOptions, where: str,
                     shifts: tuple[tuple[int, int], ...] = ()) -> tuple[FrameworkChord, ...]:
     meter = line.meter
-    beat = Fraction(4, meter.denominator)
-    beats = meter.numerator
+    beats = _beats(meter)
     out: list[FrameworkChord] = []
     for b in range(line.bars):
         bar_key = _key_at(key, options.keys, b + 1)
@@ -235,31 +274,30 @@ def build_framework(line: Line, key: Key, options: HarmonyOptions, where: str,
         shift = next((t for first, t in reversed(shifts) if first <= b + 1), 0)
         if shift and options.preset is None:
             chords = [(transpose_chord(c, shift, bar_key), n) for c, n in chords]
-        given = sum(n for _c, n in chords if n is not None)
-        free = [c for c, n in chords if n is None]
-        left = beats - given
-        written = " ".join(c.symbol + (f":{n}" if n else "") for c, n in chords)
+        counts = split_bar([n for _c, n in chords], len(beats))
         src = b % len(options.framework) + 1 if options.framework else b + 1
-        if left < 0 or (free and (left <= 0 or left % len(free))) or (not free and left):
+        if counts is None:
+            written = " ".join(c.symbol + (f":{n}" if n else "") for c, n in chords)
+            given = sum(n for _c, n in chords if n is not None)
             raise HarmonyError(
-                f"{written!r} does not divide into the meter {meter}: {given} of its {beats} beats "
-                f"are given and {len(free)} chord{'s' if len(free) != 1 else ''} share the other {left}",
-                where=f"{where} framework, bar {src}",
-                accepted=f"chords that fill {beats} beats in whole beats, e.g. 'Gm7:3 C7:1', "
-                         f"or 1, 2{', 4' if beats % 4 == 0 else ''} chords sharing the bar evenly"
-                         if beats % 2 == 0 else f"chords that fill {beats} beats in whole beats")
-        share = left // len(free) if free else 0
-        t = b * meter.bar
-        for c, n in chords:
-            dur = (n if n is not None else share) * beat
-            out.append(FrameworkChord(b + 1, t, dur, c))
-            t += dur
+                f"{written!r} does not divide into the meter {meter}: {len(chords)} chord"
+                f"{'s' if len(chords) != 1 else ''} with {given} beats given for a bar of "
+                f"{len(beats)} beats", where=f"{where} framework, bar {src}",
+                accepted=f"at most {len(beats)} chords whose beats fill the bar, e.g. "
+                         f"'Gm7:{len(beats) - 1} C7:1' or chords sharing it evenly"
+                         if len(beats) > 1 else "one chord per bar in this meter")
+        edges = list(beats) + [meter.bar]
+        s0 = 0
+        for (c, _n), cnt in zip(chords, counts, strict=True):
+            onset = b * meter.bar + edges[s0]
+            out.append(FrameworkChord(b + 1, onset, edges[s0 + cnt] - edges[s0], c))
+            s0 += cnt
     return tuple(out)
 
 
 def _strong(note: Note, fc: FrameworkChord, line: Line) -> bool:
     pos = note.onset % line.meter.bar
-    return note.weight == 0 or note.onset == fc.onset or (str(line.meter) == "4/4" and pos == 2)
+    return note.weight == 0 or note.onset == fc.onset or pos in _strong_points(line.meter)
 
 
 def harmonize(line: Line, key: Key, options: HarmonyOptions, *, where: str = "[harmony]") -> Harmonized:
