@@ -127,7 +127,7 @@ def test_written_score_spells_by_key(tmp_path: Path) -> None:
         assert n.pitch.midi == e["lead"]
         if e["lead"] % 12 in ab:
             assert "#" not in n.pitch.name, (n.pitch.name, e)
-        assert n.pitch.name.replace("-", "b") == e["lead_name"]
+        assert n.pitch.nameWithOctave.replace("-", "b") == e["lead_name"]
     sig = score.parts[0].flatten().getElementsByClass("KeySignature")[0]
     assert sig.sharps == -4                                               # Ab major: four flats
     # an accidental prints only where signature and measure do not give it (common practice
