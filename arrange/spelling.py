@@ -61,7 +61,10 @@ def spell_pc(pc: int, key: Key, chord: Chord | None = None, direction: int = 0) 
             deg = 5
         name = interval_name(chord.root_name, iv, deg)
         against = _acc(name) * (-1 if key.fifths < 0 else 1) < 0
-        if abs(_acc(name)) <= 1 and not (against and direction == 0 and iv == 3):
+        # the #9 reads as a minor tenth (Eb over C7) when the key's side or the line's
+        # fall says so; rising, it stays the #9 (D# over C7)
+        tenth = iv == 3 and ((against and direction == 0) or direction * _acc(name) < 0)
+        if abs(_acc(name)) <= 1 and not tenth:
             return name
     if chord is not None and direction == 0 and (pc - chord.root) % 12 not in chord.tensions:
         # a non-chord tone that is no chromatic step: by its degree above the root
@@ -120,8 +123,9 @@ def spell_pitch(midi: int, key: Key, chord: Chord | None = None, direction: int 
 
 def direction_of(previous: int | None, pitch: int, following: int | None) -> int:
     """+1 rising, -1 falling, 0 neither: a note between two others takes the way
-    the line moves through it; otherwise a chromatic step (a half step) out of it or
-    into it gives the way.  A note reached and left by leaps has none."""
+    the line moves through it; otherwise a chromatic step (a half step) out of it gives
+    the way it resolves.  A note left by a leap or a repeat has none (it is then named
+    by its degree over the chord)."""
     if previous is not None and following is not None:
         if previous < pitch < following:
             return 1
@@ -129,8 +133,6 @@ def direction_of(previous: int | None, pitch: int, following: int | None) -> int
             return -1
     if following is not None and abs(following - pitch) == 1:
         return 1 if following > pitch else -1
-    if previous is not None and abs(pitch - previous) == 1:
-        return 1 if pitch > previous else -1
     return 0
 
 
