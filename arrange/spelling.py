@@ -71,7 +71,8 @@ def spell_pc(pc: int, key: Key, chord: Chord | None = None, direction: int = 0) 
         # (the major seventh of G7 is F#, not Gb)
         iv = (pc - chord.root) % 12
         name = interval_name(chord.root_name, iv, _nonchord_degree(iv, chord))
-        if abs(_acc(name)) <= 1 and (name not in _ODD or name in key.names):
+        against = iv == 3 and _acc(name) * (-1 if key.fifths < 0 else 1) < 0   # #9 or b10
+        if abs(_acc(name)) <= 1 and (name not in _ODD or name in key.names) and not against:
             return name
     return _chromatic(pc, key, direction)
 
