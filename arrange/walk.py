@@ -175,5 +175,34 @@ def walk(line: Line, fw: tuple[FrameworkChord, ...], idx: list[int], keys: list[
                              f"and {why}; the framework chord is kept")
     out = [e for e in events if e is not None]
     assert len(out) == n
+    _no_flip_flop(out, keys, pitches, techniques)
     warnings = [(kind, k, msg) for k, (kind, msg) in sorted(notes_warn.items())]
     return out, warnings
+
+
+def _no_flip_flop(out: list[Event], keys: list[Key], pitches: list[int],
+                  techniques: tuple[str, ...]) -> None:
+    """Approach X, framework Y, approach X on three neighbouring notes flips the symbols
+    back and forth: the second X gives way to another technique's chord that holds the
+    lead and resolves to the same target (E7 into A7 rather than Bb7 again)."""
+    from dataclasses import replace
+
+    for i in range(2, len(out)):
+        a, b, c = out[i - 2], out[i - 1], out[i]
+        if not (a.role == c.role == "approach" and b.role == "framework" and a.chord == c.chord
+                and b.chord != c.chord and c.target is not None):
+            continue
+        if i + 1 < len(out) and out[i + 1].chord == c.chord:
+            continue        # held on: the chord's own resolution comes later
+        found = find_approach(c.note.pitch, c.target, c.target, keys[i], techniques, (c.chord,))
+        if found is None:
+            continue
+        ch, tech, what = found
+        way = direction_of(pitches[i - 1], pitches[i], pitches[i + 1] if i + 1 < len(out) else None)
+        name = spell_pc(c.note.pitch, keys[i], ch, way)
+        head = c.why.split(";")[0].split(" ", 1)[1]
+        out[i] = replace(c, chord=ch, technique=tech, lead_function=function_name(c.note.pitch, ch),
+                         lead_name=name,
+                         why=f"{name} {head}; {ch.symbol}, {what}, holds it as "
+                             f"{function_name(c.note.pitch, ch)} and resolves to {c.target.symbol} "
+                             f"({c.chord.symbol} sounded two notes before)")

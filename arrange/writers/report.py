@@ -69,6 +69,8 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
             "chord": ev.chord.symbol, "role": ev.role, "technique": ev.technique,
             "lead_function": ev.lead_function, "why": ev.why,
             "lead_class": ev.lead_class,
+            "target": ev.target.symbol if ev.target is not None else None,
+            "anticipated": n.anticipated,
             "voicing": ve.voicing, "pitches": list(ve.pitches),
         })
     def bar_of(ev: int | None) -> Any:
