@@ -9,17 +9,24 @@ from pathlib import Path
 from . import __version__
 from .chain import build_chain
 from .harmony import harmonize
+from .layers import VoicedLayer, build_layers
 from .project import Project
 from .rhythm import lay_rhythm
 from .voicing import Voiced, voice
 
-__all__ = ["run_pipeline", "render_outputs", "write_outputs", "BuildResult"]
+__all__ = ["run_pipeline", "run_layers", "render_outputs", "write_outputs", "BuildResult"]
 
 
 @dataclass(frozen=True, slots=True)
 class BuildResult:
     voiced: Voiced
     files: tuple[Path, ...]
+    layers: tuple[VoicedLayer, ...] = ()
+
+    @property
+    def warnings(self) -> int:
+        return (len(self.voiced.findings) + len(self.voiced.harmonized.warnings)
+                + sum(len(v.findings) for v in self.layers))
 
 
 def run_pipeline(project: Project) -> Voiced:
@@ -33,7 +40,13 @@ def run_pipeline(project: Project) -> Voiced:
     return voice(harmonized, project.section, project.voicing)
 
 
-def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...]) -> dict[str, bytes]:
+def run_layers(project: Project, voiced: Voiced) -> tuple[VoicedLayer, ...]:
+    """The project's [[layers]], voiced under the lead section."""
+    return build_layers(voiced.harmonized, voiced, project.layers)
+
+
+def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
+                   layers: tuple[VoicedLayer, ...] = ()) -> dict[str, bytes]:
     """Every asked file as bytes, in memory, before anything is written."""
     files: dict[str, bytes] = {}
     slug = project.slug
@@ -65,6 +78,7 @@ def write_outputs(project: Project, out_dir: Path, formats: tuple[str, ...] | No
     from .writers.files import write_batch
 
     voiced = run_pipeline(project)
-    files = render_outputs(project, voiced, formats or project.output.formats)
+    layers = run_layers(project, voiced)
+    files = render_outputs(project, voiced, formats or project.output.formats, layers)
     paths = write_batch(out_dir, files)
-    return BuildResult(voiced, tuple(paths))
+    return BuildResult(voiced, tuple(paths), layers)
