@@ -139,8 +139,11 @@ def _chain_table(c: Any) -> str:
 @click.option("-o", "--out", "out_dir", default="out", show_default=True,
               type=click.Path(file_okay=False, path_type=Path), help="Output folder.")
 @click.option("--formats", default=None, help="Comma list: musicxml,midi,report,preview.")
+@click.option("--vary", "vary", multiple=True, metavar="KEY=V1,V2",
+              help="Build every combination into its own folder, with DIR/variants.md "
+              "(e.g. voicing=close,drop2; repeatable).")
 @guarded
-def build(project: Path, out_dir: Path, formats: str | None) -> None:
+def build(project: Path, out_dir: Path, formats: str | None, vary: tuple[str, ...] = ()) -> None:
     """Build PROJECT.toml into score, MIDI and report files in the output folder."""
     from .build import write_outputs
     from .errors import OutputError
@@ -154,11 +157,18 @@ def build(project: Path, out_dir: Path, formats: str | None) -> None:
         if bad or not fmts:
             raise OutputError(f"format {bad[0] if bad else formats!r} is not known", where="--formats",
                               accepted=", ".join(FORMATS))
+    if vary:
+        from .variants import build_variants
+
+        click.echo(f"building {proj.title} in every combination of {len(vary)} varied keys ...", err=True)
+        for p in build_variants(project, vary, out_dir, fmts):
+            click.echo(str(p))
+        return
     click.echo(f"building {proj.title} ...", err=True)
     result = write_outputs(proj, out_dir, fmts)
     for p in result.files:
         click.echo(str(p))
-    n = len(result.voiced.findings) + len(result.voiced.harmonized.warnings)
+    n = result.warnings
     if n:
         click.echo(f"{n} warning{'s' if n != 1 else ''}: see the report", err=True)
 
