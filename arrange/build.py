@@ -8,6 +8,7 @@ from pathlib import Path
 
 from . import __version__
 from .chain import build_chain
+from .errors import ArrangeError, LimitError
 from .harmony import harmonize
 from .layers import VoicedLayer, build_layers
 from .project import Project
@@ -29,11 +30,35 @@ class BuildResult:
                 + sum(len(v.findings) for v in self.layers))
 
 
+# the writers take about 2 ms per written note on a laptop; past this a build takes minutes
+MAX_SCORE_NOTES = 40_000
+
+
+def check_size(project: Project) -> None:
+    """Refuse, before any work starts, a passage too big to write in reasonable time."""
+    c = project.chain
+    n = len(c.motif)
+    links = c.overlap if isinstance(c.overlap, tuple) else (c.overlap,) * (c.statements - 1)
+    notes = n + sum(max(n - o, 0) for o in links)
+    parts = len(project.section.parts) + sum(len(la.section.parts) for la in project.layers)
+    if notes * parts > MAX_SCORE_NOTES:
+        name = project.path.name if project.path else "project"
+        raise LimitError(
+            f"{notes} lead notes for {parts} parts make {notes * parts} written notes",
+            where=f"{name}, key 'chain.statements'",
+            accepted=f"at most {MAX_SCORE_NOTES} written notes (lead notes x parts): fewer "
+                     "statements or a smaller section")
+
+
 def run_pipeline(project: Project) -> Voiced:
+    check_size(project)
     c = project.chain
     # no lead_range given: the chain is placed into the lead instrument's practical range
     lead_range = c.lead_range or project.section.lead.instrument.practical
-    chain = build_chain(c.motif, c.statements, c.overlap, lead_range)
+    try:
+        chain = build_chain(c.motif, c.statements, c.overlap, lead_range)
+    except ArrangeError as err:
+        raise _in_project(err, project, "chain") from None
     line = lay_rhythm(chain, project.meter, project.rhythm)
     harmonized = harmonize(line, project.key, project.harmony,
                            where=f"{project.path.name if project.path else 'project'} [harmony]")
@@ -43,6 +68,14 @@ def run_pipeline(project: Project) -> Voiced:
 def run_layers(project: Project, voiced: Voiced) -> tuple[VoicedLayer, ...]:
     """The project's [[layers]], voiced under the lead section."""
     return build_layers(voiced.harmonized, voiced, project.layers)
+
+
+def _in_project(err: ArrangeError, project: Project, table: str) -> ArrangeError:
+    """The same error, placed in the project file: ``p.toml, key 'chain.motif'``."""
+    name = project.path.name if project.path else "project"
+    where = f"{name}, key '{table}.{err.where}'" if err.where and " " not in err.where \
+        else f"{name} [{table}]" + (f", {err.where}" if err.where else "")
+    return type(err)(err.what, where=where, accepted=err.accepted)
 
 
 def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],

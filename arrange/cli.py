@@ -267,5 +267,126 @@ def new(project: Path) -> None:
     click.echo(str(project))
 
 
+class _Progress:
+    """A progress bar on stderr, shown once a search has run for a second."""
+
+    def __init__(self) -> None:
+        import time
+
+        self.clock = time.monotonic
+        self.t0 = self.clock()
+        self.shown = False
+        self.percent = -1
+
+    def __call__(self, done: int, total: int) -> None:
+        if not self.shown and self.clock() - self.t0 < 1.0:
+            return
+        percent = 100 * done // max(total, 1)
+        if self.shown and percent == self.percent:
+            return                           # redraw once per percent
+        self.shown, self.percent = True, percent
+        width = 30
+        filled = width * done // max(total, 1)
+        click.echo(f"\r[{'#' * filled}{'.' * (width - filled)}] {percent:3d}% "
+                   f"{done:,} of {total:,} motifs", err=True, nl=False)
+
+    def close(self) -> None:
+        if self.shown:
+            click.echo("", err=True)
+
+
+@main.command()
+@click.option("--length", "-n", required=True, type=int, help="Notes in the motif (2..8).")
+@click.option("--statements", "-k", default=4, show_default=True, type=int, help="Statements (1..64).")
+@click.option("--overlap", "-o", default=2, show_default=True, type=int, help="Notes shared by each link.")
+@click.option("--start", default=None, help="First note (default C4; a transition's first tonic).")
+@click.option("--max-step", default=None, type=int, help="Largest melodic step in semitones (default 12).")
+@click.option("--steps", default=None, help="Allowed step sizes, e.g. 1,2,5 (both ways) or +3,-4.")
+@click.option("--no-repeats", is_flag=True, help="No pitch class twice inside the motif.")
+@click.option("--transposition", default=None, type=int, help="Statement 3 lies T semitones from statement 1.")
+@click.option("--transposition-class", is_flag=True, help="Accept --transposition in any octave.")
+@click.option("--compass", default=None, type=int, help="Compass after two statements, semitones.")
+@click.option("--span", default=None, type=int, help="The whole chain within S semitones.")
+@click.option("--aggregate", is_flag=True, help="The chain completes all 12 pitch classes.")
+@click.option("--aggregate-within", default=None, type=int, help="... within its first M notes.")
+@click.option("--key", "key_text", default=None, help='Key for --diatonic / --chromatic-notes, e.g. "F major".')
+@click.option("--diatonic", is_flag=True, help="Every chain note in the key.")
+@click.option("--chromatic-notes", default=None, type=int, help="At most M chain notes outside the key.")
+@click.option("--from-key", default=None, help='A transition: the key the chain starts in.')
+@click.option("--to-key", default=None, help="... and the key its last statement reaches.")
+@click.option("--top", default=10, show_default=True, type=int, help="How many results to show (1..1000).")
+@click.option("--count", "count_only", is_flag=True, help="Only count the motifs that meet the constraints.")
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object.")
+@click.option("--force", is_flag=True, help="Search a space of more than 10^9 motifs.")
+@click.option("--write-project", default=None, type=click.Path(dir_okay=False, path_type=Path),
+              help="Write a starter project around the best result (never over a file).")
+@guarded
+def design(length: int, statements: int, overlap: int, start: str | None, max_step: int | None,
+           steps: str | None, no_repeats: bool, transposition: int | None, transposition_class: bool,
+           compass: int | None, span: int | None, aggregate: bool, aggregate_within: int | None,
+           key_text: str | None, diatonic: bool, chromatic_notes: int | None, from_key: str | None,
+           to_key: str | None, top: int, count_only: bool, as_json: bool, force: bool,
+           write_project: Path | None) -> None:
+    """Search every motif of --length notes for RI chains with the properties asked."""
+    from .design_spec import make_spec, parse_steps
+    from .errors import DesignError, OutputError
+    from .harmony import parse_key
+    from .pitch import parse_pitch
+
+    if not 1 <= top <= 1000:
+        raise DesignError(f"--top {top} is out of range", where="--top", accepted="1..1000")
+    if write_project is not None and count_only:
+        raise DesignError("--write-project with --count", where="--write-project/--count",
+                          accepted="one of the two (--count ranks nothing)")
+    if write_project is not None and write_project.exists():
+        raise OutputError(f"{str(write_project)!r} already exists", where="--write-project",
+                          accepted="a new file name")
+    spec = make_spec(
+        length, statements=statements, overlap=overlap,
+        start=parse_pitch(start, where="--start") if start is not None else None,
+        max_step=max_step, steps=parse_steps(steps) if steps is not None else None,
+        no_repeats=no_repeats, transposition=transposition, transposition_class=transposition_class,
+        compass=compass, span=span, aggregate=aggregate, aggregate_within=aggregate_within,
+        key=parse_key(key_text, where="--key") if key_text is not None else None,
+        diatonic=diatonic, chromatic_notes=chromatic_notes,
+        from_key=parse_key(from_key, where="--from-key") if from_key is not None else None,
+        to_key=parse_key(to_key, where="--to-key") if to_key is not None else None)
+    from .design import check_space, search
+
+    total = check_space(spec, force)
+    click.echo(f"searching {total:,} motifs ({len(spec.steps)} allowed steps ^ {length - 1}) ...", err=True)
+    bar = _Progress()
+    try:
+        found = search(spec, top, count_only=count_only, progress=bar)
+    finally:
+        bar.close()
+    for note in found.relaxed:
+        click.echo(f"arrange: relaxed {note}", err=True)
+    if write_project is not None:
+        from .design_project import project_text
+        from .writers.files import write_batch
+
+        if not found.results:
+            raise DesignError("no motif meets the constraints, so there is no project to write",
+                              where="--write-project", accepted="looser constraints")
+        best = found.results[0]
+        write_batch(write_project.parent if str(write_project.parent) else Path("."),
+                    {write_project.name: project_text(spec, best.chain, best.why).encode("utf-8")})
+        click.echo(f"wrote {write_project}", err=True)
+    if as_json:
+        click.echo(json.dumps(found.to_json()))
+        return
+    if count_only:
+        click.echo(str(found.count))
+        return
+    click.echo(f"{found.count:,} of {found.searched:,} motifs meet the constraints")
+    for i, f in enumerate(found.results, start=1):
+        c = f.chain
+        click.echo(f"{i:>3}. {f.score:.4f}  {' '.join(c.names[:length]):<32} T {c.transposition:+d}  "
+                   f"compass {c.compass_after_two:+d}  span {c.span[1] - c.span[0]}")
+        click.echo(f"     line  {' '.join(c.names)}")
+        click.echo(f"     why   {f.why}")
+
+
 if __name__ == "__main__":
     main()

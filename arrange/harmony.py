@@ -125,7 +125,7 @@ def harmonize(line: Line, key: Key, options: HarmonyOptions, *, where: str = "[h
             chords.append(FrameworkChord(b + 1, b * bar_len + j * share, share, chord))
     events = []
     for note in line.notes:
-        fc = next(c for c in reversed(chords) if c.onset <= note.onset)
+        fc = next((c for c in reversed(chords) if c.onset <= note.onset), chords[0])  # pickup: first chord
         func = lead_function(note.pitch, fc.chord)
         events.append(Event(note, fc.chord, "framework", None, func,
                             f"framework chord of bar {fc.bar}"))

@@ -23,6 +23,7 @@ __all__ = ["Project", "ChainSpec", "OutputSpec", "load_project", "project_from_d
 
 FORMATS = ("musicxml", "midi", "report", "preview")
 MAX_FILE_BYTES = 1_000_000
+MAX_TITLE = 120
 
 
 @dataclass(frozen=True, slots=True)
@@ -67,6 +68,9 @@ def _chain(t: Table) -> ChainSpec:
         motif = parse_pitches(motif_raw, where=t.at("motif"))
     except ArrangeError as err:
         raise ProjectError(err.what, where=err.where, accepted=err.accepted) from None
+    if not 2 <= len(motif) <= 64:
+        raise t.error("motif", f"the motif has {len(motif)} note{'s' if len(motif) != 1 else ''}",
+                      "a motif of 2 to 64 notes")
     statements = t.integer("statements", 4, low=1, high=1000)
     overlap: int | tuple[int, ...]
     raw = t.raw("overlap", 2)
@@ -107,6 +111,11 @@ def _output(t: Table) -> OutputSpec:
 def project_from_data(data: dict[str, object], where: str, path: Path | None = None) -> Project:
     top = Table(data, where)
     title = top.string("title")
+    if len(title) > MAX_TITLE or any(c in title for c in "/\\") or ".." in title \
+            or any(ord(c) < 32 for c in title):
+        raise top.error("title", f"{title[:40]!r}{'...' if len(title) > 40 else ''} cannot be a title",
+                        f"a title of at most {MAX_TITLE} characters without / \\ .. or control "
+                        "characters (the output files are named from it)")
     tempo = top.number("tempo", 120, low=20, high=400)
     meter_text = top.string("meter", "4/4")
     try:

@@ -76,7 +76,7 @@ BAD_PROJECTS = [
     ("unknown-section-key", BASIC + "\ncolour = 3\n", "'section.colour'"),
     ("unknown-chain", BASIC.replace("overlap = 2", "overlap = 2\nfoo = 1"), "'chain.foo'"),
     ("bad-pitch", BASIC.replace('"A4 G4 C5 Bb4"', '"A4 Q4 C5"'), "'Q4'"),
-    ("short-motif", BASIC.replace('"A4 G4 C5 Bb4"', '"A4"'), "at least 2 notes"),
+    ("short-motif", BASIC.replace("\"A4 G4 C5 Bb4\"", "\"A4\""), "2 to 64 notes"),
     ("statements", BASIC.replace("statements = 4", "statements = 5000"), "statements"),
     ("overlap", BASIC.replace("overlap = 2", "overlap = 3"), "overlaps that work"),
     ("range", BASIC.replace("overlap = 2", 'overlap = 2\nlead_range = ["A4", "C5"]'), "lead range"),

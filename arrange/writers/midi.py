@@ -34,6 +34,7 @@ def midi_bytes(voiced: Voiced, tempo: float) -> bytes:
     mf.ticksPerQuarterNote = TICKS
     mf.format = 1
     line = voiced.harmonized.line
+    lead_in = line.pickup      # a pickup (negative onsets) starts the file at tick 0
 
     def track_from(events: list[tuple[int, int, midi.MidiEvent]], index: int) -> midi.MidiTrack:
         trk = midi.MidiTrack(index)
@@ -61,7 +62,7 @@ def midi_bytes(voiced: Voiced, tempo: float) -> bytes:
     ts.data = bytes([line.meter.numerator, den_pow, 24, 8])
     conductor.append((0, 1, ts))
     tp = midi.MidiEvent(None, type=midi.MetaEvents.SET_TEMPO)
-    mpq = int(round(60_000_000 / tempo))
+    mpq = int(round(60_000_000 / (tempo * float(getattr(line, "tempo_scale", 1)))))
     tp.data = midi.putNumber(mpq, 3)
     conductor.append((0, 2, tp))
     mf.tracks.append(track_from(conductor, 0))
@@ -79,8 +80,8 @@ def midi_bytes(voiced: Voiced, tempo: float) -> bytes:
         for ve in voiced.events:
             n = ve.event.note
             pitch = ve.pitches[k]
-            on = _tick(n.perf_onset)
-            off = max(on + 1, _tick(n.perf_onset + n.perf_duration) - 1)
+            on = _tick(n.perf_onset + lead_in)
+            off = max(on + 1, _tick(n.perf_onset + n.perf_duration + lead_in) - 1)
             if prev_end.get(pitch, -1) > on:   # never overlap the same key
                 on = prev_end[pitch]
             non = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.NOTE_ON, channel=ch)

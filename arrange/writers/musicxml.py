@@ -13,7 +13,7 @@ from fractions import Fraction
 from ..notation import pieces
 from ..voicing import Voiced
 
-__all__ = ["ScoreInfo", "musicxml_bytes", "m21_figure"]
+__all__ = ["ScoreInfo", "musicxml_bytes", "m21_figure", "swing_ratio"]
 
 _INTERVALS = {"unison": "P1", "major second": "M2", "minor third": "m3", "perfect fourth": "P4",
               "perfect fifth": "P5", "major sixth": "M6", "octave": "P8", "major ninth": "M9",
@@ -81,7 +81,8 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
 
     line = voiced.harmonized.line
     bar_len = line.meter.bar
-    n_measures = line.bars
+    n_measures = line.measures
+    shift = 1 if line.pickup else 0
     hkey = voiced.harmonized.key
     score = stream.Score(id="score")
     score.atSoundingPitch = True
@@ -96,7 +97,10 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
         p.partAbbreviation = part.abbreviation
         measures = []
         for m_i in range(n_measures):
-            m = stream.Measure(number=m_i + 1)
+            m = stream.Measure(number=m_i + 1 - shift)
+            if shift and m_i == 0:          # the pickup: measure 0, implicit (MusicXML 4.0)
+                m.showNumber = stream.enums.ShowNumber.NEVER
+                m.paddingLeft = float(bar_len - line.pickup)
             if m_i == 0:
                 m.insert(0, _instrument(part, k))
                 m.insert(0, _clef(part.instrument.clef))
@@ -105,37 +109,45 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
                 m.insert(0, meter.TimeSignature(str(line.meter)))
                 m.insert(0, dynamics.Dynamic("mf"))
                 if k == 0:
+                    beat = note.Note(type="quarter")
+                    if line.tempo_scale != 1:      # a shuffle written in 12/8: the dotted quarter
+                        beat.duration.dots = 1
                     m.insert(0, tempo.MetronomeMark(text=info.style, number=info.tempo,
-                                                    referent=note.Note(type="quarter")))
+                                                    referent=beat))
                     m.insert(0, expressions.TextExpression("Transposed score"))
             measures.append(m)
         prev_chord = None
         for i, ve in enumerate(voiced.events):
             n = ve.event.note
+            cut = pieces(n.onset, n.duration, line.meter, pickup=line.pickup)
             if k == 0:
-                m_i = int(n.onset // bar_len)
-                off = n.onset - m_i * bar_len
+                m_i, off = cut[0].measure, cut[0].offset
                 if ve.event.chord.symbol != prev_chord:
                     cs = harmony.ChordSymbol(m21_figure(ve.event.chord.symbol))
                     cs.writeAsChord = False
-                    measures[m_i].insert(float(off), cs)
+                    measures[m_i].insert(_offset(off), cs)
                     prev_chord = ve.event.chord.symbol
                 if i in statement_starts:
                     st = statement_starts[i]
-                    measures[m_i].insert(float(off), expressions.RehearsalMark(chr(64 + st.index)
+                    measures[m_i].insert(_offset(off), expressions.RehearsalMark(chr(64 + st.index)
                                          if st.index <= 26 else str(st.index)))
-            for pc in pieces(n.onset, n.duration, bar_len):
+            for j, pc in enumerate(cut):
                 nt = note.Note(ve.pitches[k])
-                nt.duration.quarterLength = pc.duration
+                nt.duration = _duration(pc.duration)
                 if pc.tie_start and pc.tie_stop:
                     nt.tie = _tie("continue")
                 elif pc.tie_start:
                     nt.tie = _tie("start")
                 elif pc.tie_stop:
                     nt.tie = _tie("stop")
-                measures[pc.measure].insert(float(pc.offset), nt)
-        for m in measures:
-            _fill_rests(m, bar_len)
+                if j == 0 and n.articulation:
+                    nt.articulations.append(_articulation(n.articulation))
+                measures[pc.measure].insert(_offset(pc.offset), nt)
+        for m_i, m in enumerate(measures):
+            m_start = -line.pickup if shift and m_i == 0 else (m_i - shift) * bar_len
+            m_len = line.pickup if shift and m_i == 0 else bar_len
+            _fill_rests(m, m_len, line.meter, m_start, line.pickup)
+            _tuplet_brackets(m)
         measures[-1].rightBarline = bar.Barline("final")
         for m in measures:
             p.append(m)
@@ -149,7 +161,48 @@ def _tie(kind: str):  # noqa: ANN202
     return tie.Tie(kind)
 
 
-def _fill_rests(m, bar_len: Fraction) -> None:  # noqa: ANN001
+def _offset(q: Fraction) -> float | Fraction:
+    """music21 keeps triplet offsets exact only as Fractions."""
+    return q if q.denominator % 3 == 0 else float(q)
+
+
+def _duration(q: Fraction):  # noqa: ANN202
+    from music21 import duration
+
+    return duration.Duration(q)
+
+
+def _articulation(name: str):  # noqa: ANN202
+    from music21 import articulations
+
+    return {"accent": articulations.Accent, "staccato": articulations.Staccato,
+            "tenuto": articulations.Tenuto}[name]()
+
+
+def _tuplet_brackets(m) -> None:  # noqa: ANN001
+    """Bracket each run of triplets that fills a beat division (tuplet start/stop)."""
+    run: list = []
+    total = Fraction(0)
+    for n in m.notesAndRests:
+        tup = n.duration.tuplets
+        if not tup:
+            run, total = [], Fraction(0)
+            continue
+        run.append(n)
+        total += Fraction(n.quarterLength).limit_denominator(96) * 3 / 2
+        if total.denominator == 1 and total in (1, 2):    # a full triplet group: 3 in the time of 2
+            if len(run) == 1:
+                run[0].duration.tuplets[0].type = "startStop"
+            else:
+                run[0].duration.tuplets[0].type = "start"
+                run[-1].duration.tuplets[0].type = "stop"
+            run, total = [], Fraction(0)
+
+
+def _fill_rests(m, bar_len: Fraction, meter=None, start: Fraction = Fraction(0),  # noqa: ANN001
+                pickup: Fraction = Fraction(0)) -> None:
+    """Rests in every gap of measure ``m`` (``bar_len`` long, starting at time
+    ``start``), cut by the notation rules for rests of the meter."""
     from music21 import note
 
     filled = sorted((Fraction(n.offset).limit_denominator(96), Fraction(n.quarterLength).limit_denominator(96))
@@ -163,10 +216,53 @@ def _fill_rests(m, bar_len: Fraction) -> None:  # noqa: ANN001
     if t < bar_len:
         gaps.append((t, bar_len - t))
     for off, dur in gaps:
-        for pc in pieces(off, dur, bar_len):
+        for pc in pieces(start + off, dur, meter or bar_len, pickup=pickup, rest=True):
             r = note.Rest()
-            r.duration.quarterLength = pc.duration
-            m.insert(float(pc.offset), r)
+            r.duration = _duration(pc.duration)
+            if pc.whole_bar:
+                r.fullMeasure = True
+            m.insert(_offset(pc.offset), r)
+
+
+def swing_ratio(line) -> tuple[int, int] | None:  # noqa: ANN001
+    """``(first, second)`` of the MusicXML 4.0 ``<swing>`` element for a swung
+    line written in straight eighths; None where playback is straight."""
+    if line.groove not in ("swing", "shuffle") or line.notate == "12/8":
+        return None
+    r = Fraction(line.swing).limit_denominator(100)
+    return r.numerator, r.denominator - r.numerator
+
+
+def _add_swing(data: bytes, ratio: tuple[int, int]) -> bytes:
+    """Put ``<swing>`` (MusicXML 4.0 playback; music21 cannot write it) into the
+    ``<sound>`` of the first part's opening tempo direction."""
+    import xml.etree.ElementTree as ET
+
+    at = data.index(b"<score-partwise")
+    head, body = data[:at], data[at:]
+    root = ET.fromstring(body)
+    part = root.find("part")
+    assert part is not None
+    measure = part.find("measure")
+    assert measure is not None
+    sound = next((s for s in measure.iter("sound") if "tempo" in s.attrib), None)
+    if sound is None:
+        direction = ET.Element("direction")
+        ET.SubElement(ET.SubElement(direction, "direction-type"), "words").text = "Swing"
+        sound = ET.SubElement(direction, "sound")
+        first_note = next((i for i, el in enumerate(measure) if el.tag == "note"), len(measure))
+        measure.insert(first_note, direction)
+    swing = ET.Element("swing")
+    ET.SubElement(swing, "first").text = str(ratio[0])
+    ET.SubElement(swing, "second").text = str(ratio[1])
+    ET.SubElement(swing, "swing-type").text = "eighth"
+    offset = sound.find("offset")      # <swing> comes before <offset> (XSD sequence)
+    if offset is not None:
+        sound.insert(list(sound).index(offset), swing)
+    else:
+        sound.append(swing)
+    ET.indent(root, space="  ")
+    return head + ET.tostring(root, encoding="utf-8", xml_declaration=False) + b"\n"
 
 
 def musicxml_bytes(voiced: Voiced, info: ScoreInfo) -> bytes:
@@ -176,4 +272,7 @@ def musicxml_bytes(voiced: Voiced, info: ScoreInfo) -> bytes:
     exporter = GeneralObjectExporter(score)
     exporter.makeNotation = False
     data: bytes = exporter.parse()
+    ratio = swing_ratio(voiced.harmonized.line)
+    if ratio is not None:
+        data = _add_swing(data, ratio)
     return data

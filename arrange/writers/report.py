@@ -28,7 +28,8 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str) -> di
         events.append({
             "index": i, "statement": n.statement, "bar": int(n.onset // line.meter.bar) + 1,
             "onset": _num(n.onset), "duration": _num(n.duration),
-            "performed_onset": _num(n.perf_onset), "lead": n.pitch,
+            "performed_onset": _num(n.perf_onset), "performed_duration": _num(n.perf_duration),
+            "weight": n.weight, "articulation": n.articulation, "lead": n.pitch,
             "chord": ev.chord.symbol, "role": ev.role, "technique": ev.technique,
             "lead_function": ev.lead_function, "why": ev.why,
             "voicing": ve.voicing, "pitches": list(ve.pitches),
@@ -41,12 +42,22 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str) -> di
         "title": title, "key": str(h.key), "meter": str(line.meter), "tempo": tempo,
         "groove": line.groove, "generator": f"arrange {version}",
         "chain": line.chain.to_json(),
+        "rhythm": _rhythm(line),
         "section": {"name": voiced.section.name, "parts": parts},
         "framework": [{"bar": fc.bar, "onset": _num(fc.onset), "duration": _num(fc.duration),
                        "chord": fc.chord.symbol} for fc in h.framework],
         "events": events,
         "warnings": warnings,
     }
+
+
+def _rhythm(line: Any) -> dict[str, Any]:
+    """Per statement its onset, duration and bar span (bar 0 is a pickup)."""
+    return {"groove": line.groove, "swing": line.swing, "written_meter": str(line.meter),
+            "notate": line.notate, "pickup": _num(line.pickup), "bars": line.bars,
+            "statements": [{"index": s.index, "onset": _num(s.onset), "duration": _num(s.duration),
+                            "augment": _num(s.factor), "first_bar": s.first_bar,
+                            "last_bar": s.last_bar} for s in line.spans]}
 
 
 def report_json(data: dict[str, Any]) -> bytes:

@@ -1,0 +1,102 @@
+"""A starter project (TOML text) around the designer's best motif.
+
+The framework moves tonic, dominant, tonic; for a transition it moves from the
+first key's tonic to the second key's dominant and tonic.  The framework has as
+many bars as the rhythm stage's default groove gives the line in 4/4 (asked of
+:func:`arrange.rhythm.lay_rhythm` itself), so the cadence lands on the last bars.
+"""
+from __future__ import annotations
+
+import json
+
+from .chain import Chain
+from .design_spec import DesignSpec
+from .harmony import Key
+from .pitch import pitch_name
+
+__all__ = ["project_text", "tonic_symbol", "dominant_symbol"]
+
+_LETTERS = "CDEFGAB"
+_NATURAL = {"C": 0, "D": 2, "E": 4, "F": 5, "G": 7, "A": 9, "B": 11}
+_ACCIDENTAL = {0: "", 1: "#", 11: "b", 10: "bb"}
+
+
+def tonic_symbol(key: Key) -> str:
+    """The key's tonic triad as a chord symbol (``F``, ``Dm``, ``Bdim``)."""
+    s = key.scale
+    third, fifth = (s[2] - s[0]) % 12, (s[4] - s[0]) % 12
+    quality = {(4, 7): "", (3, 7): "m", (3, 6): "dim", (4, 8): "aug"}[(third, fifth)]
+    return key.tonic_name + quality
+
+
+def dominant_symbol(key: Key) -> str:
+    """The dominant seventh on the key's fifth degree, spelled a fifth above the
+    tonic's letter (``Ab major`` -> ``Eb7``; common practice)."""
+    letter = _LETTERS[(_LETTERS.index(key.tonic_name[0]) + 4) % 7]
+    pc = (key.tonic + 7) % 12
+    acc = _ACCIDENTAL.get((pc - _NATURAL[letter]) % 12)
+    root = letter + acc if acc is not None else pitch_name(60 + pc)[:-1]
+    return root + "7"
+
+
+def _framework(first: str, dominant: str, last: str, bars: int) -> str:
+    if bars >= 3:
+        return " | ".join([first] * (bars - 2) + [dominant, last])
+    if bars == 2:
+        return f"{first} {dominant} | {last}"
+    return f"{first} {dominant} {last}"
+
+
+def _bars(chain: Chain) -> int:
+    """Bars of the line under the default rhythm in 4/4, as the build will lay it."""
+    from .rhythm import lay_rhythm, parse_meter, read_options
+    from .tables import Table
+
+    line = lay_rhythm(chain, parse_meter("4/4"), read_options(Table({}, "design [rhythm]")))
+    return max(1, line.bars)
+
+
+def project_text(spec: DesignSpec, chain: Chain, why: str) -> str:
+    start_key = spec.from_key or spec.key
+    end_key = spec.to_key or start_key
+    key_text = str(start_key) if start_key is not None else "C major"
+    from .harmony import parse_key
+
+    k1 = start_key or parse_key("C major")
+    k2 = end_key or k1
+    bars = _bars(chain)
+    framework = _framework(tonic_symbol(k1), dominant_symbol(k2), tonic_symbol(k2), bars)
+    if spec.from_key is not None and spec.to_key is not None:
+        title = f"Transition {spec.from_key} to {spec.to_key}"
+    else:
+        title = "Designed Line"
+    lead = sorted(chain.pitches)[len(chain.pitches) // 2]
+    section = "trumpets-4" if lead >= 60 else "trombones-4"
+    motif = " ".join(pitch_name(p) for p in chain.motif)
+    q = json.dumps
+    return "\n".join([
+        "# Written by arrange design around its best motif:",
+        f"#   {why}",
+        "# Build it with: arrange build THIS_FILE -o out",
+        f"title = {q(title)}",
+        "tempo = 120",
+        'meter = "4/4"',
+        f"key = {q(key_text)}",
+        "",
+        "[chain]",
+        f"motif = {q(motif)}",
+        f"statements = {spec.statements}",
+        f"overlap = {spec.overlap}",
+        "",
+        "[harmony]",
+        f"# {bars} bar{'s' if bars != 1 else ''}: what the default groove gives this line in 4/4",
+        f"framework = {q(framework)}",
+        "",
+        "[section]",
+        f"name = {q(section)}",
+        'voicing = "close"',
+        "",
+        "[output]",
+        'formats = ["musicxml", "midi", "report"]',
+        "",
+    ])
