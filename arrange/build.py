@@ -86,17 +86,22 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
     if "musicxml" in formats or "preview" in formats:
         from .writers.musicxml import ScoreInfo, musicxml_bytes
 
-        xml = musicxml_bytes(voiced, ScoreInfo(project.title, project.tempo, _style(project)))
+        xml = musicxml_bytes(voiced, ScoreInfo(project.title, project.tempo, _style(project)), layers)
         if "musicxml" in formats:
             files[f"{slug}.musicxml"] = xml
     if "midi" in formats:
         from .writers.midi import midi_bytes
 
-        files[f"{slug}.mid"] = midi_bytes(voiced, project.tempo)
+        files[f"{slug}.mid"] = midi_bytes(voiced, project.tempo, layers)
     if "report" in formats:
         from .writers.report import report_data, report_json, report_markdown
 
         data = report_data(voiced, title=project.title, tempo=project.tempo, version=__version__)
+        if layers:
+            from .writers.layers import layer_warnings, layers_data
+
+            data["layers"] = layers_data(layers)
+            data["warnings"] = list(data["warnings"]) + layer_warnings(layers)
         files[f"{slug}.report.json"] = report_json(data)
         files[f"{slug}.report.md"] = report_markdown(data)
     return files

@@ -7,8 +7,7 @@
   layer's ``rhythm`` (note values cycled within each chord; a chord change always
   starts a new chord, a repeated chord is held on);
 * **hits** are short chords (``rhythm`` gives their length) on the groove's
-  accents: the notes the rhythm stage marks accented, or else downbeats,
-  anticipations (an off-beat note held over the next beat) and the line's peaks.
+  accents (:func:`accents`), on the chord the lead section plays there.
 
 Each chord is voiced by :mod:`arrange.pads` (guide tones first, then allowed
 tensions; the voicing stage's rule checks) and the whole layer is chosen by a
@@ -151,10 +150,14 @@ def _spans(framework: tuple[FrameworkChord, ...], total: Fraction) -> list[tuple
 
 
 def accents(harmonized: Harmonized) -> tuple[int, ...]:
-    """Indices of the lead notes that carry the groove's accents."""
+    """Indices of the lead notes that carry the groove's accents: the notes the
+    rhythm stage marks ``accent`` (or anticipated).  A passage the groove marks
+    none in (a straight groove without anticipations) falls back to metric
+    weight: downbeats, off-beat notes held over the next beat, and the line's
+    peaks on the beat."""
     notes = harmonized.line.notes
-    marked = [i for i, n in enumerate(notes) if getattr(n, "accent", False)
-              or getattr(n, "articulation", None) in ("accent", "marcato")]
+    marked = [i for i, n in enumerate(notes) if getattr(n, "articulation", "") in ("accent", "marcato")
+              or getattr(n, "anticipated", False)]
     if marked:
         return tuple(marked)
     beat = Fraction(4, harmonized.line.meter.denominator)
@@ -192,7 +195,8 @@ def layer_times(harmonized: Harmonized, layer: Layer) -> list[tuple[Fraction, Fr
         span = next((s for s in spans if s[0] <= onset < s[1]), None)
         if rest or span is None or (out and out[-1][0] + out[-1][1] > onset):
             continue
-        out.append((onset, min(value, span[1] - onset), span[2]))
+        # a hit punches the chord the lead section plays on that accent (approach chords included)
+        out.append((onset, min(value, span[1] - onset), harmonized.events[i].chord))
     return out
 
 

@@ -27,7 +27,7 @@ def _tick(q: Fraction) -> int:
     return int(round(q * TICKS))
 
 
-def midi_bytes(voiced: Voiced, tempo: float) -> bytes:
+def midi_bytes(voiced: Voiced, tempo: float, layers: tuple = ()) -> bytes:
     from music21 import midi
 
     mf = midi.MidiFile()
@@ -94,5 +94,9 @@ def midi_bytes(voiced: Voiced, tempo: float) -> bytes:
             evs.append((off, 2, noff))
             prev_end[pitch] = off
         mf.tracks.append(track_from(evs, k + 1))
+    if layers:
+        from .layers import layer_tracks
+
+        mf.tracks.extend(layer_tracks(layers, len(voiced.section.parts), lead_in, track_from, _tick))
     data: bytes = mf.writestr()
     return data

@@ -265,10 +265,14 @@ def _add_swing(data: bytes, ratio: tuple[int, int]) -> bytes:
     return head + ET.tostring(root, encoding="utf-8", xml_declaration=False) + b"\n"
 
 
-def musicxml_bytes(voiced: Voiced, info: ScoreInfo) -> bytes:
+def musicxml_bytes(voiced: Voiced, info: ScoreInfo, layers: tuple = ()) -> bytes:
     from music21.musicxml.m21ToXml import GeneralObjectExporter
 
     score = build_score(voiced, info)
+    if layers:
+        from .layers import add_layer_parts
+
+        add_layer_parts(score, voiced, layers)
     exporter = GeneralObjectExporter(score)
     exporter.makeNotation = False
     data: bytes = exporter.parse()

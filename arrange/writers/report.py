@@ -82,6 +82,9 @@ def report_markdown(data: dict[str, Any]) -> bytes:
     for e in data["events"]:
         out.append(f"| {e['index'] + 1} | {e['bar']} | {e['lead']} ({e['lead_function']}) | "
                    f"{e['chord']} | {e['role']} | {e['technique'] or ''} | {e['why']} |")
+    from .layers import layers_markdown
+
+    out += layers_markdown(data)
     out += ["", "## Warnings", ""]
     if not data["warnings"]:
         out.append("None.")
