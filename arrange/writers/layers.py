@@ -28,7 +28,10 @@ def _num(q: Fraction) -> float | int:
 def _bracket(score, parts, name: str) -> None:  # noqa: ANN001
     from music21 import layout
 
-    group = layout.StaffGroup(parts, name=name, symbol="bracket", barTogether=True)
+    # the section's name stays in the file as the group's abbreviation; a printed group
+    # name would crowd the part names
+    group = layout.StaffGroup(parts, symbol="bracket", barTogether=True)
+    group.abbreviation = name
     score.insert(0, group)
 
 
@@ -36,9 +39,19 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...]) -> N
     """Append the layers' parts to ``score`` (built by ``build_score``), below the
     lead section, and bracket each section."""
     from music21 import bar, clef, dynamics, key, layout, meter, note, stream
+    from music21.stream import makeNotation
 
     from .midi import channel_for
-    from .musicxml import _clef, _duration, _fill_rests, _instrument, _offset, _tie, _tuplet_brackets
+    from .musicxml import (
+        _articulation,
+        _clef,
+        _duration,
+        _fill_rests,
+        _instrument,
+        _offset,
+        _tie,
+        _tuplet_brackets,
+    )
 
     if not layers:
         return
@@ -85,6 +98,8 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...]) -> N
                         nt.tie = _tie("start")
                     elif pc.tie_stop:
                         nt.tie = _tie("stop")
+                    if j == 0 and vl.layer.role == "hits":   # a hit is played accented
+                        nt.articulations.append(_articulation("accent"))
                     if j == 0 and not entered:      # a dynamic at the entrance
                         measures[pc.measure].insert(_offset(pc.offset), dynamics.Dynamic(vl.layer.dynamics))
                         entered = True
@@ -97,6 +112,9 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...]) -> N
             measures[-1].rightBarline = bar.Barline("final")
             for m in measures:
                 p.append(m)
+            for nt in p.recurse().notes:      # accidentals as the key signature reads them
+                nt.pitch.accidental = None if nt.pitch.alter == 0 else nt.pitch.accidental
+            makeNotation.makeAccidentalsInMeasureStream(p)
             score.insert(0, p)
             new_parts.append(p)
             index += 1
