@@ -179,17 +179,20 @@ def build_chain(
 ) -> Chain:
     """Grow ``motif`` into an RI chain of ``statements`` statements."""
     motif = tuple(int(p) for p in motif)
+    links: tuple[int, ...]
     if isinstance(overlap, int):
         links = (overlap,) * max(statements - 1, 0)
-        given_one = True
+        checked: tuple[int, ...] = links or (overlap,)
+        spare = overlap
     else:
         links = tuple(int(o) for o in overlap)
-        given_one = False
         if len(links) != max(statements - 1, 0):
             raise ChainError(
                 f"{len(links)} overlaps given for {statements} statements",
                 where="overlaps", accepted=f"one overlap per link: {max(statements - 1, 0)} values")
-    _check_inputs(motif, statements, links if links else ((overlap,) if given_one else ()))
+        checked = links
+        spare = links[0] if links else 2
+    _check_inputs(motif, statements, checked)
     n = len(motif)
     total = n + sum(n - o for o in links)
     if total > MAX_NOTES:
@@ -199,7 +202,7 @@ def build_chain(
     # build statements, plus two extra virtual ones for the design properties
     stmts: list[Statement] = [Statement(1, "P", 0, motif, 0, "start")]
     line = list(motif)
-    virtual_links = list(links) + [links[0] if links else (overlap if given_one else 2)] * 2
+    virtual_links: list[int] = list(links) + [links[0] if links else spare] * 2
     for j, o in enumerate(virtual_links, start=1):
         prev = stmts[-1]
         kind = _link_kind(prev.pitches[n - o:])
@@ -278,20 +281,20 @@ def place_in_range(line: Sequence[int], lead_range: tuple[int, int]) -> tuple[in
         cands.append(c)
     # dynamic programme: cost[j] for the j-th candidate of the current note
     inf = float("inf")
-    cost = [abs(q - line[0]) * 0.01 for q in cands[0]]
+    cost: list[float] = [abs(q - line[0]) * 0.01 for q in cands[0]]
     back: list[list[int]] = []
     for i in range(1, len(line)):
-        new_cost = []
-        new_back = []
+        new_cost: list[float] = []
+        new_back: list[int] = []
         raw_step = line[i] - line[i - 1]
         for q in cands[i]:
             best, arg = inf, 0
             for j, r in enumerate(cands[i - 1]):
                 step = q - r
                 # leap size, plus a penalty for reversing the written direction
-                c = cost[j] + abs(step) + (3 if step * raw_step < 0 else 0)
-                if c < best:
-                    best, arg = c, j
+                total = cost[j] + abs(step) + (3 if step * raw_step < 0 else 0)
+                if total < best:
+                    best, arg = total, j
             new_cost.append(best + abs(q - line[i]) * 0.01)
             new_back.append(arg)
         cost = new_cost

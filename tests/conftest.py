@@ -14,6 +14,11 @@ from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
+from hypothesis import settings
+
+# no per-example deadline: CI machines are shared and the first example pays imports
+settings.register_profile("arrange", deadline=None)
+settings.load_profile("arrange")
 
 ROOT = Path(__file__).resolve().parent.parent
 DEMOS = ROOT / "demo_projects"

@@ -58,7 +58,7 @@ def test_shared_notes_and_transposed_repeats(motif: list[int], k: int, o: int) -
                 assert shift == c.transposition
 
 
-@settings(max_examples=60)
+@settings(max_examples=60, deadline=None)
 @given(st.lists(st.integers(min_value=55, max_value=79), min_size=3, max_size=7, unique=True),
        st.integers(min_value=2, max_value=6))
 def test_statements_match_music21_serial_forms(motif: list[int], k: int) -> None:
