@@ -272,10 +272,14 @@ def _findings(harmonized: Harmonized, voiced: Voiced, layer: Layer, notes: tuple
                 f"{name}, bar {bars[i]}: {sec.parts[0].name} {pitch_name(n.pitches[0])} sits at or "
                 f"above the lead section's lowest note {pitch_name(min(lows))}", "warning", None, i))
         layer_row = np.array([n.pitches], dtype=np.int64)
+        seen: set[tuple[int, int, int, int]] = set()
         for e, _w, pitches in snd:
             hits = clash_pairs(layer_row, np.array(pitches, dtype=np.int64), n.chord)[0]
             for j, q in zip(*np.nonzero(hits), strict=True):
                 a, b = n.pitches[int(j)], pitches[int(q)]
+                if (int(j), int(q), a, b) in seen:     # one finding per pair while the chord holds
+                    continue
+                seen.add((int(j), int(q), a, b))
                 kind = "clash-minor-second" if abs(a - b) == 1 else "clash-minor-ninth"
                 what = "a minor second" if abs(a - b) == 1 else (
                     "a minor ninth" if abs(a - b) == 13 else "a compound minor ninth")

@@ -55,7 +55,7 @@ def layer_rules() -> LayerRules:
             int(d["shape"]["max_gap"]), int(d["shape"]["max_bottom_gap"]),
             tuple((k, float(v)) for k, v in d["weights"].items()),
             tuple((k, int(v)) for k, v in d["velocity"].items()))
-        for k in ("above_lead", "above_lead_step", "clash", "choice", "doubled", "leap"):
+        for k in ("above_lead", "above_lead_step", "clash", "choice", "missing_guide", "doubled", "leap"):
             lr.weight(k)
         for k in ("pad_rhythm", "hits_rhythm", "pad_dynamics", "hits_dynamics"):
             lr.default(k)
@@ -98,7 +98,8 @@ def tone_order(chord: Chord) -> tuple[int, ...]:
 
 def pc_sets(chord: Chord, n: int) -> list[tuple[tuple[int, ...], float]]:
     """Multisets of ``n`` pitch classes to voice, each with its preference cost.
-    The guide tones are always in (when ``n`` allows); more parts than tones double
+    Leaving out a guide tone costs ``missing_guide`` (so a pad drops one only to
+    avoid a clash with the lead section); more parts than tones double
     root, then fifth, then the rest in order."""
     lr = layer_rules()
     order = tone_order(chord)
@@ -115,9 +116,8 @@ def pc_sets(chord: Chord, n: int) -> list[tuple[tuple[int, ...], float]]:
     out = []
     for combo in combinations(range(len(order)), n):
         pcs = tuple(order[i] for i in combo)
-        if n >= len(guides) and not set(guides) <= set(pcs):
-            continue
-        out.append((pcs, lr.weight("choice") * (sum(combo) - best)))
+        missing = len(set(guides) - set(pcs)) if n >= len(guides) else 0
+        out.append((pcs, lr.weight("choice") * (sum(combo) - best) + lr.weight("missing_guide") * missing))
     return out
 
 
