@@ -79,29 +79,65 @@ def _in_project(err: ArrangeError, project: Project, table: str) -> ArrangeError
 
 
 def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
+                   notes: list[str] | None = None,
                    layers: tuple[VoicedLayer, ...] = ()) -> dict[str, bytes]:
-    """Every asked file as bytes, in memory, before anything is written."""
+    """Every asked file as bytes, in memory, before anything is written.  One-line
+    notices (audio skipped, say) are appended to ``notes``."""
     files: dict[str, bytes] = {}
     slug = project.slug
-    if "musicxml" in formats or "preview" in formats:
+    out = project.output
+    info = None
+    if "musicxml" in formats or "preview" in formats or out.parts:
         from .writers.musicxml import ScoreInfo, musicxml_bytes
 
-        xml = musicxml_bytes(voiced, ScoreInfo(project.title, project.tempo, _style(project)), layers)
+        info = ScoreInfo(project.title, project.tempo, _style(project), dynamics=out.dynamics,
+                         analysis=out.analysis, concert=out.concert_score, version=__version__)
+        xml = musicxml_bytes(voiced, info, layers)
         if "musicxml" in formats:
             files[f"{slug}.musicxml"] = xml
-    if "midi" in formats:
-        from .writers.midi import midi_bytes
+        if "preview" in formats:
+            from .writers.preview import have_png, png_bytes, svg_bytes
 
-        files[f"{slug}.mid"] = midi_bytes(voiced, project.tempo, layers)
+            svg = svg_bytes(xml)
+            files[f"{slug}.svg"] = svg
+            if have_png():
+                files[f"{slug}.png"] = png_bytes(svg)
+            elif notes is not None:
+                notes.append("preview: PNG skipped, cairosvg is not installed (pip install cairosvg)")
+    if out.parts and info is not None:
+        from .project import slugify
+        from .writers.musicxml import part_bytes
+
+        for k, part_xml in part_bytes(voiced, info).items():
+            name = voiced.section.parts[k].name
+            files[f"{slug}.part{k + 1:02d}-{slugify(name)}.musicxml"] = part_xml
+    midi = None
+    if "midi" in formats or out.audio:
+        from .writers.midi import MidiOptions, midi_bytes
+
+        midi = midi_bytes(voiced, project.tempo,
+                          MidiOptions(out.dynamics, out.humanize, out.seed, out.rhythm_section),
+                          layers)
+        if "midi" in formats:
+            files[f"{slug}.mid"] = midi
+    if out.audio and midi is not None:
+        from .writers.audio import missing_message, wav_bytes
+
+        wav = wav_bytes(midi)
+        if wav is not None:
+            files[f"{slug}.wav"] = wav
+        elif notes is not None:
+            notes.append(missing_message() or "audio skipped")
     if "report" in formats:
         from .writers.report import report_data, report_json, report_markdown
 
-        data = report_data(voiced, title=project.title, tempo=project.tempo, version=__version__)
+        data = report_data(voiced, title=project.title, tempo=project.tempo, version=__version__,
+                           dynamics=out.dynamics)
         if layers:
             from .writers.layers import layer_warnings, layers_data
 
             data["layers"] = layers_data(layers)
-            data["warnings"] = list(data["warnings"]) + layer_warnings(layers)
+            data["warnings"] = list(data["warnings"]) + layer_warnings(layers, data["events"])
         files[f"{slug}.report.json"] = report_json(data)
         files[f"{slug}.report.md"] = report_markdown(data)
     return files
@@ -112,11 +148,12 @@ def _style(project: Project) -> str:
             "latin": "Latin"}.get(project.rhythm.groove, project.rhythm.groove.title())
 
 
-def write_outputs(project: Project, out_dir: Path, formats: tuple[str, ...] | None = None) -> BuildResult:
+def write_outputs(project: Project, out_dir: Path, formats: tuple[str, ...] | None = None,
+                  notes: list[str] | None = None) -> BuildResult:
     from .writers.files import write_batch
 
     voiced = run_pipeline(project)
     layers = run_layers(project, voiced)
-    files = render_outputs(project, voiced, formats or project.output.formats, layers)
+    files = render_outputs(project, voiced, formats or project.output.formats, notes, layers)
     paths = write_batch(out_dir, files)
     return BuildResult(voiced, tuple(paths), layers)

@@ -139,38 +139,77 @@ def _chain_table(c: Any) -> str:
 @click.option("-o", "--out", "out_dir", default="out", show_default=True,
               type=click.Path(file_okay=False, path_type=Path), help="Output folder.")
 @click.option("--formats", default=None, help="Comma list: musicxml,midi,report,preview.")
+@click.option("--parts/--no-parts", default=None, help="Also write one MusicXML file per part.")
+@click.option("--analysis/--no-analysis", default=None,
+              help="Statement labels and approach techniques on the score.")
+@click.option("--audio/--no-audio", default=None,
+              help="Also render a WAV through fluidsynth (when installed).")
 @click.option("--vary", "vary", multiple=True, metavar="KEY=V1,V2",
               help="Build every combination into its own folder, with DIR/variants.md "
               "(e.g. voicing=close,drop2; repeatable).")
 @guarded
-def build(project: Path, out_dir: Path, formats: str | None, vary: tuple[str, ...] = ()) -> None:
+def build(project: Path, out_dir: Path, formats: str | None, parts: bool | None,
+          analysis: bool | None, audio: bool | None, vary: tuple[str, ...] = ()) -> None:
     """Build PROJECT.toml into score, MIDI and report files in the output folder."""
-    from .build import write_outputs
-    from .errors import OutputError
-    from .project import FORMATS, load_project
+    from .project import load_project
 
-    proj = load_project(project)
-    fmts = None
-    if formats is not None:
-        fmts = tuple(f.strip() for f in formats.split(",") if f.strip())
-        bad = [f for f in fmts if f not in FORMATS]
-        if bad or not fmts:
-            raise OutputError(f"format {bad[0] if bad else formats!r} is not known", where="--formats",
-                              accepted=", ".join(FORMATS))
+    proj = _with_flags(load_project(project), parts, analysis, audio)
+    fmts = _formats(formats)
     if vary:
         from .variants import build_variants
 
-        click.echo(f"building {proj.title} in every combination of {len(vary)} varied keys ...", err=True)
-        for p in build_variants(project, vary, out_dir, fmts):
+        click.echo(f"{proj.title}: every combination of {len(vary)} varied keys ...", err=True)
+        for p in build_variants(project, vary, out_dir, fmts,
+                                adjust=lambda pr: _with_flags(pr, parts, analysis, audio)):
             click.echo(str(p))
         return
-    click.echo(f"building {proj.title} ...", err=True)
-    result = write_outputs(proj, out_dir, fmts)
-    for p in result.files:
+    _build_one(proj, out_dir, fmts, label=proj.title)
+
+
+def _formats(formats: str | None) -> tuple[str, ...] | None:
+    from .errors import OutputError
+    from .project import FORMATS
+
+    if formats is None:
+        return None
+    fmts = tuple(f.strip() for f in formats.split(",") if f.strip())
+    bad = [f for f in fmts if f not in FORMATS]
+    if bad or not fmts:
+        raise OutputError(f"format {bad[0] if bad else formats!r} is not known", where="--formats",
+                          accepted=", ".join(FORMATS))
+    return fmts
+
+
+def _with_flags(proj: Any, parts: bool | None, analysis: bool | None, audio: bool | None) -> Any:
+    from dataclasses import replace
+
+    out = proj.output
+    changes = {k: v for k, v in (("parts", parts), ("analysis", analysis), ("audio", audio))
+               if v is not None}
+    return replace(proj, output=replace(out, **changes)) if changes else proj
+
+
+def _build_one(proj: Any, out_dir: Path, fmts: tuple[str, ...] | None, *, label: str) -> None:
+    """Run the pipeline and the writers, saying on stderr what is being done."""
+    from .build import render_outputs, run_layers, run_pipeline
+    from .writers.files import write_batch
+
+    err = sys.stderr.isatty()
+    click.echo(f"{label}: voicing ...", err=True, nl=not err)
+    voiced = run_pipeline(proj)
+    click.echo(("\r" if err else "") + f"{label}: writing ...", err=True, nl=not err)
+    notes: list[str] = []
+    layers = run_layers(proj, voiced)
+    files = render_outputs(proj, voiced, fmts or proj.output.formats, notes, layers)
+    paths = write_batch(out_dir, files)
+    click.echo(("\r" if err else "") + f"{label}: {len(paths)} files" + " " * 8, err=True)
+    for p in paths:
         click.echo(str(p))
-    n = result.warnings
+    for note in notes:
+        click.echo(f"arrange: {note}", err=True)
+    n = len(voiced.findings) + len(voiced.harmonized.warnings) + sum(len(v.findings) for v in layers)
     if n:
-        click.echo(f"{n} warning{'s' if n != 1 else ''}: see the report", err=True)
+        click.echo(f"{label}: {n} warning{'s' if n != 1 else ''}: see the report", err=True)
 
 
 def demo_dir() -> Path:
@@ -182,19 +221,18 @@ def demo_dir() -> Path:
 @main.command()
 @click.option("-o", "--out", "out_dir", default="out", show_default=True,
               type=click.Path(file_okay=False, path_type=Path), help="Output folder.")
+@click.option("--parts/--no-parts", default=None, help="Also write one MusicXML file per part.")
+@click.option("--analysis/--no-analysis", default=None, help="Analysis labels on the scores.")
+@click.option("--audio/--no-audio", default=None, help="Also render WAVs (when fluidsynth is installed).")
 @guarded
-def demo(out_dir: Path) -> None:
+def demo(out_dir: Path, parts: bool | None, analysis: bool | None, audio: bool | None) -> None:
     """Build every bundled demo project into the output folder."""
-    from .build import write_outputs
     from .project import load_project
 
     projects = sorted(demo_dir().glob("*.toml"))
     for i, path in enumerate(projects, start=1):
-        click.echo(f"[{i}/{len(projects)}] {path.name}", err=True)
-        proj = load_project(path)
-        result = write_outputs(proj, out_dir)
-        for p in result.files:
-            click.echo(str(p))
+        proj = _with_flags(load_project(path), parts, analysis, audio)
+        _build_one(proj, out_dir, None, label=f"[{i}/{len(projects)}] {path.stem}")
 
 
 @main.command()

@@ -37,6 +37,14 @@ class ChainSpec:
 @dataclass(frozen=True, slots=True)
 class OutputSpec:
     formats: tuple[str, ...]
+    dynamics: tuple[str, ...] = ("mf",)   # one per statement; the last holds for the rest
+    analysis: bool = False                # statement labels, approach techniques
+    parts: bool = False                   # one MusicXML per part as well
+    concert_score: bool = False           # the score at concert pitch (parts stay transposed)
+    rhythm_section: bool = False          # MIDI bass and drums mock-up
+    humanize: float = 0.0                 # milliseconds of seeded timing spread (0 = none)
+    seed: int = 1
+    audio: bool = False                   # a WAV through fluidsynth when installed
 
 
 @dataclass(frozen=True, slots=True)
@@ -62,12 +70,26 @@ def slugify(title: str) -> str:
     return slug[:60].strip("-") or "untitled"
 
 
-def _chain(t: Table) -> ChainSpec:
+def _chain(t: Table, base: Path | None = None) -> ChainSpec:
     motif_raw = t.raw("motif")
-    try:
-        motif = parse_pitches(motif_raw, where=t.at("motif"))
-    except ArrangeError as err:
-        raise ProjectError(err.what, where=err.where, accepted=err.accepted) from None
+    if isinstance(motif_raw, str) and motif_raw.strip().startswith("file:"):
+        from .motif_file import read_motif_file
+
+        count = t.integer("motif_length", 4, low=2, high=64)
+        name = motif_raw.strip()[5:].strip()
+        if not name:
+            raise t.error("motif", f"{motif_raw!r} names no file",
+                          "\"file:NAME.musicxml\" or \"file:NAME.mid\", relative to the project file")
+        path = Path(name) if Path(name).is_absolute() else (base or Path.cwd()) / name
+        motif = read_motif_file(path, count, where=t.at("motif"))
+    else:
+        if t.has("motif_length"):
+            raise t.error("motif_length", "motif_length is given but the motif is not a file",
+                          "motif_length only with motif = \"file:...\"")
+        try:
+            motif = parse_pitches(motif_raw, where=t.at("motif"))
+        except ArrangeError as err:
+            raise ProjectError(err.what, where=err.where, accepted=err.accepted) from None
     if not 2 <= len(motif) <= 64:
         raise t.error("motif", f"the motif has {len(motif)} note{'s' if len(motif) != 1 else ''}",
                       "a motif of 2 to 64 notes")
@@ -104,8 +126,23 @@ def _output(t: Table) -> OutputSpec:
     for f in raw:
         if f not in FORMATS:
             raise t.error("formats", f"format {f!r} is not known", ", ".join(FORMATS))
+    from .writers.marks import DYNAMICS
+
+    dyn = t.raw("dynamics", "mf")
+    dyn_list = [dyn] if isinstance(dyn, str) else dyn
+    if not isinstance(dyn_list, list) or not dyn_list or \
+            any(not isinstance(d, str) or d not in DYNAMICS for d in dyn_list):
+        raise t.error("dynamics", f"{dyn!r}", "a dynamic or a list of them, one per statement "
+                      "(the last holds for the rest), from " + ", ".join(DYNAMICS))
+    spec = OutputSpec(
+        tuple(dict.fromkeys(raw)), tuple(dyn_list),
+        analysis=t.boolean("analysis", False), parts=t.boolean("parts", False),
+        concert_score=t.boolean("concert_score", False),
+        rhythm_section=t.boolean("rhythm_section", False),
+        humanize=t.number("humanize", 0.0, low=0, high=60),
+        seed=t.integer("seed", 1, low=0, high=2**31 - 1), audio=t.boolean("audio", False))
     t.finish()
-    return OutputSpec(tuple(dict.fromkeys(raw)))
+    return spec
 
 
 def project_from_data(data: dict[str, object], where: str, path: Path | None = None) -> Project:
@@ -123,7 +160,7 @@ def project_from_data(data: dict[str, object], where: str, path: Path | None = N
         key = harmony.parse_key(top.string("key", "C major"), where=top.at("key"))
     except ArrangeError as err:
         raise ProjectError(err.what, where=err.where, accepted=err.accepted) from None
-    chain = _chain(top.sub("chain", required=True))
+    chain = _chain(top.sub("chain", required=True), path.parent if path else None)
     rhythm_opts = rhythm.read_options(top.sub("rhythm"))
     harmony_opts = harmony.read_options(top.sub("harmony", required=True))
     sec_table = top.sub("section", required=True)

@@ -12,6 +12,7 @@ gets a table: combination, warnings, lead span, lowest note, and a picture.
 from __future__ import annotations
 
 import tomllib
+from collections.abc import Callable
 from copy import deepcopy
 from dataclasses import dataclass
 from itertools import product
@@ -149,7 +150,8 @@ def _read(data: dict[str, Any], where: str, path: Path | None, vary_where: str) 
 
 
 def build_variants(project_path: Path, specs: tuple[str, ...], out_dir: Path,
-                   formats: tuple[str, ...] | None = None) -> list[Path]:
+                   formats: tuple[str, ...] | None = None,
+                   adjust: Callable[[Project], Project] | None = None) -> list[Path]:
     """Build every combination into ``out_dir/<folder>/`` and write ``variants.md``."""
     from .build import render_outputs, run_layers, run_pipeline
     from .writers.files import write_batch
@@ -159,13 +161,15 @@ def build_variants(project_path: Path, specs: tuple[str, ...], out_dir: Path,
     p = Path(project_path)
     data = tomllib.loads(p.read_text(encoding="utf-8"))
     variants = expand(data, varies, p.name, p.resolve())
+    if adjust is not None:                     # the command line's own flags (--parts, ...)
+        variants = [Variant(v.name, v.folder, adjust(v.project)) for v in variants]
     rendered = []
     for var in variants:                       # everything in memory before a file is written
         try:
             voiced = run_pipeline(var.project)
             layers = run_layers(var.project, voiced)
             fmts = formats or var.project.output.formats
-            files = render_outputs(var.project, voiced, fmts, layers)
+            files = render_outputs(var.project, voiced, fmts, layers=layers)
         except ArrangeError as err:
             raise type(err)(err.what, where=f"--vary {var.name}: {err.where or ''}".rstrip(": "),
                             accepted=err.accepted) from None

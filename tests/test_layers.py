@@ -16,7 +16,7 @@ from pathlib import Path
 import pytest
 from conftest import BASIC, DEMOS, run_cli, snapshot, write_project
 
-DEMO = DEMOS / "night-ferry.toml"
+DEMO = DEMOS / "copper-coast-transition.toml"
 
 PAD = '''
 [[layers]]
@@ -33,7 +33,7 @@ def demo(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, dict]:
     out = tmp_path_factory.mktemp("layers")
     r = run_cli("build", str(DEMO), "-o", str(out))
     assert r.exit_code == 0, r.output
-    return out, json.loads((out / "night-ferry.report.json").read_text())
+    return out, json.loads((out / "copper-coast-transition.report.json").read_text())
 
 
 def _m21_figure(symbol: str) -> str:
@@ -84,6 +84,7 @@ def test_pad_changes_only_at_chord_changes_or_rhythm(demo) -> None:
 
 def test_pad_tones_are_chord_tones_or_tensions(demo) -> None:
     _, report = demo
+    both = 0
     for n in report["layers"][0]["notes"]:
         from music21 import harmony
 
@@ -97,9 +98,12 @@ def test_pad_tones_are_chord_tones_or_tensions(demo) -> None:
             tensions |= {(root + 1) % 12, (root + 3) % 12, (root + 8) % 12}
         for p in n["pitches"]:
             assert p % 12 in tones | tensions, (n["chord"], p)
-        # guide tones first: the third is always in (common practice)
-        third = cs.third.pitchClass
-        assert third in {p % 12 for p in n["pitches"]}
+        # guide tones first (common practice): the third or the seventh always sounds;
+        # one gives way only to avoid a clash with the lead section
+        guides = {cs.third.pitchClass, cs.seventh.pitchClass if cs.seventh else cs.third.pitchClass}
+        assert guides & {p % 12 for p in n["pitches"]}
+        both += guides <= {p % 12 for p in n["pitches"]}
+    assert both >= len(report["layers"][0]["notes"]) / 2
 
 
 def test_pad_sits_below_the_lead_or_says_so(demo) -> None:
@@ -213,7 +217,7 @@ def test_score_with_layers_validates_and_rereads(demo, musicxml_schema) -> None:
     from music21 import converter, layout
 
     out, report = demo
-    path = out / "night-ferry.musicxml"
+    path = out / "copper-coast-transition.musicxml"
     musicxml_schema.validate(str(path))                        # MusicXML 4.0 XSD
     score = converter.parse(str(path))                          # music21 re-reads it
     lead = [p["name"] for p in report["section"]["parts"]]
@@ -239,12 +243,13 @@ def test_midi_has_layer_tracks_at_the_layer_dynamic(demo) -> None:
     import mido
 
     out, report = demo
-    mf = mido.MidiFile(str(out / "night-ferry.mid"))            # Standard MIDI File via mido
+    mf = mido.MidiFile(str(out / "copper-coast-transition.mid"))            # Standard MIDI File via mido
     n_lead = len(report["section"]["parts"])
     layer = report["layers"][0]
-    assert len(mf.tracks) == 1 + n_lead + len(layer["parts"])
+    rhythm_section = 2 if any(t.name in ("Bass", "Drums") for t in mf.tracks) else 0
+    assert len(mf.tracks) == 1 + n_lead + rhythm_section + len(layer["parts"])
     lead_vel = {m.velocity for m in mf.tracks[1] if m.type == "note_on" and m.velocity}
-    for k, track in enumerate(mf.tracks[1 + n_lead:]):
+    for k, track in enumerate(mf.tracks[-len(layer["parts"]):]):
         assert track.name == layer["parts"][k]["name"]
         ons = [m for m in track if m.type == "note_on" and m.velocity > 0]
         assert [m.note for m in ons] == [x["pitches"][k] for x in layer["notes"]]

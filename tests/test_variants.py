@@ -10,7 +10,7 @@ import json
 from pathlib import Path
 
 import pytest
-from conftest import DEMOS, run_cli, snapshot, write_project
+from conftest import BASIC, run_cli, snapshot, write_project
 
 from arrange.pitch import pitch_name
 
@@ -20,10 +20,21 @@ def _rows(md: str) -> list[list[str]]:
     return [[c.strip() for c in ln.strip("|").split("|")] for ln in lines[2:]]   # after header + rule
 
 
+# a trumpet soli over a trombone pad (our own test scenario)
+PROJECT = BASIC.replace('name = "trombones-4"', 'name = "trumpets-4"') + '''
+[[layers]]
+section = "trombones-4"
+role = "pad"
+rhythm = "2"
+'''
+SLUG = "test-cue"
+
+
 @pytest.fixture(scope="module")
 def varied(tmp_path_factory: pytest.TempPathFactory) -> Path:
     out = tmp_path_factory.mktemp("variants")
-    r = run_cli("build", str(DEMOS / "night-ferry.toml"), "--vary", "voicing=close,drop2,spread",
+    src = write_project(tmp_path_factory.mktemp("src"), PROJECT)
+    r = run_cli("build", str(src), "--vary", "voicing=close,drop2,spread",
                 "--vary", "groove=swing,latin", "-o", str(out))
     assert r.exit_code == 0, r.output
     return out
@@ -45,7 +56,7 @@ def test_each_variant_is_what_its_row_says(varied: Path, musicxml_schema) -> Non
     for row in _rows((varied / "variants.md").read_text()):
         name, folder_link, warnings, span, lowest, picture = row
         folder = varied / folder_link.split("](")[1].rstrip("/)")
-        report = json.loads((folder / "night-ferry.report.json").read_text())
+        report = json.loads((folder / f"{SLUG}.report.json").read_text())
         voicing = name.split(",")[0].split("=")[1]
         groove = name.split("groove=")[1]
         assert {e["voicing"] for e in report["events"]} == {voicing}
@@ -61,20 +72,20 @@ def test_each_variant_is_what_its_row_says(varied: Path, musicxml_schema) -> Non
         assert (varied / target).is_file()
         if target.endswith(".musicxml"):
             assert "no preview" in picture
-        score = folder / "night-ferry.musicxml"
+        score = folder / f"{SLUG}.musicxml"
         musicxml_schema.validate(str(score))                     # MusicXML 4.0 XSD
         assert len(converter.parse(str(score)).parts) == 8      # music21: 4 lead + 4 pad parts
 
 
 def test_dotted_key_and_layer_key(tmp_path: Path) -> None:
     out = tmp_path / "out"
-    r = run_cli("build", str(DEMOS / "night-ferry.toml"), "--vary", "section.voicing=drop2",
+    r = run_cli("build", str(write_project(tmp_path, PROJECT)), "--vary", "section.voicing=drop2",
                 "--vary", "layers.1.role=pad,hits", "--vary", "tempo=92,120", "-o", str(out))
     assert r.exit_code == 0, r.output
     assert len(_rows((out / "variants.md").read_text())) == 4
     roles = set()
     for folder in (p for p in out.iterdir() if p.is_dir()):
-        report = json.loads((folder / "night-ferry.report.json").read_text())
+        report = json.loads((folder / f"{SLUG}.report.json").read_text())
         roles.add(report["layers"][0]["role"])
         assert report["tempo"] in (92, 120)
     assert roles == {"pad", "hits"}
@@ -90,7 +101,7 @@ def test_dotted_key_and_layer_key(tmp_path: Path) -> None:
     ("voicing", "voicing"),
 ])
 def test_unknown_key_or_value_exits_2_before_writing(tmp_path: Path, vary: str, needle: str) -> None:
-    src = write_project(tmp_path, (DEMOS / "night-ferry.toml").read_text(), "p.toml")
+    src = write_project(tmp_path, PROJECT)
     out = tmp_path / "out"
     r = run_cli("build", str(src), "--vary", "voicing=close,drop2", "--vary", vary, "-o", str(out))
     assert r.exit_code == 2, r.output

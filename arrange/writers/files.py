@@ -26,8 +26,20 @@ def _umask() -> int:
     return mask
 
 
+def _unlink(path: Path) -> None:
+    try:
+        path.unlink()
+    except FileNotFoundError:
+        pass
+
+
 def write_batch(folder: Path, files: dict[str, bytes]) -> list[Path]:
-    """Write ``{file name: bytes}`` into ``folder`` atomically; return the paths."""
+    """Write ``{file name: bytes}`` into ``folder`` atomically; return the paths.
+
+    All data goes to temporary names first.  Each existing file is then moved
+    aside to a temporary name before the new one is renamed into place, so if any
+    rename fails every file already replaced is put back: the folder ends as it
+    was, with no temporary file left."""
     folder = Path(folder)
     try:
         folder.mkdir(parents=True, exist_ok=True)
@@ -35,29 +47,40 @@ def write_batch(folder: Path, files: dict[str, bytes]) -> list[Path]:
         raise OutputError(f"cannot create the output folder {str(folder)!r}: {err.strerror}",
                           where="-o", accepted="a folder you can write to") from None
     temps: list[tuple[Path, Path]] = []
+    moved: list[tuple[Path, Path | None]] = []     # (final, its old file moved aside)
     try:
         for name, data in files.items():
             final = safe_name(folder, name)
-            fd, tmp = tempfile.mkstemp(prefix=f".{name}.", suffix=".tmp", dir=folder)
-            temps.append((Path(tmp), final))
+            fd, tmp_name = tempfile.mkstemp(prefix=f".{name}.", suffix=".tmp", dir=folder)
+            temps.append((Path(tmp_name), final))
             with os.fdopen(fd, "wb") as fh:
                 fh.write(data)
-            os.chmod(tmp, 0o666 & ~_umask())
+            os.chmod(tmp_name, 0o666 & ~_umask())
         for tmp, final in temps:
+            if final.is_dir():
+                raise IsADirectoryError(21, "a folder has the output's name", str(final))
+            old = None
+            if final.exists():
+                fd, aside = tempfile.mkstemp(prefix=f".{final.name}.", suffix=".old.tmp", dir=folder)
+                os.close(fd)
+                old = Path(aside)
+                os.replace(final, old)
+            moved.append((final, old))
             os.replace(tmp, final)
-    except OSError as err:
+    except BaseException as err:
+        for final, old in reversed(moved):
+            if old is not None:
+                os.replace(old, final)
+            elif final.exists() and not final.is_dir():
+                _unlink(final)
         for tmp, _ in temps:
-            try:
-                tmp.unlink()
-            except FileNotFoundError:
-                pass
-        raise OutputError(f"cannot write into {str(folder)!r}: {err.strerror}", where="-o",
-                          accepted="a folder you can write to") from None
-    except BaseException:
-        for tmp, _ in temps:
-            try:
-                tmp.unlink()
-            except FileNotFoundError:
-                pass
+            _unlink(tmp)
+        if isinstance(err, OSError):
+            raise OutputError(f"cannot write into {str(folder)!r}: {err.strerror}"
+                              + (f" ({Path(err.filename).name})" if err.filename else ""),
+                              where="-o", accepted="a folder you can write to") from None
         raise
+    for _, old in moved:
+        if old is not None:
+            _unlink(old)
     return [final for _, final in temps]

@@ -28,10 +28,10 @@ def _num(q: Fraction) -> float | int:
 def _bracket(score, parts, name: str) -> None:  # noqa: ANN001
     from music21 import layout
 
-    # the section's name stays in the file as the group's abbreviation; a printed group
-    # name would crowd the part names
+    # no group name: printed beside the part names it would crowd them (``name`` is
+    # kept for the reader of this code: the group is one section)
+    del name
     group = layout.StaffGroup(parts, symbol="bracket", barTogether=True)
-    group.abbreviation = name
     score.insert(0, group)
 
 
@@ -174,10 +174,15 @@ def layers_data(layers: tuple[VoicedLayer, ...]) -> list[dict[str, Any]]:
     return out
 
 
-def layer_warnings(layers: tuple[VoicedLayer, ...]) -> list[dict[str, Any]]:
-    return [{"kind": f.kind, "event": f.event, "part": f.part, "message": f.message,
-             "severity": f.severity, "layer": vl.layer.index, "layer_note": f.note,
-             "other_part": f.other_part} for vl in layers for f in vl.findings]
+def layer_warnings(layers: tuple[VoicedLayer, ...], events: list[dict[str, Any]]) -> list[dict[str, Any]]:
+    """The layers' findings as report warnings (``events``: the report's, for the bar);
+    ``other_part`` is the lead-section part of a clash."""
+    def bar_of(ev: int | None) -> Any:
+        return events[ev]["bar"] if ev is not None and 0 <= ev < len(events) else None
+
+    return [{"kind": f.kind, "event": f.event, "bar": bar_of(f.event), "part": f.part,
+             "message": f.message, "severity": f.severity, "layer": vl.layer.index,
+             "layer_note": f.note, "other_part": f.other_part} for vl in layers for f in vl.findings]
 
 
 def layers_markdown(data: dict[str, Any]) -> list[str]:

@@ -2,19 +2,37 @@
 
 Track 0 carries tempo and meter; then one track per part on its own channel
 (channel 10, the General MIDI percussion channel, is skipped) with its
-General MIDI program.  Notes sound at their performed times; velocities are
-moderate (mf) so a mock-up never starts loud.
+General MIDI program.  Notes sound at their performed times (``perf_onset``, ``perf_duration``: swing is
+played, not written); velocities follow the dynamics of each statement, and the
+default (mf) keeps a mock-up from starting loud.  Nothing is random unless
+``humanize`` is asked for, and then a seeded generator makes it repeatable.
+With ``rhythm_section`` a bass track (framework roots) and a drum track on the
+General MIDI percussion channel (channel 10) are added (see :mod:`.rhythm_section`).
 """
 from __future__ import annotations
 
+import random
+from dataclasses import dataclass
 from fractions import Fraction
 
 from ..voicing import Voiced
+from .marks import dynamic_of
 
-__all__ = ["midi_bytes", "TICKS", "channel_for"]
+__all__ = ["midi_bytes", "MidiOptions", "TICKS", "channel_for", "VELOCITY"]
 
 TICKS = 480          # ticks per quarter note
 DEFAULT_VELOCITY = 80   # mf
+# MIDI velocity per dynamic: the common mapping of notation programs and sample
+# libraries (common practice; no standard fixes it), pp 33 .. ff 112
+VELOCITY = {"ppp": 20, "pp": 33, "p": 49, "mp": 64, "mf": 80, "f": 96, "ff": 112, "fff": 124}
+
+
+@dataclass(frozen=True, slots=True)
+class MidiOptions:
+    dynamics: tuple[str, ...] = ("mf",)
+    humanize: float = 0.0        # milliseconds of timing spread, 0 = none
+    seed: int = 1
+    rhythm_section: bool = False
 
 
 def channel_for(part_index: int) -> int:
@@ -27,8 +45,13 @@ def _tick(q: Fraction) -> int:
     return int(round(q * TICKS))
 
 
-def midi_bytes(voiced: Voiced, tempo: float, layers: tuple = ()) -> bytes:
+def midi_bytes(voiced: Voiced, tempo: float, options: MidiOptions | None = None,
+               layers: tuple = ()) -> bytes:
     from music21 import midi
+
+    opts = options or MidiOptions()
+    rng = random.Random(opts.seed)
+    spread = int(round(opts.humanize / 1000 * tempo / 60 * TICKS))   # ms -> ticks
 
     mf = midi.MidiFile()
     mf.ticksPerQuarterNote = TICKS
@@ -82,11 +105,17 @@ def midi_bytes(voiced: Voiced, tempo: float, layers: tuple = ()) -> bytes:
             pitch = ve.pitches[k]
             on = _tick(n.perf_onset + lead_in)
             off = max(on + 1, _tick(n.perf_onset + n.perf_duration + lead_in) - 1)
+            velocity = VELOCITY[dynamic_of(n.statement, opts.dynamics)]
+            if spread:
+                on = max(0, on + rng.randint(-spread, spread))
+                off = max(on + 1, off + rng.randint(-spread, spread) // 2)
+                velocity = min(127, max(1, velocity + rng.randint(-6, 6)))
             if prev_end.get(pitch, -1) > on:   # never overlap the same key
                 on = prev_end[pitch]
+                off = max(off, on + 1)
             non = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.NOTE_ON, channel=ch)
             non.pitch = pitch
-            non.velocity = DEFAULT_VELOCITY
+            non.velocity = velocity
             noff = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.NOTE_OFF, channel=ch)
             noff.pitch = pitch
             noff.velocity = 0
@@ -94,9 +123,38 @@ def midi_bytes(voiced: Voiced, tempo: float, layers: tuple = ()) -> bytes:
             evs.append((off, 2, noff))
             prev_end[pitch] = off
         mf.tracks.append(track_from(evs, k + 1))
-    if layers:
+    if opts.rhythm_section:
+        from .rhythm_section import bass_notes, drum_notes
+
+        n_parts = len(voiced.section.parts)
+        velocity = VELOCITY[opts.dynamics[0]]
+        for j, (track_name, channel, program, notes) in enumerate((
+                ("Bass", channel_for(n_parts), 33, bass_notes(voiced)),
+                ("Drums", 9, None, drum_notes(voiced)))):
+            evs = []
+            nm = midi.MidiEvent(None, type=midi.MetaEvents.SEQUENCE_TRACK_NAME)
+            nm.data = track_name.encode("utf-8")
+            evs.append((0, 0, nm))
+            if program is not None:
+                pc = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.PROGRAM_CHANGE,
+                                    channel=channel + 1)
+                pc.data = program - 1
+                evs.append((0, 1, pc))
+            for start, length, pitch, accent in notes:
+                on = _tick(start)
+                off = max(on + 1, _tick(start + length) - 1)
+                for kind, tick, vel, order in ((midi.ChannelVoiceMessages.NOTE_ON, on,
+                                                min(127, velocity + accent), 3),
+                                               (midi.ChannelVoiceMessages.NOTE_OFF, off, 0, 2)):
+                    ev = midi.MidiEvent(None, type=kind, channel=channel + 1)
+                    ev.pitch = pitch
+                    ev.velocity = vel
+                    evs.append((tick, order, ev))
+            mf.tracks.append(track_from(evs, n_parts + 1 + j))
+    if layers:   # after the rhythm section's bass channel, when there is one
         from .layers import layer_tracks
 
-        mf.tracks.extend(layer_tracks(layers, len(voiced.section.parts), lead_in, track_from, _tick))
+        first = len(voiced.section.parts) + (1 if opts.rhythm_section else 0)
+        mf.tracks.extend(layer_tracks(layers, first, lead_in, track_from, _tick))
     data: bytes = mf.writestr()
     return data

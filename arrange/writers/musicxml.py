@@ -12,8 +12,9 @@ from fractions import Fraction
 
 from ..notation import pieces
 from ..voicing import Voiced
+from . import marks
 
-__all__ = ["ScoreInfo", "musicxml_bytes", "m21_figure", "swing_ratio"]
+__all__ = ["ScoreInfo", "musicxml_bytes", "part_bytes", "m21_figure", "swing_ratio"]
 
 _INTERVALS = {"unison": "P1", "major second": "M2", "minor third": "m3", "perfect fourth": "P4",
               "perfect fifth": "P5", "major sixth": "M6", "octave": "P8", "major ninth": "M9",
@@ -27,6 +28,11 @@ class ScoreInfo:
     title: str
     tempo: float
     style: str          # the style word printed with the metronome mark
+    dynamics: tuple[str, ...] = ("mf",)   # one per statement; the last holds for the rest
+    analysis: bool = False                # statement labels and approach techniques
+    concert: bool = False                 # concert score instead of a transposed one
+    only_part: int | None = None          # build the single part k (for --parts)
+    version: str = ""
 
 
 def m21_figure(symbol: str) -> str:
@@ -36,13 +42,23 @@ def m21_figure(symbol: str) -> str:
     return symbol.replace("dim7", "o7").replace("maj7", "maj7")
 
 
-def _instrument(part, index: int):  # noqa: ANN001
+def part_abbreviation(part) -> str:  # noqa: ANN001
+    """'Tpt. 2' for 'Trumpet 2': a numbered part name keeps its number in the
+    abbreviation, as score margins show it (common practice)."""
+    words = part.name.split()
+    abbr = part.abbreviation
+    if len(words) > 1 and words[-1].isdigit() and not abbr.rstrip().endswith(words[-1]):
+        return f"{abbr} {words[-1]}"
+    return abbr
+
+
+def _instrument(part, index: int, concert: bool = False):  # noqa: ANN001
     from music21 import instrument, interval
 
     inst = instrument.Instrument()
     spec = part.instrument
     inst.partName = part.name
-    inst.partAbbreviation = part.abbreviation
+    inst.partAbbreviation = part_abbreviation(part)
     inst.instrumentName = spec.name
     inst.instrumentAbbreviation = spec.abbreviation
     inst.instrumentSound = spec.sound
@@ -50,7 +66,7 @@ def _instrument(part, index: int):  # noqa: ANN001
     inst.midiChannel = index if index < 9 else index + 1
     inst.partId = f"P{index + 1}"
     inst.instrumentId = f"P{index + 1}-I1"
-    if spec.transposition:
+    if spec.transposition and not concert:
         name = _INTERVALS[spec.interval]
         # music21's transposition: written -> sounding, so the interval goes down
         ivl = interval.Interval(name)
@@ -68,8 +84,6 @@ def _clef(name: str):  # noqa: ANN202
 def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
     from music21 import (
         bar,
-        dynamics,
-        expressions,
         harmony,
         key,
         metadata,
@@ -89,12 +103,14 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
     score.metadata = metadata.Metadata()
     score.metadata.title = info.title
     score.metadata.movementTitle = info.title
-    statement_starts = {st.start: st for st in line.chain.statements}
     for k, part in enumerate(voiced.section.parts):
+        if info.only_part is not None and k != info.only_part:
+            continue
+        lead = k == (info.only_part or 0)     # this staff carries tempo, marks and symbols
         p = stream.Part(id=f"P{k + 1}")
         p.atSoundingPitch = True
         p.partName = part.name
-        p.partAbbreviation = part.abbreviation
+        p.partAbbreviation = part_abbreviation(part)
         measures = []
         for m_i in range(n_measures):
             m = stream.Measure(number=m_i + 1 - shift)
@@ -102,35 +118,29 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
                 m.showNumber = stream.enums.ShowNumber.NEVER
                 m.paddingLeft = float(bar_len - line.pickup)
             if m_i == 0:
-                m.insert(0, _instrument(part, k))
+                m.insert(0, _instrument(part, k, info.concert))
                 m.insert(0, _clef(part.instrument.clef))
                 mode = hkey.mode if hkey.mode in ("major", "minor") else hkey.mode
                 m.insert(0, key.Key(hkey.tonic_name.replace("b", "-"), mode))
                 m.insert(0, meter.TimeSignature(str(line.meter)))
-                m.insert(0, dynamics.Dynamic("mf"))
-                if k == 0:
+                if lead:
                     beat = note.Note(type="quarter")
                     if line.tempo_scale != 1:      # a shuffle written in 12/8: the dotted quarter
                         beat.duration.dots = 1
-                    m.insert(0, tempo.MetronomeMark(text=info.style, number=info.tempo,
-                                                    referent=beat))
-                    m.insert(0, expressions.TextExpression("Transposed score"))
+                    m.insert(0, marks.style_word(info.style))
+                    m.insert(0, tempo.MetronomeMark(number=info.tempo, referent=beat))
             measures.append(m)
         prev_chord = None
-        for i, ve in enumerate(voiced.events):
+        for ve in voiced.events:
             n = ve.event.note
             cut = pieces(n.onset, n.duration, line.meter, pickup=line.pickup)
-            if k == 0:
+            if lead:
                 m_i, off = cut[0].measure, cut[0].offset
                 if ve.event.chord.symbol != prev_chord:
                     cs = harmony.ChordSymbol(m21_figure(ve.event.chord.symbol))
                     cs.writeAsChord = False
                     measures[m_i].insert(_offset(off), cs)
                     prev_chord = ve.event.chord.symbol
-                if i in statement_starts:
-                    st = statement_starts[i]
-                    measures[m_i].insert(_offset(off), expressions.RehearsalMark(chr(64 + st.index)
-                                         if st.index <= 26 else str(st.index)))
             for j, pc in enumerate(cut):
                 nt = note.Note(ve.pitches[k])
                 nt.duration = _duration(pc.duration)
@@ -143,6 +153,13 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
                 if j == 0 and n.articulation:
                     nt.articulations.append(_articulation(n.articulation))
                 measures[pc.measure].insert(_offset(pc.offset), nt)
+        marks.add_dynamics(measures, voiced, info.dynamics)
+        if lead:
+            marks.add_rehearsal(measures, voiced)
+        if lead and info.analysis:
+            marks.add_analysis(measures, voiced)
+        if lead and info.only_part is None:
+            marks.concert_symbols(measures)
         for m_i, m in enumerate(measures):
             m_start = -line.pickup if shift and m_i == 0 else (m_i - shift) * bar_len
             m_len = line.pickup if shift and m_i == 0 else bar_len
@@ -152,6 +169,11 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
         for m in measures:
             p.append(m)
         score.insert(0, p)
+    if info.only_part is None:
+        marks.add_part_groups(score, voiced.section)
+        marks.page_credits(score, info.title, info.concert)
+    else:
+        marks.page_credits(score, info.title, info.concert, voiced.section.parts[info.only_part].name)
     return score
 
 
@@ -279,4 +301,19 @@ def musicxml_bytes(voiced: Voiced, info: ScoreInfo, layers: tuple = ()) -> bytes
     ratio = swing_ratio(voiced.harmonized.line)
     if ratio is not None:
         data = _add_swing(data, ratio)
-    return data
+    return finish_xml(data, voiced, info)
+
+
+def finish_xml(data: bytes, voiced: Voiced, info: ScoreInfo) -> bytes:
+    """What music21 leaves out: sound ids, measure numbering, our credit line."""
+    from .xmlfinish import finish
+
+    return finish(data, voiced, info)
+
+
+def part_bytes(voiced: Voiced, info: ScoreInfo) -> dict[int, bytes]:
+    """One MusicXML file per part, in written pitch, each with its own marks."""
+    from dataclasses import replace
+
+    return {k: musicxml_bytes(voiced, replace(info, only_part=k, concert=False))
+            for k in range(len(voiced.section.parts))}

@@ -14,7 +14,33 @@ def _num(q: Fraction) -> float | int:
     return int(q) if q.denominator == 1 else float(q)
 
 
-def report_data(voiced: Voiced, *, title: str, tempo: float, version: str) -> dict[str, Any]:
+def _statement_table(voiced: Voiced, dynamics: tuple[str, ...]) -> list[dict[str, Any]]:
+    """Per statement: its first bar, rehearsal letter, dynamic, and the voicing of its notes."""
+    from .marks import dynamic_of, rehearsal_letter
+
+    line = voiced.harmonized.line
+    letters: dict[int, str] = {}
+    out = []
+    for st in line.chain.statements:
+        own = [i for i, ve in enumerate(voiced.events) if ve.event.note.statement == st.index]
+        first_bar = None
+        if st.start < len(voiced.events):
+            n = voiced.events[st.start].event.note
+            first_bar = line.bar_of(n.onset)
+            if first_bar not in letters:
+                letters[first_bar] = rehearsal_letter(len(letters) + 1)
+        voicings = list(dict.fromkeys(voiced.events[i].voicing for i in own))
+        out.append({"statement": st.index, "form": st.form, "transposition": st.transposition,
+                    "bar": first_bar, "rehearsal": letters.get(first_bar) if first_bar is not None else None,
+                    "dynamic": dynamic_of(st.index, dynamics), "voicings": voicings,
+                    "notes": [i for i in own]})
+    return out
+
+
+def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
+                dynamics: tuple[str, ...] = ("mf",)) -> dict[str, Any]:
+    from ..pitch import pitch_name
+
     h = voiced.harmonized
     line = h.line
     parts = [{"name": p.name, "instrument": p.instrument.key,
@@ -28,20 +54,27 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str) -> di
         events.append({
             "index": i, "statement": n.statement, "bar": int(n.onset // line.meter.bar) + 1,
             "onset": _num(n.onset), "duration": _num(n.duration),
+            "beat": _num(n.onset % line.meter.bar * Fraction(line.meter.denominator, 4) + 1),
             "performed_onset": _num(n.perf_onset), "performed_duration": _num(n.perf_duration),
             "weight": n.weight, "articulation": n.articulation, "lead": n.pitch,
+            "lead_name": pitch_name(n.pitch),
             "chord": ev.chord.symbol, "role": ev.role, "technique": ev.technique,
             "lead_function": ev.lead_function, "why": ev.why,
             "voicing": ve.voicing, "pitches": list(ve.pitches),
         })
-    warnings = [{"kind": f.kind, "event": f.event, "part": f.part, "message": f.message,
-                 "severity": f.severity} for f in voiced.findings]
-    warnings += [{"kind": kind, "event": ev, "part": None, "message": msg, "severity": "warning"}
-                 for kind, ev, msg in h.warnings]
+    def bar_of(ev: int | None) -> Any:
+        return events[ev]["bar"] if ev is not None and 0 <= ev < len(events) else None
+
+    warnings = [{"kind": f.kind, "event": f.event, "bar": bar_of(f.event), "part": f.part,
+                 "message": f.message, "severity": f.severity} for f in voiced.findings]
+    warnings += [{"kind": kind, "event": ev, "bar": bar_of(ev), "part": None, "message": msg,
+                  "severity": "warning"} for kind, ev, msg in h.warnings]
     return {
         "title": title, "key": str(h.key), "meter": str(line.meter), "tempo": tempo,
         "groove": line.groove, "generator": f"arrange {version}",
+        "swing": line.swing, "bars": line.bars, "dynamics": list(dynamics),
         "chain": line.chain.to_json(),
+        "statements": _statement_table(voiced, dynamics),
         "rhythm": _rhythm(line),
         "section": {"name": voiced.section.name, "parts": parts},
         "framework": [{"bar": fc.bar, "onset": _num(fc.onset), "duration": _num(fc.duration),
@@ -64,24 +97,46 @@ def report_json(data: dict[str, Any]) -> bytes:
     return (json.dumps(data, indent=2, ensure_ascii=False) + "\n").encode("utf-8")
 
 
+def _cell(text: object) -> str:
+    return str(text if text is not None else "").replace("|", "\\|").replace("\n", " ")
+
+
 def report_markdown(data: dict[str, Any]) -> bytes:
+    from ..pitch import pitch_name
+
     ch = data["chain"]
+    parts = data["section"]["parts"]
     out = [f"# {data['title']}", "",
            f"Key {data['key']}, meter {data['meter']}, tempo {data['tempo']:g}, "
-           f"groove {data['groove']}, section {data['section']['name']}.", "",
+           f"groove {data['groove']}, {data['bars']} bars, section {data['section']['name']} "
+           f"({', '.join(p['name'] for p in parts)}).", "",
            "## Chain", "",
            f"Motif {' '.join(ch['names'][:len(ch['motif'])])}; {len(ch['statements'])} statements, "
            f"overlaps {ch['overlaps']}; {ch['length']} notes; compass after two statements "
            f"{ch['compass_after_two']:+d}; statement 3 lies {ch['transposition']:+d} semitones "
            f"from statement 1; {ch['pitch_classes']} pitch classes.", "",
-           "| statement | form | transposition | starts at note |", "| --- | --- | --- | --- |"]
-    for s in ch["statements"]:
-        out.append(f"| {s['index']} | {s['form']} | {s['transposition']:+d} | {s['start'] + 1} |")
-    out += ["", "## Harmonization", "", "| note | bar | lead | chord | role | technique | why |",
-            "| --- | --- | --- | --- | --- | --- | --- |"]
+           "| statement | form | transposition | starts at note | bar | rehearsal | dynamic |",
+           "| --- | --- | --- | --- | --- | --- | --- |"]
+    for s, st in zip(ch["statements"], data["statements"], strict=True):
+        out.append(f"| {s['index']} | {s['form']} | {s['transposition']:+d} | {s['start'] + 1} | "
+                   f"{st['bar'] or ''} | {st['rehearsal'] or ''} | {st['dynamic']} |")
+    out += ["", "## Harmonization", "",
+            "| note | bar | beat | lead | chord | role | technique | why |",
+            "| --- | --- | --- | --- | --- | --- | --- | --- |"]
     for e in data["events"]:
-        out.append(f"| {e['index'] + 1} | {e['bar']} | {e['lead']} ({e['lead_function']}) | "
-                   f"{e['chord']} | {e['role']} | {e['technique'] or ''} | {e['why']} |")
+        out.append(f"| {e['index'] + 1} | {e['bar']} | {e['beat']:g} | {e['lead_name']} "
+                   f"({_cell(e['lead_function'])}) | {_cell(e['chord'])} | {e['role']} | "
+                   f"{_cell(e['technique'])} | {_cell(e['why'])} |")
+    out += ["", "## Voicing per statement", "",
+            "| statement | bar | voicing | notes | pitches, top to bottom, at the first note |",
+            "| --- | --- | --- | --- | --- |"]
+    events = data["events"]
+    for st in data["statements"]:
+        notes = st["notes"]
+        first = events[notes[0]]["pitches"] if notes else []
+        span = f"{notes[0] + 1}-{notes[-1] + 1}" if notes else "(overlap only)"
+        out.append(f"| {st['statement']} | {st['bar'] or ''} | {', '.join(st['voicings']) or '-'} | "
+                   f"{span} | {' '.join(pitch_name(p) for p in first)} |")
     from .layers import layers_markdown
 
     out += layers_markdown(data)
@@ -89,6 +144,8 @@ def report_markdown(data: dict[str, Any]) -> bytes:
     if not data["warnings"]:
         out.append("None.")
     for w in data["warnings"]:
-        where = f"note {w['event'] + 1}" if w["event"] is not None else "whole passage"
-        out.append(f"- {w['kind']} ({where}{', ' + w['part'] if w['part'] else ''}): {w['message']}")
+        where = (f"bar {w['bar']}, note {w['event'] + 1}" if w["event"] is not None
+                 else "whole passage")
+        who = f", {w['part']}" if w["part"] else ", all parts"
+        out.append(f"- {w['severity']}: {w['kind']} ({where}{who}): {w['message']}")
     return ("\n".join(out) + "\n").encode("utf-8")

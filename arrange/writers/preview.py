@@ -1,0 +1,109 @@
+"""A picture of the score for a user with no notation program.
+
+verovio (a general-purpose engraving library) lays the MusicXML out on pages;
+every page goes into one tall SVG, stacked top to bottom, so the whole
+passage is in one file.  ``png_bytes`` rasterises that SVG through cairosvg
+when it is installed.  Both imports are lazy: without verovio the preview is
+refused with a message that says how to get it.
+"""
+from __future__ import annotations
+
+import re
+
+from ..errors import OutputError
+
+__all__ = ["svg_bytes", "png_bytes", "have_png", "PAGE_WIDTH"]
+
+PAGE_WIDTH = 2100      # verovio units (tenths of a mm): an A4 page width
+PAGE_HEIGHT = 2970
+_SCALE = 40            # percent: a legible picture of a whole A4 page
+_PIXELS = 1.5          # picture pixels per SVG unit: about 1260 pixels across
+
+
+def _toolkit():  # noqa: ANN202
+    try:
+        import verovio
+    except ImportError:
+        raise OutputError("the preview needs the verovio library, which is not installed",
+                          where="formats: preview",
+                          accepted="pip install verovio, or leave 'preview' out of the formats") from None
+    tk = verovio.toolkit()
+    tk.setOptions({"pageWidth": PAGE_WIDTH, "pageHeight": PAGE_HEIGHT, "scale": _SCALE,
+                   "adjustPageHeight": True, "footer": "none", "header": "auto",
+                   "breaks": "auto", "svgViewBox": True, "xmlIdSeed": 1})
+    return tk
+
+
+def pages(musicxml: bytes) -> list[str]:
+    """Each page of the score as an SVG document (verovio's layout)."""
+    tk = _toolkit()
+    if not tk.loadData(musicxml.decode("utf-8")):
+        raise OutputError("verovio could not read the score it was given", where="preview",
+                          accepted="a MusicXML score")
+    return [_plain_text_glyphs(tk.renderToSVG(i)) for i in range(1, tk.getPageCount() + 1)]
+
+
+# SMuFL metronome notes (SMuFL 1.4, "Metronome marks" range) and the plain Unicode
+# music symbols that ordinary fonts carry: verovio writes them in its own music font,
+# which an SVG viewer or cairosvg does not have, so the tempo would show a blank box.
+# The same for the accidentals verovio writes inside chord symbols (its text-flat
+# U+EA64, text-natural U+EA65, text-sharp U+EA66; and the standard SMuFL U+E260-E262).
+_METRONOME_NOTES = {"\ueca5": "\u2669", "\ueca7": "\u266a", "\ueca6": "\u2669",
+                    "\uea64": "\u266d", "\uea65": "\u266e", "\uea66": "\u266f",
+                    "\ue260": "\u266d", "\ue261": "\u266e", "\ue262": "\u266f"}
+_SMUFL_TEXT = re.compile(r'<tspan font-family="Leipzig" font-size="(\d+)px">([^<]*)</tspan>')
+
+
+def _plain_text_glyphs(svg: str) -> str:
+    def swap(m: re.Match[str]) -> str:
+        text = m.group(2)
+        if not text or any(c not in _METRONOME_NOTES for c in text):
+            return m.group(0)
+        size = round(int(m.group(1)) * 0.6)
+        return (f'<tspan font-family="DejaVu Sans, Segoe UI Symbol, sans-serif" font-size="{size}px">'
+                + "".join(_METRONOME_NOTES[c] for c in text) + "</tspan>")
+
+    return _SMUFL_TEXT.sub(swap, svg)
+
+
+_VIEWBOX = re.compile(r'viewBox="0 0 ([\d.]+) ([\d.]+)"')
+
+
+def svg_bytes(musicxml: bytes) -> bytes:
+    """All pages in one SVG, stacked, on a white ground."""
+    docs = pages(musicxml)
+    sizes = []
+    for d in docs:
+        m = _VIEWBOX.search(d)
+        sizes.append((float(m.group(1)), float(m.group(2))) if m else (float(PAGE_WIDTH), float(PAGE_HEIGHT)))
+    width = max(w for w, _ in sizes)
+    height = sum(h for _, h in sizes)
+    body = []
+    y = 0.0
+    for d, (w, h) in zip(docs, sizes, strict=True):
+        inner = d[d.index("<svg"):]
+        inner = re.sub(r'<svg\b', f'<svg x="0" y="{y:g}" width="{w:g}" height="{h:g}"', inner, count=1)
+        body.append(inner)
+        y += h
+    px_w = round(width * _PIXELS)
+    px_h = round(height * _PIXELS)
+    head = ('<?xml version="1.0" encoding="UTF-8"?>\n'
+            f'<svg xmlns="http://www.w3.org/2000/svg" xmlns:xlink="http://www.w3.org/1999/xlink" '
+            f'width="{px_w}" height="{px_h}" viewBox="0 0 {width:g} {height:g}">\n'
+            f'<rect x="0" y="0" width="{width:g}" height="{height:g}" fill="white"/>\n')
+    return (head + "\n".join(body) + "\n</svg>\n").encode("utf-8")
+
+
+def have_png() -> bool:
+    try:
+        import cairosvg  # noqa: F401
+    except (ImportError, OSError):
+        return False
+    return True
+
+
+def png_bytes(svg: bytes) -> bytes:
+    import cairosvg
+
+    data: bytes = cairosvg.svg2png(bytestring=svg, background_color="white")
+    return data
