@@ -25,12 +25,11 @@ def _num(q: Fraction) -> float | int:
     return int(q) if q.denominator == 1 else float(q)
 
 
-def _bracket(score, parts, name: str) -> None:  # noqa: ANN001
+def _bracket(score, parts) -> None:  # noqa: ANN001
+    """One section's parts in a bracketed group (no group name: printed beside the
+    part names it would crowd them)."""
     from music21 import layout
 
-    # no group name: printed beside the part names it would crowd them (``name`` is
-    # kept for the reader of this code: the group is one section)
-    del name
     group = layout.StaffGroup(parts, symbol="bracket", barTogether=True)
     score.insert(0, group)
 
@@ -63,7 +62,7 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...]) -> N
     lead_parts = list(score.parts)
     grouped = {id(p) for g in score.getElementsByClass(layout.StaffGroup) for p in g.getSpannedElements()}
     if lead_parts and not any(id(p) in grouped for p in lead_parts):
-        _bracket(score, lead_parts, voiced.section.name)
+        _bracket(score, lead_parts)
     index = len(lead_parts)
     for vl in layers:
         new_parts = []
@@ -118,7 +117,7 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...]) -> N
             score.insert(0, p)
             new_parts.append(p)
             index += 1
-        _bracket(score, new_parts, f"{vl.layer.section.name} ({vl.layer.role})")
+        _bracket(score, new_parts)
 
 
 def layer_tracks(layers: tuple[VoicedLayer, ...], first_index: int, lead_in: Fraction,
