@@ -78,6 +78,10 @@ def test_pad_changes_only_at_chord_changes_or_rhythm(demo) -> None:
     onsets = [Fraction(n["onset"]) for n in report["layers"][0]["notes"]]
     assert onsets and set(onsets) <= allowed
     assert set(changes) <= set(onsets)          # a chord change always starts a new chord
+    # a pad voices the framework chord sounding at its onset, never an approach chord
+    for n in report["layers"][0]["notes"]:
+        fc = [f for f in report["framework"] if f["onset"] <= n["onset"] < f["onset"] + f["duration"]]
+        assert [f["chord"] for f in fc] == [n["chord"]]
     for n in report["layers"][0]["notes"]:
         assert Fraction(n["duration"]) <= 2
 
