@@ -11,12 +11,12 @@ import tomllib
 from pathlib import Path
 
 import pytest
+from conftest import run_cli, snapshot
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from arrange.errors import ArrangeError
 from arrange.project import project_from_data
-from conftest import run_cli, snapshot
 
 BASE = {
     "title": "Fuzz Base",
