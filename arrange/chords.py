@@ -1,55 +1,64 @@
-"""Chord symbols: parse and format (foundation vocabulary).
+"""Chord symbols: parse and format the jazz chord-symbol vocabulary.
 
-A :class:`Chord` holds its root pitch class, a canonical quality suffix and
-its tones as intervals above the root.
+Accepted (common practice of lead sheets): a root ``A``-``G`` with ``b #`` (or
+``♭ ♯``, double ``bb ##``); triads (major, ``m``, ``dim``/``o``/``°``,
+``aug``/``+``, ``sus2``, ``sus4``/``sus``); ``6``, ``6/9`` (``69``), ``maj7``
+(``M7``, ``Δ``, ``Δ7``), ``m7`` (``-7``, ``min7``), ``m6``, ``m(maj7)``
+(``mmaj7``, ``mM7``), ``7``, ``m7b5`` (``ø``, ``ø7``), ``dim7`` (``°7``, ``o7``),
+``7sus4``; extensions ``9 11 13`` (``maj9``, ``m11``, ``13sus4`` ...);
+alterations ``b5 #5 b9 #9 #11 b13`` (also in parentheses, ``7(b9,#11)``);
+a slash bass (``C7/E``).
+
+:func:`parse_chord` gives a :class:`Chord`; ``Chord.symbol`` is the canonical
+spelling, and ``parse_chord(c.symbol) == c`` for every chord (the round trip).
 """
 from __future__ import annotations
 
+import difflib
 import re
 from dataclasses import dataclass
 
 from .errors import HarmonyError
 
-__all__ = ["Chord", "parse_chord", "QUALITIES", "ROOT_NAMES"]
+__all__ = ["Chord", "parse_chord", "format_chord", "VOCABULARY", "ROOT_NAMES",
+           "interval_name", "spell_name"]
 
-# quality suffix -> intervals above the root (common jazz chord-symbol practice)
-QUALITIES: dict[str, tuple[int, ...]] = {
-    "": (0, 4, 7),
-    "m": (0, 3, 7),
-    "dim": (0, 3, 6),
-    "aug": (0, 4, 8),
-    "6": (0, 4, 7, 9),
-    "m6": (0, 3, 7, 9),
-    "7": (0, 4, 7, 10),
-    "maj7": (0, 4, 7, 11),
-    "m7": (0, 3, 7, 10),
-    "m7b5": (0, 3, 6, 10),
-    "dim7": (0, 3, 6, 9),
-    "sus4": (0, 5, 7),
-    "7sus4": (0, 5, 7, 10),
-}
-# available tensions per quality, intervals above the root (common jazz practice)
-_TENSIONS: dict[str, tuple[int, ...]] = {
-    "": (2, 9), "6": (2,), "maj7": (2, 6, 9), "m": (2, 5), "m6": (2, 5), "m7": (2, 5),
-    "7": (1, 2, 3, 6, 8, 9), "7sus4": (2, 9), "sus4": (2, 9), "m7b5": (5, 8), "dim": (2, 5, 8, 11),
-    "dim7": (2, 5, 8, 11), "aug": (2, 6),
-}
-_ALIASES = {"M7": "maj7", "Δ": "maj7", "Δ7": "maj7", "-": "m", "-7": "m7", "min": "m",
-            "min7": "m7", "ø": "m7b5", "ø7": "m7b5", "°": "dim", "°7": "dim7", "o7": "dim7"}
 ROOT_NAMES = {"C": 0, "D": 2, "E": 4, "F": 5, "G": 7, "A": 9, "B": 11}
-_ROOT_RE = re.compile(r"^([A-G])(bb|b|♭|#|♯)?")
+_LETTERS = "CDEFGAB"
+_ACC = {"": 0, "b": -1, "bb": -2, "#": 1, "##": 2}
+_ROOT_RE = re.compile(r"([A-G])(bb|b|##|#)?")
+_BASS_RE = re.compile(r"/([A-G])(bb|b|##|#)?$")
+_ALT_RE = re.compile(r"([b#+-])(5|9|11|13)")
+_ALT_ORDER = ("b5", "#5", "b9", "#9", "#11", "b13")
+# alteration -> (degree, interval above the root)
+_ALTS = {"b5": (5, 6), "#5": (5, 8), "b9": (9, 1), "#9": (9, 3), "#11": (11, 6), "b13": (13, 8)}
+
+# one symbol per family of the vocabulary, used for suggestions and the music21 cross-check
+VOCABULARY = (
+    "C", "Cm", "Cdim", "Caug", "Csus2", "Csus4", "C6", "C6/9", "Cmaj7", "Cm7", "Cm6", "Cm6/9",
+    "Cm(maj7)", "C7", "Cm7b5", "Cdim7", "C7sus4", "C9", "C11", "C13", "Cmaj9", "Cmaj13",
+    "Cm9", "Cm11", "Cm13", "Cm(maj9)", "C9sus4", "C13sus4", "C7b5", "C7#5", "C7b9", "C7#9",
+    "C7#11", "C7b13", "C7b9#11", "C7#9b13", "C13#11", "C9#11", "Cmaj7#11", "Cmaj7#5",
+    "Cmaj9#11", "C7/E", "Cm7/Bb", "Ebm9", "F#m7b5", "Bb13", "Db7#9", "Abmaj7/C", "Gb6/9",
+)
 
 
 @dataclass(frozen=True, slots=True)
 class Chord:
-    root: int                 # pitch class
-    root_name: str            # as written, e.g. "Bb"
-    quality: str              # canonical suffix
+    """A chord symbol.  ``intervals`` (above the root, 0..11) and ``degrees``
+    (1 3 5 7 9 11 13, or 2 4 6 for sus2, sus4 and sixth) run in stacking order."""
+
+    root: int                      # pitch class
+    root_name: str                 # "Bb", "F#"
+    quality: str                   # canonical suffix without the bass: "m7", "7b9#11", "6/9"
     intervals: tuple[int, ...]
+    degrees: tuple[int, ...] = ()
+    bass: int | None = None        # pitch class of a slash bass
+    bass_name: str | None = None
 
     @property
     def symbol(self) -> str:
-        return f"{self.root_name}{self.quality}"
+        return f"{self.root_name}{self.quality}" + (f"/{self.bass_name}" if self.bass_name else "")
 
     @property
     def pitch_classes(self) -> tuple[int, ...]:
@@ -57,32 +66,240 @@ class Chord:
 
     @property
     def is_dominant(self) -> bool:
-        return 4 in self.intervals and 10 in self.intervals
+        return 4 in self.intervals and 10 in self.intervals and 11 not in self.intervals
 
     @property
     def tensions(self) -> tuple[int, ...]:
-        """Available tensions as intervals above the root (common jazz practice:
-        the chord scale's non-chord tones a whole step above a chord tone, plus
-        the altered tensions on dominants).  The harmony stage refines this."""
-        return _TENSIONS.get(self.quality, (2,))
+        """Available tensions as intervals above the root, from the chord's usual
+        chord scale (common jazz practice; see :mod:`arrange.keys`)."""
+        from .keys import chord_scale_for, tensions_in_scale
+
+        return tensions_in_scale(self.intervals, chord_scale_for(self)[1], self.is_dominant)
+
+    @property
+    def core(self) -> tuple[int, ...]:
+        """The triad, sixth and seventh (degrees 1..7)."""
+        return tuple(i for i, d in zip(self.intervals, self.degrees, strict=True) if d <= 7)
+
+    def degree_of(self, interval: int) -> int | None:
+        for i, d in zip(self.intervals, self.degrees, strict=True):
+            if i == interval % 12:
+                return d
+        return None
 
     def __str__(self) -> str:
         return self.symbol
 
 
+def spell_name(letter: str, semitones: int) -> str:
+    """The name of ``letter`` raised or lowered to the pitch class ``semitones``."""
+    diff = (semitones - ROOT_NAMES[letter] + 6) % 12 - 6
+    return letter + ("#" * diff if diff > 0 else "b" * -diff)
+
+
+def interval_name(root_name: str, interval: int, degree: int) -> str:
+    """Spell the note ``interval`` semitones above ``root_name`` as chord degree ``degree``
+    (stacked thirds: the third of Ab7 is C, the seventh of E7 is D)."""
+    letter = _LETTERS[(_LETTERS.index(root_name[0]) + degree - 1) % 7]
+    return spell_name(letter, ROOT_NAMES[root_name[0]] + _ACC[root_name[1:]] + interval)
+
+
+def _normalise(text: str) -> str:
+    s = text.strip().replace(" ", "").replace("♭", "b").replace("♯", "#")
+    s = re.sub(r"Δ(?![0-9])", "maj7", s.replace("°", "o")).replace("Δ", "maj")
+    return s
+
+
+@dataclass(slots=True)
+class _Parts:
+    third: str = "M"         # M, m, sus2, sus4
+    fifth: int = 7           # 6 (b5), 7, 8 (#5)
+    sixth: bool = False
+    seventh: int | None = None   # 9 (dim7), 10, 11
+    ext: int = 0             # 0, 9, 11, 13
+    alts: tuple[str, ...] = ()
+
+
+def _suggest(text: str) -> str:
+    s = _normalise(text)
+    m = _ROOT_RE.match(s)
+    root = m.group(0) if m else "C"
+    suffixes = dict.fromkeys(_ROOT_RE.sub("", v, count=1) for v in VOCABULARY)
+    pool = [root + q for q in suffixes if "/" not in q or q == "6/9"]
+    close = difflib.get_close_matches(s, pool, n=3, cutoff=0.4)
+    return ("closest: " + ", ".join(close) + "; " if close else "") + \
+        "a root A-G (b #) then a quality such as m, dim, aug, sus4, 6, 6/9, maj7, m7, 7, m7b5, " \
+        "dim7, m(maj7), 7sus4, 9, 13, alterations b5 #5 b9 #9 #11 b13, and an optional /bass"
+
+
 def parse_chord(text: str, *, where: str = "chord") -> Chord:
-    s = text.strip()
+    """Read one chord symbol; raise :class:`HarmonyError` quoting it with close spellings."""
+    if not isinstance(text, str):
+        raise HarmonyError(f"{text!r} is not a chord symbol", where=where, accepted=_suggest(""))
+    s = _normalise(text)
+
+    def bad(why: str) -> HarmonyError:
+        return HarmonyError(f"chord symbol {text!r} {why}", where=where, accepted=_suggest(text))
+
     m = _ROOT_RE.match(s)
     if not m:
-        raise HarmonyError(f"chord symbol {text!r} has no root", where=where,
-                           accepted="a root A-G with b or #, then a quality such as "
-                           + ", ".join(repr(q) for q in QUALITIES))
-    letter, acc = m.group(1), m.group(2) or ""
-    acc = {"♭": "b", "♯": "#"}.get(acc, acc)
-    root = (ROOT_NAMES[letter] + {"": 0, "b": -1, "bb": -2, "#": 1}[acc]) % 12
-    suffix = s[m.end():]
-    suffix = _ALIASES.get(suffix, suffix)
-    if suffix not in QUALITIES:
-        raise HarmonyError(f"chord symbol {text!r} is not known", where=where,
-                           accepted="a root then one of " + ", ".join(repr(q) for q in QUALITIES))
-    return Chord(root, letter + acc, suffix, QUALITIES[suffix])
+        raise bad("has no root")
+    root_name = m.group(1) + (m.group(2) or "")
+    root = (ROOT_NAMES[m.group(1)] + _ACC[m.group(2) or ""]) % 12
+    rest = s[m.end():]
+    bass = bass_name = None
+    bm = _BASS_RE.search(rest)
+    if bm and not rest.endswith("6/9"):
+        bass_name = bm.group(1) + (bm.group(2) or "")
+        bass = (ROOT_NAMES[bm.group(1)] + _ACC[bm.group(2) or ""]) % 12
+        rest = rest[:bm.start()]
+    p = _read_suffix(rest, bad)
+    quality = _format(p)
+    intervals, degrees = _tones(p)
+    if bass == root:
+        bass = bass_name = None
+    return Chord(root, root_name, quality, intervals, degrees, bass, bass_name)
+
+
+def _read_suffix(s: str, bad) -> _Parts:  # noqa: ANN001, C901 - one small grammar, read in order
+    p = _Parts()
+    i = 0
+
+    def take(*options: str) -> str | None:
+        nonlocal i
+        for o in sorted(options, key=len, reverse=True):
+            if s.startswith(o, i):
+                i += len(o)
+                return o
+        return None
+
+    family = None if s.startswith("ma") and not s.startswith("min") \
+        else take("ø", "dim", "o", "aug", "+", "min", "mi", "m", "-")
+    if family == "ø":
+        p.third, p.fifth, p.seventh = "m", 6, 10
+        num = take("7", "9", "11", "13")
+        p.ext = int(num) if num and num != "7" else 0
+    elif family in ("dim", "o"):
+        p.third, p.fifth = "m", 6
+        if take("7"):
+            p.seventh = 9
+    elif family in ("aug", "+"):
+        p.fifth = 8
+        if take("maj7", "M7", "(maj7)"):
+            p.seventh = 11
+        elif take("7"):
+            p.seventh = 10
+    else:
+        if family:
+            p.third = "m"
+        paren = take("(") if s.startswith(("(maj", "(Maj", "(ma", "(M"), i) else None
+        maj = take("maj", "Maj", "ma", "M")
+        num = take("6/9", "69", "6", "7", "9", "11", "13")
+        if paren and (not maj or not take(")")):
+            raise bad(f"has an unclosed or unknown parenthesis at position {i + 1}")
+        if maj and num in ("6", "6/9", "69"):
+            raise bad("mixes maj with a sixth")
+        if maj and not num and p.third == "m":
+            raise bad("needs a number after m(maj, e.g. m(maj7)")
+        if num in ("6", "69", "6/9"):
+            p.sixth = True
+            p.ext = 9 if num != "6" else 0
+        elif num:
+            p.seventh = 11 if maj else 10
+            p.ext = 0 if num == "7" else int(num)
+    sus = take("sus2", "sus4", "sus")
+    if sus:
+        if p.third == "m" or p.fifth != 7 and family:
+            raise bad("puts sus on a minor, diminished or augmented chord")
+        p.third = "sus2" if sus == "sus2" else "sus4"
+    alts: list[str] = []
+    while i < len(s):
+        if take("(", ")", ","):
+            continue
+        m = _ALT_RE.match(s, i)
+        if not m:
+            raise bad(f"has {s[i:]!r} at position {i + 1} of the quality, which no chord symbol has there")
+        a = {"+": "#", "-": "b"}.get(m.group(1), m.group(1)) + m.group(2)
+        if a not in _ALTS:
+            raise bad(f"has the alteration {a!r}, which is not one of " + " ".join(_ALT_ORDER))
+        if a in alts:
+            raise bad(f"repeats the alteration {a!r}")
+        alts.append(a)
+        i = m.end()
+    for a in alts:
+        if a in ("b5", "#5"):
+            if p.fifth != 7:
+                raise bad(f"alters a fifth that is already altered ({a})")
+        elif (a in ("b9", "#9") and p.ext == 9) or (a == "#11" and p.ext == 11) \
+                or (a == "b13" and p.ext == 13):
+            raise bad(f"has {a} beside the natural extension it replaces")
+    if "b5" in alts and "#5" in alts:
+        raise bad("has both b5 and #5")
+    if p.sixth and p.seventh:
+        raise bad("has both a sixth and a seventh")
+    if p.seventh == 9 and (p.ext or alts):
+        raise bad("extends or alters a diminished seventh chord")
+    for a in alts:
+        if a == "b5":
+            p.fifth = 6
+        elif a == "#5":
+            p.fifth = 8
+    p.alts = tuple(a for a in _ALT_ORDER if a in alts and a not in ("b5", "#5"))
+    return p
+
+
+def _format(p: _Parts) -> str:
+    sus = {"sus2": "sus2", "sus4": "sus4"}.get(p.third, "")
+    fifth_alt = {6: "b5", 7: "", 8: "#5"}[p.fifth]
+    if p.seventh is None and not p.sixth:
+        if p.third == "m" and p.fifth == 6:
+            head, fifth_alt = "dim", ""
+        elif p.third == "M" and p.fifth == 8:
+            head, fifth_alt = "aug", ""
+        else:
+            head = ("m" if p.third == "m" else "") + sus
+    elif p.seventh == 9:
+        head, fifth_alt = "dim7", ""
+    else:
+        minor = "m" if p.third == "m" else ""
+        if p.sixth:
+            num = "6/9" if p.ext == 9 else "6"
+        elif p.seventh == 11:
+            num = f"(maj{p.ext or 7})" if minor else f"maj{p.ext or 7}"
+        else:
+            num = str(p.ext or 7)
+        head = minor + num + sus
+    return head + fifth_alt + "".join(p.alts)
+
+
+def _tones(p: _Parts) -> tuple[tuple[int, ...], tuple[int, ...]]:
+    tones: list[tuple[int, int]] = [(0, 1)]
+    tones.append({"M": (4, 3), "m": (3, 3), "sus2": (2, 2), "sus4": (5, 4)}[p.third])
+    tones.append((p.fifth, 5))
+    if p.sixth:
+        tones.append((9, 6))
+    if p.seventh is not None:
+        tones.append((p.seventh, 7))
+    alt = {a: _ALTS[a] for a in p.alts}
+    # an alteration replaces the natural extension of its degree (C13b9: b9, no 9)
+    if p.ext >= 9 and "b9" not in alt and "#9" not in alt:
+        tones.append((2, 9))
+    # dominant and major 13th chords leave out the 11 (it clashes with the third;
+    # common jazz practice), minor chords keep it
+    if (p.ext == 11 or (p.ext == 13 and p.third == "m")) and "#11" not in alt:
+        tones.append((5, 11))
+    if p.ext == 13 and "b13" not in alt:
+        tones.append((9, 13))
+    for a in _ALT_ORDER:
+        if a in alt:
+            iv, deg = alt[a][1], alt[a][0]
+            tones.append((iv, deg))
+    order = sorted(tones, key=lambda t: t[1])
+    seen: dict[int, int] = {}
+    for iv, deg in order:
+        seen.setdefault(iv, deg)
+    return tuple(seen), tuple(seen.values())
+
+
+def format_chord(chord: Chord) -> str:
+    return chord.symbol

@@ -1,58 +1,42 @@
 """Harmony stage: a :class:`~arrange.rhythm.Line` in, a :class:`Harmonized` out.
 
-Foundation version: every lead note takes the framework chord of its bar.
+The project's ``[harmony]`` table gives the framework (chords per bar, or a
+named preset), the approach techniques in order of preference and any key
+changes.  Each lead note is classified against its framework chord
+(:mod:`arrange.approach`); a note that is neither chord tone nor available
+tension gets an approach chord when it falls on a weak position or leads
+into the next framework chord, a diatonic substitute when it sits on a
+strong beat, or keeps its chord with a warning.
 """
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from fractions import Fraction
 
+from .approach import TECHNIQUES, classify, find_approach, find_substitute, function_name
 from .chords import Chord, parse_chord
-from .errors import HarmonyError
+from .errors import ArrangeError, HarmonyError, ProjectError
+from .keys import MODES, Key, parse_key, parse_key_change
 from .rhythm import Line, Note
+from .spelling import root_spelling, spell_pc
 from .tables import Table
 
 __all__ = ["Key", "parse_key", "FrameworkChord", "Event", "Harmonized", "HarmonyOptions",
-           "read_options", "harmonize", "MODES"]
+           "read_options", "harmonize", "parse_framework", "MODES", "PRESETS", "TECHNIQUES",
+           "lead_function", "transpose_key", "transpose_chord", "MODULATE"]
 
-MODES: dict[str, tuple[int, ...]] = {
-    "major": (0, 2, 4, 5, 7, 9, 11),
-    "minor": (0, 2, 3, 5, 7, 8, 10),
-    "dorian": (0, 2, 3, 5, 7, 9, 10),
-    "phrygian": (0, 1, 3, 5, 7, 8, 10),
-    "lydian": (0, 2, 4, 6, 7, 9, 11),
-    "mixolydian": (0, 2, 4, 5, 7, 9, 10),
-    "aeolian": (0, 2, 3, 5, 7, 8, 10),
-    "locrian": (0, 1, 3, 5, 6, 8, 10),
+# named frameworks of our own naming: per bar, (degree, suffix or None = the diatonic seventh)
+PRESETS: dict[str, tuple[tuple[tuple[int, str | None], ...], ...]] = {
+    "home-to-half": (((1, None),), ((6, None),), ((2, None),), ((5, "7"),)),   # tonic to half cadence
+    "two-five-home": (((2, None),), ((5, "7"),), ((1, None),), ((1, None),)),  # ii-V-I
+    "modal-vamp": (((1, None),), ((1, None),), ((0, None),), ((1, None),)),    # tonic and colour chord
 }
-_TONICS = {"C": 0, "D": 2, "E": 4, "F": 5, "G": 7, "A": 9, "B": 11}
-
-
-@dataclass(frozen=True, slots=True)
-class Key:
-    tonic: int          # pitch class
-    tonic_name: str     # e.g. "Bb"
-    mode: str
-
-    @property
-    def scale(self) -> tuple[int, ...]:
-        return tuple((self.tonic + i) % 12 for i in MODES[self.mode])
-
-    def __str__(self) -> str:
-        return f"{self.tonic_name} {self.mode}"
-
-
-def parse_key(text: str, *, where: str = "key") -> Key:
-    m = re.fullmatch(r"\s*([A-Ga-g])(b|#|♭|♯)?\s+([A-Za-z]+)\s*", text) if isinstance(text, str) else None
-    if not m or m.group(3).lower() not in MODES:
-        raise HarmonyError(f"key {text!r} is not known", where=where,
-                           accepted="a tonic and a mode, e.g. 'F major', 'D dorian'; modes: "
-                           + ", ".join(MODES))
-    acc = {"♭": "b", "♯": "#"}.get(m.group(2) or "", m.group(2) or "")
-    letter = m.group(1).upper()
-    tonic = (_TONICS[letter] + {"": 0, "b": -1, "#": 1}[acc]) % 12
-    return Key(tonic, letter + acc, m.group(3).lower())
+# the colour chord of a modal vamp: the degree that marks the mode (common practice)
+_VAMP = {"dorian": 4, "mixolydian": 7, "lydian": 2, "phrygian": 2, "locrian": 2, "aeolian": 6,
+         "minor": 6, "harmonic minor": 4, "melodic minor": 4, "major": 4, "ionian": 4}
+_TOKEN = re.compile(r"^(.+?)(?::(\d+))?$")
+MODULATE = ("none", "by-statement")
 
 
 @dataclass(frozen=True, slots=True)
@@ -68,9 +52,12 @@ class Event:
     note: Note
     chord: Chord
     role: str            # "framework" or "approach"
-    technique: str | None
+    technique: str | None   # an approach technique, "diatonic substitute", or None
     lead_function: str   # "1", "3", "b9" ...
     why: str
+    lead_class: str = "chord tone"   # the lead against its framework chord
+    lead_name: str = ""              # the lead's spelled pitch class, e.g. "Bb"
+    target: Chord | None = None      # for an approach: the chord it resolves to
 
 
 @dataclass(frozen=True, slots=True)
@@ -80,53 +67,313 @@ class Harmonized:
     framework: tuple[FrameworkChord, ...]
     events: tuple[Event, ...]
     warnings: tuple[tuple[str, int | None, str], ...]   # (kind, event index, message)
+    keys: tuple[tuple[int, Key], ...] = ()              # (first bar, key), bar 1 first
+
+    def key_at(self, bar: int) -> Key:
+        """The key in force in ``bar`` (1-based)."""
+        current = self.key
+        for first, k in self.keys:
+            if first <= bar:
+                current = k
+        return current
 
 
 @dataclass(frozen=True, slots=True)
 class HarmonyOptions:
-    framework: tuple[tuple[str, ...], ...]   # chords per bar, as written
+    framework: tuple[tuple[str, ...], ...] = ()        # tokens per bar as written: "Gm7:3"
+    approach: tuple[str, ...] = TECHNIQUES
+    preset: str | None = None
+    keys: tuple[tuple[int, Key], ...] = ()             # key changes (first bar, key)
+    modulate: str = "none"                             # "none" | "by-statement"
+
+
+def parse_framework(value: object, *, where: str) -> tuple[tuple[str, ...], ...]:
+    """``"F6 | Gm7:3 C7:1"`` or a list of bars; every chord symbol is checked here."""
+    if isinstance(value, str):
+        bars = [b.split() for b in value.split("|")]
+    elif isinstance(value, list) and all(isinstance(b, str) for b in value):
+        bars = [b.split() for b in value]
+    else:
+        raise HarmonyError(f"{value!r} is not a framework", where=where,
+                           accepted="chords per bar split by |, e.g. 'F6 | Gm7 C7', or a list of bars")
+    for k, bar in enumerate(bars, start=1):
+        if not bar:
+            raise HarmonyError(f"bar {k} of {value!r} is empty", where=where,
+                               accepted="one or more chords per bar, split by |")
+        for tok in bar:
+            m = _TOKEN.match(tok)
+            assert m is not None
+            if m.group(2) is not None and int(m.group(2)) < 1:
+                raise HarmonyError(f"{tok!r} in bar {k} takes no beats", where=where,
+                                   accepted="a chord with a positive whole number of beats, e.g. Gm7:3")
+            sym = m.group(1)
+            if ":" in sym:
+                raise HarmonyError(f"{tok!r} in bar {k} has a beat count that is not a whole number",
+                                   where=where, accepted="CHORD:BEATS with whole beats, e.g. Gm7:3 C7:1")
+            parse_chord(sym, where=f"{where}, bar {k}, chord {bar.index(tok) + 1}")
+    return tuple(tuple(b) for b in bars)
 
 
 def read_options(table: Table) -> HarmonyOptions:
-    text = table.string("framework")
-    bars = tuple(tuple(c for c in bar.split()) for bar in text.split("|"))
-    if any(not bar for bar in bars):
-        raise table.error("framework", f"{text!r} has an empty bar",
-                          "chords per bar split by |, e.g. 'F6 | Gm7 C7'")
+    try:
+        preset = table.raw("preset", None)
+        if preset is not None and preset not in PRESETS:
+            raise table.error("preset", f"preset {preset!r} is not known", ", ".join(PRESETS))
+        if preset is not None and table.has("framework"):
+            raise table.error("preset", "both 'preset' and 'framework' are given", "one of them")
+        framework = () if preset is not None else \
+            parse_framework(table.raw("framework"), where=table.at("framework"))
+        raw = table.raw("approach", list(TECHNIQUES))
+        if not isinstance(raw, list) or not all(isinstance(t, str) for t in raw):
+            raise table.error("approach", f"{raw!r} is not a list of techniques",
+                              "a list drawn from " + ", ".join(TECHNIQUES))
+        for k, tech in enumerate(raw, start=1):
+            if tech not in TECHNIQUES:
+                raise table.error("approach", f"technique {tech!r} (item {k}) is not known",
+                                  ", ".join(TECHNIQUES) + " (an empty list keeps every framework chord)")
+        raw_keys = table.raw("keys", [])
+        if isinstance(raw_keys, str):
+            raw_keys = [raw_keys]
+        if not isinstance(raw_keys, list):
+            raise table.error("keys", f"{raw_keys!r} is not a list of key changes",
+                              "a list such as ['Ab major from bar 9']")
+        keys = sorted(parse_key_change(k, where=table.at("keys")) for k in raw_keys)
+        modulate = table.string("modulate", "none", choices=MODULATE)
+        if modulate != "none" and keys:
+            raise table.error("modulate", f"modulate = {modulate!r} and 'keys' are both given",
+                              "one of them: the chain's transposition or key changes by bar")
+        for (b1, _), (b2, _) in zip(keys, keys[1:], strict=False):
+            if b1 == b2:
+                raise table.error("keys", f"two keys start at bar {b1}", "one key change per bar")
+    except ArrangeError as err:
+        if isinstance(err, ProjectError):
+            raise
+        raise ProjectError(err.what, where=err.where, accepted=err.accepted) from None
     table.finish()
-    return HarmonyOptions(bars)
-
-
-_FUNCTION = {0: "1", 1: "b9", 2: "9", 3: "b3", 4: "3", 5: "11", 6: "#11", 7: "5", 8: "b13",
-             9: "13", 10: "b7", 11: "7"}
+    return HarmonyOptions(framework, tuple(dict.fromkeys(raw)), preset,
+                          tuple((b, k) for b, k in keys), modulate)
 
 
 def lead_function(pitch: int, chord: Chord) -> str:
-    iv = (pitch - chord.root) % 12
-    if iv == 3 and 3 not in chord.intervals and 4 in chord.intervals:
-        return "#9"
-    if iv == 9 and 9 in chord.intervals and 10 not in chord.intervals:
-        return "6" if 3 not in chord.intervals or 10 not in chord.intervals else "13"
-    if iv == 9 and chord.quality == "dim7":
-        return "bb7"
-    if iv == 6 and 6 in chord.intervals:
-        return "b5"
-    return _FUNCTION[iv]
+    return function_name(pitch, chord)
+
+
+def transpose_key(key: Key, semitones: int) -> Key:
+    """``key`` moved by ``semitones``, its tonic spelled for the simplest signature."""
+    pc = (key.tonic + semitones) % 12
+    best = None
+    for letter in "CDEFGAB":
+        diff = (pc - "C D EF G A B".index(letter) + 6) % 12 - 6
+        if abs(diff) > 1:
+            continue
+        k = Key(pc, letter + ("#" if diff > 0 else "b" if diff < 0 else ""), key.mode)
+        score = (abs(k.fifths), k.fifths > 0)
+        if best is None or score < best[0]:
+            best = (score, k)
+    assert best is not None
+    return best[1]
+
+
+def transpose_chord(chord: Chord, semitones: int, key: Key) -> Chord:
+    """``chord`` moved by ``semitones``, spelled for ``key``."""
+    if semitones % 12 == 0:
+        return chord
+    moved = root_spelling(chord.root + semitones, chord.quality, key)
+    if chord.bass is None:
+        return moved
+    return parse_chord(f"{moved.symbol}/{spell_pc(chord.bass + semitones, key)}")
+
+
+def statement_keys(line: Line, key: Key) -> tuple[tuple[int, int], ...]:
+    """For ``modulate = "by-statement"``: (first bar, semitones) where each P-form
+    statement after the first begins (from the next bar line if it starts mid-bar)."""
+    out = []
+    bar_len = line.meter.bar
+    for st in line.chain.statements:
+        if st.form != "P" or st.index == 1 or st.start >= len(line.notes):
+            continue
+        onset = line.notes[st.start].onset
+        bar = int(onset // bar_len) + 1 + (1 if onset % bar_len else 0)
+        if bar <= line.bars:
+            out.append((bar, st.transposition))
+    return tuple(out)
+
+
+def _key_at(key: Key, changes: tuple[tuple[int, Key], ...], bar: int) -> Key:
+    for first, k in changes:
+        if first <= bar:
+            key = k
+    return key
+
+
+def _bar_chords(options: HarmonyOptions, b: int, key: Key, where: str) -> list[tuple[Chord, int | None]]:
+    out: list[tuple[Chord, int | None]] = []
+    if options.preset is not None:
+        bars = PRESETS[options.preset]
+        for degree, suffix in bars[b % len(bars)]:
+            d = degree or _VAMP.get(key.mode, 4)
+            out.append((key.degree_chord(d, suffix), None))
+        return out
+    written = options.framework[b % len(options.framework)]
+    for j, tok in enumerate(written, start=1):
+        m = _TOKEN.match(tok)
+        assert m is not None
+        out.append((parse_chord(m.group(1), where=f"{where} framework, bar {b % len(options.framework) + 1}, "
+                                f"chord {j}"), int(m.group(2)) if m.group(2) else None))
+    return out
+
+
+def _beats(meter) -> tuple[Fraction, ...]:  # noqa: ANN001
+    """Beat onsets inside a bar (the meter's own grouping where it has one)."""
+    beats = getattr(meter, "beats", None)
+    if beats:
+        return tuple(beats)
+    step = Fraction(4, meter.denominator)
+    return tuple(step * k for k in range(meter.numerator))
+
+
+def _strong_points(meter) -> set[Fraction]:  # noqa: ANN001
+    """The downbeat and the start of each large division (beat 3 of 4/4)."""
+    groups = getattr(meter, "groups", None)
+    if not groups:
+        return {Fraction(0)} | ({Fraction(2)} if str(meter) == "4/4" else set())
+    out, t = set(), Fraction(0)
+    for g in groups:
+        out.add(t)
+        t += sum(g, Fraction(0))
+    return out
+
+
+def split_bar(counts: list[int | None], n_beats: int) -> list[int] | None:
+    """Beats per chord: given counts stay, the others share the rest evenly, the
+    earlier chords taking the spare beats (3 chords in 4/4: 2 1 1, common practice
+    of lead sheets).  None where the chords cannot fill the bar in whole beats."""
+    given = sum(c for c in counts if c is not None)
+    free = sum(1 for c in counts if c is None)
+    left = n_beats - given
+    if left < 0 or (free and left < free) or (not free and left):
+        return None
+    out, k = [], 0
+    for c in counts:
+        if c is None:
+            out.append(left // free + (1 if k < left % free else 0))
+            k += 1
+        else:
+            out.append(c)
+    return out
+
+
+def build_framework(line: Line, key: Key, options: HarmonyOptions, where: str,
+                    shifts: tuple[tuple[int, int], ...] = ()) -> tuple[FrameworkChord, ...]:
+    meter = line.meter
+    beats = _beats(meter)
+    out: list[FrameworkChord] = []
+    for b in range(line.bars):
+        bar_key = _key_at(key, options.keys, b + 1)
+        chords = _bar_chords(options, b, bar_key, where)
+        shift = next((t for first, t in reversed(shifts) if first <= b + 1), 0)
+        if shift and options.preset is None:
+            chords = [(transpose_chord(c, shift, bar_key), n) for c, n in chords]
+        counts = split_bar([n for _c, n in chords], len(beats))
+        src = b % len(options.framework) + 1 if options.framework else b + 1
+        if counts is None:
+            written = " ".join(c.symbol + (f":{n}" if n else "") for c, n in chords)
+            given = sum(n for _c, n in chords if n is not None)
+            raise HarmonyError(
+                f"{written!r} does not divide into the meter {meter}: {len(chords)} chord"
+                f"{'s' if len(chords) != 1 else ''} with {given} beats given for a bar of "
+                f"{len(beats)} beats", where=f"{where} framework, bar {src}",
+                accepted=f"at most {len(beats)} chords whose beats fill the bar, e.g. "
+                         f"'Gm7:{len(beats) - 1} C7:1' or chords sharing it evenly"
+                         if len(beats) > 1 else "one chord per bar in this meter")
+        edges = list(beats) + [meter.bar]
+        s0 = 0
+        for (c, _n), cnt in zip(chords, counts, strict=True):
+            onset = b * meter.bar + edges[s0]
+            out.append(FrameworkChord(b + 1, onset, edges[s0 + cnt] - edges[s0], c))
+            s0 += cnt
+    return tuple(out)
+
+
+def _strong(note: Note, fc: FrameworkChord, line: Line) -> bool:
+    pos = note.onset % line.meter.bar
+    return note.weight == 0 or note.onset == fc.onset or pos in _strong_points(line.meter)
 
 
 def harmonize(line: Line, key: Key, options: HarmonyOptions, *, where: str = "[harmony]") -> Harmonized:
+    shifts: tuple[tuple[int, int], ...] = ()
+    if options.modulate == "by-statement" and line.chain is not None:
+        shifts = statement_keys(line, key)
+        options = replace(options, keys=tuple((b, transpose_key(key, t)) for b, t in shifts))
+    fw = build_framework(line, key, options, where, shifts)
     bar_len = line.meter.bar
-    chords: list[FrameworkChord] = []
-    for b in range(line.bars):
-        written = options.framework[b % len(options.framework)]
-        share = bar_len / len(written)
-        for j, sym in enumerate(written):
-            chord = parse_chord(sym, where=f"{where} framework, bar {b % len(options.framework) + 1}")
-            chords.append(FrameworkChord(b + 1, b * bar_len + j * share, share, chord))
-    events = []
+    idx = []
+    k = 0
     for note in line.notes:
-        fc = next((c for c in reversed(chords) if c.onset <= note.onset), chords[0])  # pickup: first chord
-        func = lead_function(note.pitch, fc.chord)
-        events.append(Event(note, fc.chord, "framework", None, func,
-                            f"framework chord of bar {fc.bar}"))
-    return Harmonized(line, key, tuple(chords), tuple(events), ())
+        while k + 1 < len(fw) and fw[k + 1].onset <= note.onset:
+            k += 1
+        idx.append(k)
+    notes = line.notes
+    keys = [_key_at(key, options.keys, int(n.onset // bar_len) + 1) for n in notes]
+    kinds = [classify(n.pitch, fw[f].chord, kk) for n, f, kk in zip(notes, idx, keys, strict=True)]
+    structural = [kd in ("chord tone", "tension") for kd in kinds]
+    events: list[Event] = []
+    warnings: list[tuple[str, int | None, str]] = []
+    for i, note in enumerate(notes):
+        fc, kk, kind = fw[idx[i]], keys[i], kinds[i]
+        frame = fc.chord
+        name = spell_pc(note.pitch, kk, frame)
+        bar = int(note.onset // bar_len) + 1
+        func = function_name(note.pitch, frame)
+
+        def ev(chord: Chord, role: str, tech: str | None, why: str, target: Chord | None = None,
+               note: Note = note, kind: str = kind, kk: Key = kk) -> Event:
+            return Event(note, chord, role, tech, function_name(note.pitch, chord), why, kind,
+                         spell_pc(note.pitch, kk, chord), target)
+
+        if structural[i]:
+            what = "chord tone" if kind == "chord tone" else "available tension"
+            events.append(ev(frame, "framework", None, f"{name} is the {what} {func} of {frame.symbol}"))
+            continue
+        prev = events[-1] if events else None
+        if prev is not None and notes[i - 1].pitch == note.pitch and idx[i - 1] == idx[i]:
+            events.append(ev(prev.chord, prev.role, prev.technique,
+                             f"repeated lead {name} keeps {prev.chord.symbol}", prev.target))
+            continue
+        leads_in = i + 1 < len(notes) and idx[i + 1] != idx[i]
+        strong = _strong(note, fc, line)
+        nxt = next((j for j in range(i + 1, len(notes)) if structural[j]), None)
+        target = fw[idx[nxt]].chord if nxt is not None else \
+            (fw[idx[i] + 1].chord if idx[i] + 1 < len(fw) else frame)
+        label = f"{name} is {'an avoid note' if kind == 'avoid' else 'a non-chord tone'} ({func}) " \
+                f"of {frame.symbol}"
+        found = None
+        if (not strong or leads_in) and i + 1 < len(notes):
+            found = find_approach(note.pitch, target, frame, kk, options.approach)
+        if found:
+            chord, tech, what = found
+            pos = "leading into the next chord" if leads_in else "on a weak position"
+            events.append(ev(chord, "approach", tech,
+                             f"{label} {pos}; {chord.symbol}, {what}, holds it as "
+                             f"{function_name(note.pitch, chord)} and resolves to {target.symbol}",
+                             target))
+            continue
+        if strong:
+            sub = find_substitute(note.pitch, frame, kk)
+            if sub is not None:
+                events.append(ev(sub, "framework", "diatonic substitute",
+                                 f"{label} on a strong beat; the diatonic {sub.symbol} shares its "
+                                 f"tones and holds it as {function_name(note.pitch, sub)}"))
+                continue
+        events.append(ev(frame, "framework", None, f"{label}; kept, see the warning"))
+        if strong:
+            warnings.append(("avoid-note", i, f"bar {bar}: lead {name} is the {func} of "
+                             f"{frame.symbol} on a strong beat and no diatonic chord of {kk} "
+                             "holds it; the framework chord is kept"))
+        else:
+            techs = ", ".join(options.approach) or "none allowed"
+            warnings.append(("unserved-lead", i, f"bar {bar}: lead {name} is the {func} of "
+                             f"{frame.symbol} and no approach technique ({techs}) holds it on the way "
+                             f"to {target.symbol}; the framework chord is kept"))
+    changes = tuple((b, k) for b, k in options.keys)
+    return Harmonized(line, key, fw, tuple(events), tuple(warnings), changes)

@@ -10,11 +10,13 @@ from __future__ import annotations
 from dataclasses import dataclass
 from fractions import Fraction
 
+from ..chords import Chord, parse_chord
 from ..notation import pieces
+from ..spelling import direction_of, m21_name, spell_pitch
 from ..voicing import Voiced
 from . import marks
 
-__all__ = ["ScoreInfo", "musicxml_bytes", "part_bytes", "m21_figure", "swing_ratio"]
+__all__ = ["ScoreInfo", "musicxml_bytes", "part_bytes", "m21_figure", "chord_symbol", "swing_ratio"]
 
 _INTERVALS = {"unison": "P1", "major second": "M2", "minor third": "m3", "perfect fourth": "P4",
               "perfect fifth": "P5", "major sixth": "M6", "octave": "P8", "major ninth": "M9",
@@ -35,11 +37,44 @@ class ScoreInfo:
     version: str = ""
 
 
-def m21_figure(symbol: str) -> str:
-    """Our chord symbol to a figure music21's ChordSymbol reads (flats as '-')."""
-    if len(symbol) > 1 and symbol[1] == "b":
-        symbol = symbol[0] + "-" + symbol[2:]
-    return symbol.replace("dim7", "o7").replace("maj7", "maj7")
+_M21_CORE = {(0, 4, 7): "", (0, 3, 7): "m", (0, 3, 6): "dim", (0, 4, 8): "+", (0, 2, 7): "sus2",
+             (0, 5, 7): "sus4", (0, 4, 7, 9): "6", (0, 3, 7, 9): "m6", (0, 4, 7, 11): "maj7",
+             (0, 3, 7, 10): "m7", (0, 3, 7, 11): "mM7", (0, 4, 7, 10): "7", (0, 3, 6, 10): "m7b5",
+             (0, 3, 6, 9): "o7", (0, 5, 7, 10): "7sus4", (0, 4, 8, 10): "+7", (0, 4, 8, 11): "+M7"}
+
+
+def m21_figure(chord: Chord | str) -> str:
+    """Our chord to a figure music21's ChordSymbol reads to the same tones: the core
+    (triad, sixth, seventh) as one of music21's kinds, every extension as ``add``
+    with its alteration (music21 rejects spellings such as ``Ebm9`` or ``Cmaj9``,
+    and reads ``C13`` with an 11), flats as ``-``."""
+    from ..spelling import m21_name
+
+    ch = parse_chord(chord) if isinstance(chord, str) else chord
+    core = tuple(sorted(ch.core))
+    five = ""
+    if core not in _M21_CORE:   # an altered fifth on a core music21 has no kind for
+        fifth = next(i for i, d in zip(ch.intervals, ch.degrees, strict=True) if d == 5)
+        core = tuple(sorted(7 if i == fifth else i for i in core))
+        five = {6: "b5", 8: "#5"}[fifth]
+    out = m21_name(ch.root_name) + _M21_CORE[core] + five
+    for iv, d in zip(ch.intervals, ch.degrees, strict=True):
+        if d >= 9:
+            diff = (iv - {9: 2, 11: 5, 13: 9}[d] + 6) % 12 - 6
+            out += "add" + ("b" * -diff if diff < 0 else "#" * diff) + str(d)
+    if ch.bass_name:
+        out += "/" + m21_name(ch.bass_name)
+    return out
+
+
+def chord_symbol(chord: Chord):  # noqa: ANN201
+    """A music21 ChordSymbol for ``chord`` that prints our canonical symbol."""
+    from music21 import harmony
+
+    cs = harmony.ChordSymbol(m21_figure(chord))
+    cs.chordKindStr = chord.quality
+    cs.writeAsChord = False
+    return cs
 
 
 def part_abbreviation(part) -> str:  # noqa: ANN001
@@ -84,7 +119,6 @@ def _clef(name: str):  # noqa: ANN202
 def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
     from music21 import (
         bar,
-        harmony,
         key,
         metadata,
         meter,  # noqa: F401
@@ -120,8 +154,7 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
             if m_i == 0:
                 m.insert(0, _instrument(part, k, info.concert))
                 m.insert(0, _clef(part.instrument.clef))
-                mode = hkey.mode if hkey.mode in ("major", "minor") else hkey.mode
-                m.insert(0, key.Key(hkey.tonic_name.replace("b", "-"), mode))
+                m.insert(0, key.Key(m21_name(hkey.tonic_name), hkey.signature_mode))
                 m.insert(0, meter.TimeSignature(str(line.meter)))
                 if lead:
                     beat = note.Note(type="quarter")
@@ -129,20 +162,28 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
                         beat.duration.dots = 1
                     m.insert(0, marks.style_word(info.style))
                     m.insert(0, tempo.MetronomeMark(number=info.tempo, referent=beat))
+            elif voiced.harmonized.key_at(m_i + 1 - shift) != voiced.harmonized.key_at(m_i - shift):
+                kc = voiced.harmonized.key_at(m_i + 1 - shift)   # a key change by bar
+                m.insert(0, key.Key(m21_name(kc.tonic_name), kc.signature_mode))
             measures.append(m)
         prev_chord = None
-        for ve in voiced.events:
+        part_pitches = [ve.pitches[k] for ve in voiced.events]
+        shown: dict[tuple[int, str, int], int] = {}     # accidentals in force per measure
+        respell = bool(part.instrument.transposition) and not info.concert
+        for i, ve in enumerate(voiced.events):
             n = ve.event.note
             cut = pieces(n.onset, n.duration, line.meter, pickup=line.pickup)
             if lead:
                 m_i, off = cut[0].measure, cut[0].offset
                 if ve.event.chord.symbol != prev_chord:
-                    cs = harmony.ChordSymbol(m21_figure(ve.event.chord.symbol))
-                    cs.writeAsChord = False
-                    measures[m_i].insert(_offset(off), cs)
+                    measures[m_i].insert(_offset(off), chord_symbol(ve.event.chord))
                     prev_chord = ve.event.chord.symbol
+            way = direction_of(part_pitches[i - 1] if i else None, ve.pitches[k],
+                               part_pitches[i + 1] if i + 1 < len(part_pitches) else None)
+            bar_key = voiced.harmonized.key_at(int(n.onset // bar_len) + 1)
+            name = m21_name(spell_pitch(ve.pitches[k], bar_key, ve.event.chord, way))
             for j, pc in enumerate(cut):
-                nt = note.Note(ve.pitches[k])
+                nt = note.Note(name)
                 nt.duration = _duration(pc.duration)
                 if pc.tie_start and pc.tie_stop:
                     nt.tie = _tie("continue")
@@ -152,6 +193,8 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
                     nt.tie = _tie("stop")
                 if j == 0 and n.articulation:
                     nt.articulations.append(_articulation(n.articulation))
+                if not respell:     # transposing parts in written pitch: music21 respells them
+                    _accidental(nt, pc, shown, voiced.harmonized.key_at(pc.measure + 1 - shift))
                 measures[pc.measure].insert(_offset(pc.offset), nt)
         marks.add_dynamics(measures, voiced, info.dynamics)
         if lead:
@@ -175,6 +218,26 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
     else:
         marks.page_credits(score, info.title, info.concert, voiced.section.parts[info.only_part].name)
     return score
+
+
+def _accidental(nt, pc, shown: dict[tuple[int, str, int], int], k) -> None:  # noqa: ANN001
+    """Print an accidental only where the key signature and the measure so far do
+    not already give it (common practice of engraving); a tied-over note never."""
+    from music21 import pitch
+
+    order = "FCGDAEB"
+    sig = {x: 1 for x in order[:k.fifths]} if k.fifths >= 0 else {x: -1 for x in order[::-1][:-k.fifths]}
+    step, octave = nt.pitch.step, nt.pitch.octave
+    alter = int(nt.pitch.alter)
+    slot = (pc.measure, step, octave)
+    need = alter != shown.get(slot, sig.get(step, 0)) and not pc.tie_stop
+    shown[slot] = alter
+    if nt.pitch.accidental is None:
+        if need:
+            nt.pitch.accidental = pitch.Accidental("natural")
+            nt.pitch.accidental.displayStatus = True
+        return
+    nt.pitch.accidental.displayStatus = need
 
 
 def _tie(kind: str):  # noqa: ANN202
@@ -301,6 +364,8 @@ def musicxml_bytes(voiced: Voiced, info: ScoreInfo, layers: tuple = ()) -> bytes
     ratio = swing_ratio(voiced.harmonized.line)
     if ratio is not None:
         data = _add_swing(data, ratio)
+    # the kind's text already prints the whole symbol (Cm9, not Cm7 add 9)
+    data = data.replace(b"<degree>", b'<degree print-object="no">')
     return finish_xml(data, voiced, info)
 
 

@@ -37,9 +37,20 @@ def _statement_table(voiced: Voiced, dynamics: tuple[str, ...]) -> list[dict[str
     return out
 
 
+def _lead_names(voiced: Voiced) -> list[str]:
+    """The lead spelled as the score writes it (key, chord, direction)."""
+    from ..spelling import direction_of, spell_pitch
+
+    h = voiced.harmonized
+    leads = [ve.event.note.pitch for ve in voiced.events]
+    return [spell_pitch(p, h.key_at(h.line.bar_of(ve.event.note.onset)),
+                        ve.event.chord, direction_of(leads[i - 1] if i else None, p,
+                                                     leads[i + 1] if i + 1 < len(leads) else None))
+            for i, (p, ve) in enumerate(zip(leads, voiced.events, strict=True))]
+
+
 def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
                 dynamics: tuple[str, ...] = ("mf",)) -> dict[str, Any]:
-    from ..pitch import pitch_name
 
     h = voiced.harmonized
     line = h.line
@@ -48,6 +59,7 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
               "range": list(p.instrument.practical),
               "extreme": list(p.instrument.extreme)} for p in voiced.section.parts]
     events = []
+    spelled = _lead_names(voiced)
     for i, ve in enumerate(voiced.events):
         ev = ve.event
         n = ev.note
@@ -57,9 +69,10 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
             "beat": _num(n.onset % line.meter.bar * Fraction(line.meter.denominator, 4) + 1),
             "performed_onset": _num(n.perf_onset), "performed_duration": _num(n.perf_duration),
             "weight": n.weight, "articulation": n.articulation, "lead": n.pitch,
-            "lead_name": pitch_name(n.pitch),
+            "lead_name": spelled[i],
             "chord": ev.chord.symbol, "role": ev.role, "technique": ev.technique,
             "lead_function": ev.lead_function, "why": ev.why,
+            "lead_class": ev.lead_class,
             "voicing": ve.voicing, "pitches": list(ve.pitches),
         })
     def bar_of(ev: int | None) -> Any:
@@ -79,6 +92,7 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
         "section": {"name": voiced.section.name, "parts": parts},
         "framework": [{"bar": fc.bar, "onset": _num(fc.onset), "duration": _num(fc.duration),
                        "chord": fc.chord.symbol} for fc in h.framework],
+        "keys": [{"bar": b, "key": str(k)} for b, k in getattr(h, "keys", ())],
         "events": events,
         "warnings": warnings,
     }

@@ -1,0 +1,149 @@
+"""Spelling: a sounding pitch, its key and its chord in, a written name out.
+
+The rules (common practice of jazz and commercial engraving):
+
+1. a note of the key takes the key's spelling, so the key signature holds
+   (in F major, Bb not A#, over any chord);
+2. otherwise a chord tone is spelled from the chord root as a stacked third,
+   fifth, seventh ... (the third of Ab7 is C in C major, the seventh of E7 is D
+   in E major, the third of E7 is G# in F major);
+3. otherwise a tension of the chord is spelled by its degree (b9 of C7 is Db,
+   #11 F#); a #9 without direction that would put a sharp in a flat key is
+   written as the minor tenth instead (Eb over C7 in F major);
+4. otherwise a chromatic note follows its direction: rising notes sharp,
+   falling notes flat, never a double accidental nor Cb/Fb/E#/B# unless the
+   key has them; a note without direction leans to the key signature's side.
+
+Names are ours (``Eb4``, ``F#5``); :func:`m21_name` turns one into music21's
+(``E-4``).  Plain Python: no music21 here.
+"""
+from __future__ import annotations
+
+from .chords import ROOT_NAMES, Chord, interval_name, parse_chord, spell_name
+from .keys import LETTERS, Key
+
+__all__ = ["spell_pc", "spell_pitch", "spell_chord", "with_octave", "m21_name", "root_spelling",
+           "direction_of"]
+
+# degree a tension takes, by interval above the root (b9 9 #9, 11 #11, b13 13, 6 7)
+_TENSION_DEGREE = {1: 9, 2: 9, 3: 9, 5: 11, 6: 11, 8: 13, 9: 13, 10: 7, 11: 7}
+_ODD = ("Cb", "Fb", "E#", "B#")
+
+
+def _acc(name: str) -> int:
+    return name.count("#") - name.count("b")
+
+
+def _pc(name: str) -> int:
+    return (ROOT_NAMES[name[0]] + _acc(name)) % 12
+
+
+def spell_pc(pc: int, key: Key, chord: Chord | None = None, direction: int = 0) -> str:
+    """A pitch-class name (``Bb``) by the rules above; ``direction`` > 0 rising, < 0 falling."""
+    pc %= 12
+    if pc in key.scale:
+        return key.names[key.scale.index(pc)]
+    if chord is not None:
+        iv = (pc - chord.root) % 12
+        if chord.bass is not None and pc == chord.bass and chord.bass_name:
+            return chord.bass_name
+        deg = chord.degree_of(iv)
+        if deg is not None:
+            return interval_name(chord.root_name, iv, deg)
+    if chord is not None and (pc - chord.root) % 12 in chord.tensions:
+        iv = (pc - chord.root) % 12
+        deg = _TENSION_DEGREE[iv]
+        if iv == 8 and 7 not in chord.intervals:
+            deg = 5
+        if iv == 6 and 7 not in chord.intervals:
+            deg = 5
+        name = interval_name(chord.root_name, iv, deg)
+        against = _acc(name) * (-1 if key.fifths < 0 else 1) < 0
+        if abs(_acc(name)) <= 1 and not (against and direction == 0 and iv == 3):
+            return name
+    return _chromatic(pc, key, direction)
+
+
+def _chromatic(pc: int, key: Key, direction: int) -> str:
+    below = key.names[key.scale.index((pc - 1) % 12)] if (pc - 1) % 12 in key.scale else None
+    above = key.names[key.scale.index((pc + 1) % 12)] if (pc + 1) % 12 in key.scale else None
+    options = []
+    if below:
+        options.append((below[0], "up"))
+    if above:
+        options.append((above[0], "down"))
+    for letter in LETTERS:   # any letter within a whole step, for keys with gaps
+        options.append((letter, "any"))
+    lean = direction if direction else (-1 if key.fifths < 0 else 1)
+
+    def rank(opt: tuple[str, str]) -> tuple[int, int, int, int]:
+        name = spell_name(opt[0], pc)
+        weird = name in _ODD and name not in key.names
+        side = 0 if (lean > 0 and _acc(name) > 0) or (lean < 0 and _acc(name) < 0) else 1
+        return (abs(_acc(name)) > 1, weird, side, opt[1] == "any")
+
+    return spell_name(min(options, key=rank)[0], pc)
+
+
+def with_octave(name: str, midi: int) -> str:
+    """``Cb`` + MIDI 59 -> ``Cb4`` (the octave goes with the letter, as in music21)."""
+    octave = (midi - (ROOT_NAMES[name[0]] + _acc(name))) // 12 - 1
+    return f"{name}{octave}"
+
+
+def spell_pitch(midi: int, key: Key, chord: Chord | None = None, direction: int = 0) -> str:
+    return with_octave(spell_pc(midi % 12, key, chord, direction), midi)
+
+
+def direction_of(previous: int | None, pitch: int, following: int | None) -> int:
+    """+1 rising, -1 falling, 0 neither: a note between two others takes the way
+    the line moves through it; otherwise the step into or out of it."""
+    if previous is not None and following is not None:
+        if previous < pitch < following:
+            return 1
+        if previous > pitch > following:
+            return -1
+    if following is not None and following != pitch:
+        return 1 if following > pitch else -1
+    if previous is not None and previous != pitch:
+        return 1 if pitch > previous else -1
+    return 0
+
+
+def spell_chord(chord: Chord) -> tuple[str, ...]:
+    """The chord's tones as stacked thirds from its root, in stacking order."""
+    return tuple(interval_name(chord.root_name, iv, d)
+                 for iv, d in zip(chord.intervals, chord.degrees, strict=True))
+
+
+def root_spelling(pc: int, suffix: str, key: Key, letter_hint: str | None = None) -> Chord:
+    """A chord on ``pc`` with ``suffix``, its root spelled so that the most of its
+    tones read as the key writes them, with few accidentals (``letter_hint``
+    breaks ties: the letter the voice-leading suggests)."""
+    best = None
+    for letter in LETTERS:
+        name = spell_name(letter, pc)
+        if abs(_acc(name)) > 1:
+            continue
+        chord = parse_chord(name + suffix)
+        tones = spell_chord(chord)
+        clash = sum(1 for t in tones if _pc(t) in key.scale and t not in key.names)
+        side = -1 if key.fifths < 0 else 1
+        against = sum(1 for t in tones if _acc(t) * side < 0 and t not in key.names)
+        foreign = sum(1 for t in tones if t not in key.names)
+        score = (name in _ODD and name not in key.names, clash, against, foreign,
+                 letter != letter_hint)
+        if best is None or score < best[0]:
+            best = (score, chord)
+    assert best is not None
+    return best[1]
+
+
+def m21_name(name: str) -> str:
+    """Our spelled name to music21's: ``Eb4`` -> ``E-4``, ``F#5`` stays."""
+    letter, rest = name[0], name[1:]
+    acc = ""
+    while rest and rest[0] in "b#":
+        acc += "-" if rest[0] == "b" else "#"
+        rest = rest[1:]
+    return letter + acc + rest
