@@ -117,6 +117,8 @@ def pc_sets(chord: Chord, n: int) -> list[tuple[tuple[int, ...], float]]:
     for combo in combinations(range(len(order)), n):
         pcs = tuple(order[i] for i in combo)
         missing = len(set(guides) - set(pcs)) if n >= len(guides) else 0
+        if n >= 2 and missing == len(guides):      # a background always has a guide tone
+            continue
         out.append((pcs, lr.weight("choice") * (sum(combo) - best) + lr.weight("missing_guide") * missing))
     return out
 

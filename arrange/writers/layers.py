@@ -18,7 +18,7 @@ from ..notation import pieces
 from ..pitch import pitch_name
 from ..voicing import Voiced
 
-__all__ = ["add_layer_parts", "layer_tracks", "layers_data", "layer_warnings", "layers_markdown"]
+__all__ = ["add_layer_parts", "layer_sounds", "layer_tracks", "layers_data", "layer_warnings", "layers_markdown"]
 
 
 def _num(q: Fraction) -> float | int:
@@ -34,14 +34,16 @@ def _bracket(score, parts) -> None:  # noqa: ANN001
     score.insert(0, group)
 
 
-def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...]) -> None:  # noqa: ANN001
+def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info=None) -> None:  # noqa: ANN001
     """Append the layers' parts to ``score`` (built by ``build_score``), below the
-    lead section, and bracket each section."""
-    from music21 import bar, clef, dynamics, key, layout, meter, note, stream
-    from music21.stream import makeNotation
+    lead section, and bracket each section.  Notes are spelled, key signatures
+    changed and accidentals printed as in the lead section's parts."""
+    from music21 import bar, dynamics, key, layout, meter, note, stream
 
+    from ..spelling import direction_of, m21_name, spell_pitch
     from .midi import channel_for
     from .musicxml import (
+        _accidental,
         _articulation,
         _clef,
         _duration,
@@ -54,11 +56,12 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...]) -> N
 
     if not layers:
         return
-    line = voiced.harmonized.line
+    concert = bool(getattr(info, "concert", False))
+    h = voiced.harmonized
+    line = h.line
     bar_len = line.meter.bar
     n_measures = line.measures
     shift = 1 if line.pickup else 0
-    hkey = voiced.harmonized.key
     lead_parts = list(score.parts)
     grouped = {id(p) for g in score.getElementsByClass(layout.StaffGroup) for p in g.getSpannedElements()}
     if lead_parts and not any(id(p) in grouped for p in lead_parts):
@@ -78,18 +81,26 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...]) -> N
                     m.showNumber = stream.enums.ShowNumber.NEVER
                     m.paddingLeft = float(bar_len - line.pickup)
                 if m_i == 0:
-                    inst = _instrument(part, index)
+                    inst = _instrument(part, index, concert)
                     inst.midiChannel = channel_for(index)
                     m.insert(0, inst)
-                    m.insert(0, _clef(part.instrument.clef) if part.instrument.clef else clef.TrebleClef())
-                    m.insert(0, key.Key(hkey.tonic_name.replace("b", "-"), hkey.mode))
+                    m.insert(0, _clef(part.instrument.clef))
+                    m.insert(0, key.Key(m21_name(h.key.tonic_name), h.key.signature_mode))
                     m.insert(0, meter.TimeSignature(str(line.meter)))
+                elif h.key_at(m_i + 1 - shift) != h.key_at(m_i - shift):
+                    kc = h.key_at(m_i + 1 - shift)      # a key change by bar, as the lead's
+                    m.insert(0, key.Key(m21_name(kc.tonic_name), kc.signature_mode))
                 measures.append(m)
+            shown: dict[tuple[int, str, int], int] = {}
+            respell = bool(part.instrument.transposition) and not concert
+            voice = [n.pitches[k] for n in vl.notes]
             entered = False
-            for n in vl.notes:
-                cut = pieces(n.onset, n.duration, line.meter, pickup=line.pickup)
-                for j, pc in enumerate(cut):
-                    nt = note.Note(n.pitches[k])
+            for i, n in enumerate(vl.notes):
+                way = direction_of(voice[i - 1] if i else None, voice[i],
+                                   voice[i + 1] if i + 1 < len(voice) else None)
+                name = m21_name(spell_pitch(voice[i], h.key_at(int(n.onset // bar_len) + 1), n.chord, way))
+                for j, pc in enumerate(pieces(n.onset, n.duration, line.meter, pickup=line.pickup)):
+                    nt = note.Note(name)
                     nt.duration = _duration(pc.duration)
                     if pc.tie_start and pc.tie_stop:
                         nt.tie = _tie("continue")
@@ -102,6 +113,8 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...]) -> N
                     if j == 0 and not entered:      # a dynamic at the entrance
                         measures[pc.measure].insert(_offset(pc.offset), dynamics.Dynamic(vl.layer.dynamics))
                         entered = True
+                    if not respell:
+                        _accidental(nt, pc, shown, h.key_at(pc.measure + 1 - shift))
                     measures[pc.measure].insert(_offset(pc.offset), nt)
             for m_i, m in enumerate(measures):
                 m_start = -line.pickup if shift and m_i == 0 else (m_i - shift) * bar_len
@@ -111,13 +124,35 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...]) -> N
             measures[-1].rightBarline = bar.Barline("final")
             for m in measures:
                 p.append(m)
-            for nt in p.recurse().notes:      # accidentals as the key signature reads them
-                nt.pitch.accidental = None if nt.pitch.alter == 0 else nt.pitch.accidental
-            makeNotation.makeAccidentalsInMeasureStream(p)
             score.insert(0, p)
             new_parts.append(p)
             index += 1
         _bracket(score, new_parts)
+
+
+def layer_sounds(data: bytes, voiced: Voiced, layers: tuple[VoicedLayer, ...]) -> bytes:
+    """``<instrument-sound>`` (MusicXML 4.0 sound ids) for the layers' parts, which
+    music21 leaves out, as ``xmlfinish`` does for the lead section's."""
+    import re
+    from xml.sax.saxutils import escape
+
+    from .xmlfinish import _SCORE_INSTRUMENT
+
+    first = len(voiced.section.parts)
+    extra = [p for vl in layers for p in vl.layer.section.parts]
+
+    def sound(m: re.Match[bytes]) -> bytes:
+        k = int(m.group(2)) - 1 - first
+        body = m.group(3)
+        if b"<instrument-sound>" in body or not 0 <= k < len(extra):
+            return m.group(0)
+        indent = re.search(rb"\n(\s*)<instrument-name>", body)
+        pad = indent.group(1) if indent else b""
+        tag = (b"\n" + pad + b"<instrument-sound>" + escape(extra[k].instrument.sound).encode()
+               + b"</instrument-sound>")
+        return m.group(1) + body + tag + m.group(4)
+
+    return _SCORE_INSTRUMENT.sub(sound, data)
 
 
 def layer_tracks(layers: tuple[VoicedLayer, ...], first_index: int, lead_in: Fraction,

@@ -357,7 +357,7 @@ def musicxml_bytes(voiced: Voiced, info: ScoreInfo, layers: tuple = ()) -> bytes
     if layers:
         from .layers import add_layer_parts
 
-        add_layer_parts(score, voiced, layers)
+        add_layer_parts(score, voiced, layers, info)
     exporter = GeneralObjectExporter(score)
     exporter.makeNotation = False
     data: bytes = exporter.parse()
@@ -366,7 +366,12 @@ def musicxml_bytes(voiced: Voiced, info: ScoreInfo, layers: tuple = ()) -> bytes
         data = _add_swing(data, ratio)
     # the kind's text already prints the whole symbol (Cm9, not Cm7 add 9)
     data = data.replace(b"<degree>", b'<degree print-object="no">')
-    return finish_xml(data, voiced, info)
+    data = finish_xml(data, voiced, info)
+    if layers:
+        from .layers import layer_sounds
+
+        data = layer_sounds(data, voiced, layers)
+    return data
 
 
 def finish_xml(data: bytes, voiced: Voiced, info: ScoreInfo) -> bytes:
