@@ -67,14 +67,26 @@ def m21_figure(chord: Chord | str) -> str:
     return out
 
 
+_SYMBOLS: dict[tuple[str, str], object] = {}
+
+
 def chord_symbol(chord: Chord):  # noqa: ANN201
-    """A music21 ChordSymbol for ``chord`` that prints our canonical symbol."""
+    """A music21 ChordSymbol for ``chord`` that prints our canonical symbol.
+
+    music21 works out a symbol's pitches through its scale networks (about
+    10 ms each), so one prototype per figure is built and copied."""
+    import copy
+
     from music21 import harmony
 
-    cs = harmony.ChordSymbol(m21_figure(chord))
-    cs.chordKindStr = chord.quality
-    cs.writeAsChord = False
-    return cs
+    key = (m21_figure(chord), chord.quality)
+    proto = _SYMBOLS.get(key)
+    if proto is None:
+        cs = harmony.ChordSymbol(key[0])
+        cs.chordKindStr = chord.quality
+        cs.writeAsChord = False
+        _SYMBOLS[key] = proto = cs
+    return copy.deepcopy(proto)
 
 
 def part_abbreviation(part) -> str:  # noqa: ANN001
