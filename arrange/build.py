@@ -10,17 +10,24 @@ from . import __version__
 from .chain import build_chain
 from .errors import ArrangeError, LimitError
 from .harmony import harmonize
+from .layers import VoicedLayer, build_layers
 from .project import Project
 from .rhythm import lay_rhythm
 from .voicing import Voiced, voice
 
-__all__ = ["run_pipeline", "render_outputs", "write_outputs", "BuildResult"]
+__all__ = ["run_pipeline", "run_layers", "render_outputs", "write_outputs", "BuildResult"]
 
 
 @dataclass(frozen=True, slots=True)
 class BuildResult:
     voiced: Voiced
     files: tuple[Path, ...]
+    layers: tuple[VoicedLayer, ...] = ()
+
+    @property
+    def warnings(self) -> int:
+        return (len(self.voiced.findings) + len(self.voiced.harmonized.warnings)
+                + sum(len(v.findings) for v in self.layers))
 
 
 # the writers take about 2 ms per written note on a laptop; past this a build takes minutes
@@ -33,7 +40,7 @@ def check_size(project: Project) -> None:
     n = len(c.motif)
     links = c.overlap if isinstance(c.overlap, tuple) else (c.overlap,) * (c.statements - 1)
     notes = n + sum(max(n - o, 0) for o in links)
-    parts = len(project.section.parts)
+    parts = len(project.section.parts) + sum(len(la.section.parts) for la in project.layers)
     if notes * parts > MAX_SCORE_NOTES:
         name = project.path.name if project.path else "project"
         raise LimitError(
@@ -58,6 +65,11 @@ def run_pipeline(project: Project) -> Voiced:
     return voice(harmonized, project.section, project.voicing)
 
 
+def run_layers(project: Project, voiced: Voiced) -> tuple[VoicedLayer, ...]:
+    """The project's [[layers]], voiced under the lead section."""
+    return build_layers(voiced.harmonized, voiced, project.layers)
+
+
 def _in_project(err: ArrangeError, project: Project, table: str) -> ArrangeError:
     """The same error, placed in the project file: ``p.toml, key 'chain.motif'``."""
     name = project.path.name if project.path else "project"
@@ -67,7 +79,8 @@ def _in_project(err: ArrangeError, project: Project, table: str) -> ArrangeError
 
 
 def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
-                   notes: list[str] | None = None) -> dict[str, bytes]:
+                   notes: list[str] | None = None,
+                   layers: tuple[VoicedLayer, ...] = ()) -> dict[str, bytes]:
     """Every asked file as bytes, in memory, before anything is written.  One-line
     notices (audio skipped, say) are appended to ``notes``."""
     files: dict[str, bytes] = {}
@@ -79,7 +92,7 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
 
         info = ScoreInfo(project.title, project.tempo, _style(project), dynamics=out.dynamics,
                          analysis=out.analysis, concert=out.concert_score, version=__version__)
-        xml = musicxml_bytes(voiced, info)
+        xml = musicxml_bytes(voiced, info, layers)
         if "musicxml" in formats:
             files[f"{slug}.musicxml"] = xml
         if "preview" in formats:
@@ -103,7 +116,8 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
         from .writers.midi import MidiOptions, midi_bytes
 
         midi = midi_bytes(voiced, project.tempo,
-                          MidiOptions(out.dynamics, out.humanize, out.seed, out.rhythm_section))
+                          MidiOptions(out.dynamics, out.humanize, out.seed, out.rhythm_section),
+                          layers)
         if "midi" in formats:
             files[f"{slug}.mid"] = midi
     if out.audio and midi is not None:
@@ -119,6 +133,11 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
 
         data = report_data(voiced, title=project.title, tempo=project.tempo, version=__version__,
                            dynamics=out.dynamics)
+        if layers:
+            from .writers.layers import layer_warnings, layers_data
+
+            data["layers"] = layers_data(layers)
+            data["warnings"] = list(data["warnings"]) + layer_warnings(layers, data["events"])
         files[f"{slug}.report.json"] = report_json(data)
         files[f"{slug}.report.md"] = report_markdown(data)
     return files
@@ -134,6 +153,7 @@ def write_outputs(project: Project, out_dir: Path, formats: tuple[str, ...] | No
     from .writers.files import write_batch
 
     voiced = run_pipeline(project)
-    files = render_outputs(project, voiced, formats or project.output.formats, notes)
+    layers = run_layers(project, voiced)
+    files = render_outputs(project, voiced, formats or project.output.formats, notes, layers)
     paths = write_batch(out_dir, files)
-    return BuildResult(voiced, tuple(paths))
+    return BuildResult(voiced, tuple(paths), layers)

@@ -144,14 +144,25 @@ def _chain_table(c: Any) -> str:
               help="Statement labels and approach techniques on the score.")
 @click.option("--audio/--no-audio", default=None,
               help="Also render a WAV through fluidsynth (when installed).")
+@click.option("--vary", "vary", multiple=True, metavar="KEY=V1,V2",
+              help="Build every combination into its own folder, with DIR/variants.md "
+              "(e.g. voicing=close,drop2; repeatable).")
 @guarded
 def build(project: Path, out_dir: Path, formats: str | None, parts: bool | None,
-          analysis: bool | None, audio: bool | None) -> None:
+          analysis: bool | None, audio: bool | None, vary: tuple[str, ...] = ()) -> None:
     """Build PROJECT.toml into score, MIDI and report files in the output folder."""
     from .project import load_project
 
     proj = _with_flags(load_project(project), parts, analysis, audio)
     fmts = _formats(formats)
+    if vary:
+        from .variants import build_variants
+
+        click.echo(f"{proj.title}: every combination of {len(vary)} varied keys ...", err=True)
+        for p in build_variants(project, vary, out_dir, fmts,
+                                adjust=lambda pr: _with_flags(pr, parts, analysis, audio)):
+            click.echo(str(p))
+        return
     _build_one(proj, out_dir, fmts, label=proj.title)
 
 
@@ -180,7 +191,7 @@ def _with_flags(proj: Any, parts: bool | None, analysis: bool | None, audio: boo
 
 def _build_one(proj: Any, out_dir: Path, fmts: tuple[str, ...] | None, *, label: str) -> None:
     """Run the pipeline and the writers, saying on stderr what is being done."""
-    from .build import render_outputs, run_pipeline
+    from .build import render_outputs, run_layers, run_pipeline
     from .writers.files import write_batch
 
     err = sys.stderr.isatty()
@@ -188,14 +199,15 @@ def _build_one(proj: Any, out_dir: Path, fmts: tuple[str, ...] | None, *, label:
     voiced = run_pipeline(proj)
     click.echo(("\r" if err else "") + f"{label}: writing ...", err=True, nl=not err)
     notes: list[str] = []
-    files = render_outputs(proj, voiced, fmts or proj.output.formats, notes)
+    layers = run_layers(proj, voiced)
+    files = render_outputs(proj, voiced, fmts or proj.output.formats, notes, layers)
     paths = write_batch(out_dir, files)
     click.echo(("\r" if err else "") + f"{label}: {len(paths)} files" + " " * 8, err=True)
     for p in paths:
         click.echo(str(p))
     for note in notes:
         click.echo(f"arrange: {note}", err=True)
-    n = len(voiced.findings) + len(voiced.harmonized.warnings)
+    n = len(voiced.findings) + len(voiced.harmonized.warnings) + sum(len(v.findings) for v in layers)
     if n:
         click.echo(f"{label}: {n} warning{'s' if n != 1 else ''}: see the report", err=True)
 

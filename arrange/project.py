@@ -13,6 +13,7 @@ from pathlib import Path
 
 from . import harmony, rhythm, voicing
 from .errors import ArrangeError, ProjectError
+from .layers import Layer, read_layers
 from .pitch import parse_pitch, parse_pitches
 from .sections import Section, section_from_table
 from .tables import Table
@@ -60,6 +61,7 @@ class Project:
     section: Section
     voicing: voicing.VoicingOptions
     output: OutputSpec
+    layers: tuple[Layer, ...] = ()     # [[layers]]: background sections under the lead
 
 
 def slugify(title: str) -> str:
@@ -166,9 +168,10 @@ def project_from_data(data: dict[str, object], where: str, path: Path | None = N
     voicing_opts = voicing.read_options(sec_table)
     sec_table.finish()
     output = _output(top.sub("output"))
+    layers = read_layers(top.raw("layers", None), where)
     top.finish()
     return Project(path, title, slugify(title), tempo, meter, key, chain, rhythm_opts,
-                   harmony_opts, section, voicing_opts, output)
+                   harmony_opts, section, voicing_opts, output, layers)
 
 
 def load_project(path: str | Path) -> Project:

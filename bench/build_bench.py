@@ -1,7 +1,8 @@
 """`arrange build` of each demo project against a music21-only floor, side by side.
 
-The floor (floor_music21.py) builds the same notes as music21 objects and
-writes the same MusicXML and MIDI with music21 alone.  Target (issue 8): our
+The floor (floor_music21.py) builds the same notes and chord symbols as
+music21 objects and writes the MusicXML and MIDI with music21 alone.  Our side
+writes the score and the MIDI only (no parts, report or preview).  Target (issue 8): our
 whole pipeline (musicxml + midi) / the floor <= 1.3.
 """
 from __future__ import annotations
@@ -27,7 +28,7 @@ def main() -> dict[str, float]:
             report = next(out.glob("*.report.json"))
             res = side_by_side({
                 "arrange": [py, "-m", "arrange", "build", str(proj), "-o", str(out / "a"),
-                            "--formats", "musicxml,midi"],
+                            "--formats", "musicxml,midi", "--no-parts", "--no-audio"],
                 "floor": [py, str(here / "floor_music21.py"), str(report), str(out / "f")],
             }, repeats=5)
             (ta, ma), (tf, mf) = res["arrange"], res["floor"]

@@ -13,7 +13,7 @@ from pathlib import Path
 
 
 def main(report_path: str, out_dir: str) -> None:
-    from music21 import meter, note, stream, tempo
+    from music21 import harmony, meter, note, stream, tempo
     from music21.midi import translate
 
     data = json.loads(Path(report_path).read_text())
@@ -24,6 +24,17 @@ def main(report_path: str, out_dir: str) -> None:
         part.insert(0, meter.TimeSignature(data["meter"]))
         if k == 0:
             part.insert(0, tempo.MetronomeMark(number=data["tempo"]))
+            last = None
+            for ev in data["events"]:     # the same chord symbols above the lead
+                if ev["chord"] != last:
+                    last = ev["chord"]
+                    figure = last[0] + last[1:].replace("b", "-", 1) if last[1:2] == "b" else last
+                    try:
+                        cs = harmony.ChordSymbol(figure)
+                    except Exception:  # noqa: BLE001 - music21 rejects some spellings
+                        continue
+                    cs.writeAsChord = False
+                    part.insert(ev["onset"], cs)
         for ev in data["events"]:
             n = note.Note(ev["pitches"][k])
             n.quarterLength = ev["duration"]

@@ -45,7 +45,8 @@ def _tick(q: Fraction) -> int:
     return int(round(q * TICKS))
 
 
-def midi_bytes(voiced: Voiced, tempo: float, options: MidiOptions | None = None) -> bytes:
+def midi_bytes(voiced: Voiced, tempo: float, options: MidiOptions | None = None,
+               layers: tuple = ()) -> bytes:
     from music21 import midi
 
     opts = options or MidiOptions()
@@ -150,5 +151,10 @@ def midi_bytes(voiced: Voiced, tempo: float, options: MidiOptions | None = None)
                     ev.velocity = vel
                     evs.append((tick, order, ev))
             mf.tracks.append(track_from(evs, n_parts + 1 + j))
+    if layers:   # after the rhythm section's bass channel, when there is one
+        from .layers import layer_tracks
+
+        first = len(voiced.section.parts) + (1 if opts.rhythm_section else 0)
+        mf.tracks.extend(layer_tracks(layers, first, lead_in, track_from, _tick))
     data: bytes = mf.writestr()
     return data

@@ -67,14 +67,26 @@ def m21_figure(chord: Chord | str) -> str:
     return out
 
 
+_SYMBOLS: dict[tuple[str, str], object] = {}
+
+
 def chord_symbol(chord: Chord):  # noqa: ANN201
-    """A music21 ChordSymbol for ``chord`` that prints our canonical symbol."""
+    """A music21 ChordSymbol for ``chord`` that prints our canonical symbol.
+
+    music21 works out a symbol's pitches through its scale networks (about
+    10 ms each), so one prototype per figure is built and copied."""
+    import copy
+
     from music21 import harmony
 
-    cs = harmony.ChordSymbol(m21_figure(chord))
-    cs.chordKindStr = chord.quality
-    cs.writeAsChord = False
-    return cs
+    key = (m21_figure(chord), chord.quality)
+    proto = _SYMBOLS.get(key)
+    if proto is None:
+        cs = harmony.ChordSymbol(key[0])
+        cs.chordKindStr = chord.quality
+        cs.writeAsChord = False
+        _SYMBOLS[key] = proto = cs
+    return copy.deepcopy(proto)
 
 
 def part_abbreviation(part) -> str:  # noqa: ANN001
@@ -350,10 +362,14 @@ def _add_swing(data: bytes, ratio: tuple[int, int]) -> bytes:
     return head + ET.tostring(root, encoding="utf-8", xml_declaration=False) + b"\n"
 
 
-def musicxml_bytes(voiced: Voiced, info: ScoreInfo) -> bytes:
+def musicxml_bytes(voiced: Voiced, info: ScoreInfo, layers: tuple = ()) -> bytes:
     from music21.musicxml.m21ToXml import GeneralObjectExporter
 
     score = build_score(voiced, info)
+    if layers:
+        from .layers import add_layer_parts
+
+        add_layer_parts(score, voiced, layers, info)
     exporter = GeneralObjectExporter(score)
     exporter.makeNotation = False
     data: bytes = exporter.parse()
@@ -362,7 +378,12 @@ def musicxml_bytes(voiced: Voiced, info: ScoreInfo) -> bytes:
         data = _add_swing(data, ratio)
     # the kind's text already prints the whole symbol (Cm9, not Cm7 add 9)
     data = data.replace(b"<degree>", b'<degree print-object="no">')
-    return finish_xml(data, voiced, info)
+    data = finish_xml(data, voiced, info)
+    if layers:
+        from .layers import layer_sounds
+
+        data = layer_sounds(data, voiced, layers)
+    return data
 
 
 def finish_xml(data: bytes, voiced: Voiced, info: ScoreInfo) -> bytes:

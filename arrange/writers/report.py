@@ -149,6 +149,9 @@ def report_markdown(data: dict[str, Any]) -> bytes:
         span = f"{notes[0] + 1}-{notes[-1] + 1}" if notes else "(overlap only)"
         out.append(f"| {st['statement']} | {st['bar'] or ''} | {', '.join(st['voicings']) or '-'} | "
                    f"{span} | {' '.join(pitch_name(p) for p in first)} |")
+    from .layers import layers_markdown
+
+    out += layers_markdown(data)
     out += ["", "## Warnings", ""]
     if not data["warnings"]:
         out.append("None.")

@@ -1,0 +1,299 @@
+"""Layers stage: background sections under the lead (``[[layers]]``).
+
+``build_layers(harmonized, voiced, layers)`` gives one :class:`VoicedLayer` per
+``[[layers]]`` entry:
+
+* a **pad** voices the framework chords (never the approach chords) in the
+  layer's ``rhythm`` (note values cycled within each chord; a chord change always
+  starts a new chord, a repeated chord is held on);
+* **hits** are short chords (``rhythm`` gives their length) on the groove's
+  accents (:func:`accents`), on the chord the lead section plays there.
+
+Each chord is voiced by :mod:`arrange.pads` (guide tones first, then allowed
+tensions; the voicing stage's rule checks) and the whole layer is chosen by a
+dynamic programme that keeps common tones and moves by step, and sits below
+the lead section's lowest voice wherever it can.  Findings: the rule checks of
+the chosen chords, and every minor second or minor ninth between a background
+note and a lead-section note sounding with it (``clash-minor-second``,
+``clash-minor-ninth``: the message names both parts).
+"""
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from fractions import Fraction
+
+import numpy as np
+
+from . import rules
+from .chords import Chord
+from .errors import ProjectError
+from .harmony import FrameworkChord, Harmonized
+from .pads import candidates, clash_pairs, cross_costs, layer_rules, velocity
+from .pitch import pitch_name
+from .sections import Section, section_from_table
+from .shapes import recipes
+from .tables import Table
+from .voicing import Voiced
+
+__all__ = ["Layer", "LayerNote", "LayerFinding", "VoicedLayer", "ROLES", "DYNAMICS", "read_layers",
+           "parse_values", "build_layers", "accents", "layer_times"]
+
+ROLES = ("pad", "hits")
+DYNAMICS = ("ppp", "pp", "p", "mp", "mf", "f", "ff")
+_VALUE_RE = re.compile(r"^(r?)(1|2|4|8|16)(\.?)(t?)$")
+
+
+@dataclass(frozen=True, slots=True)
+class Layer:
+    index: int                                   # 1-based, in file order
+    section: Section
+    role: str                                    # "pad" | "hits"
+    rhythm: tuple[tuple[Fraction, bool], ...]    # (note value in quarters, is a rest)
+    rhythm_text: str
+    dynamics: str
+
+    @property
+    def velocity(self) -> int:
+        return velocity(self.dynamics)
+
+
+@dataclass(frozen=True, slots=True)
+class LayerNote:
+    onset: Fraction
+    duration: Fraction
+    chord: Chord
+    pitches: tuple[int, ...]     # sounding, top to bottom, one per part
+
+
+@dataclass(frozen=True, slots=True)
+class LayerFinding:
+    kind: str
+    event: int | None            # the lead event sounding at the background chord's onset
+    part: str | None             # the layer's part
+    message: str
+    severity: str = "warning"
+    other_part: str | None = None   # the lead-section part of a clash
+    note: int | None = None         # 0-based index of the background chord
+
+
+@dataclass(frozen=True, slots=True)
+class VoicedLayer:
+    layer: Layer
+    notes: tuple[LayerNote, ...]
+    findings: tuple[LayerFinding, ...]
+
+
+def parse_values(text: str, *, where: str) -> tuple[tuple[Fraction, bool], ...]:
+    """Note values: ``1`` whole, ``2`` half, ``4``, ``8``, ``16``; ``.`` dotted, ``t``
+    triplet, ``r`` a rest (``"2 r4 4"``)."""
+    out = []
+    for i, tok in enumerate(text.split(), start=1):
+        m = _VALUE_RE.match(tok)
+        if not m:
+            raise ProjectError(f"note value {tok!r} (token {i}) is not known", where=where,
+                               accepted="1 2 4 8 16, dotted '2.', triplet '8t', rest 'r4'")
+        v = Fraction(4, int(m.group(2)))
+        if m.group(3):
+            v *= Fraction(3, 2)
+        if m.group(4):
+            v *= Fraction(2, 3)
+        out.append((v, bool(m.group(1))))
+    if not out or all(rest for _v, rest in out):
+        raise ProjectError(f"rhythm {text!r} has no note", where=where,
+                           accepted="note values such as \"1\", \"2 2\", \"2. 4\"")
+    return tuple(out)
+
+
+def _layer(t: Table, index: int) -> Layer:
+    lr = layer_rules()
+    raw = t.raw("section")
+    if isinstance(raw, str):
+        section = section_from_table(Table({"name": raw}, t.where, t.key("section")))
+    elif isinstance(raw, dict):
+        st = Table(raw, t.where, t.key("section"))
+        section = section_from_table(st)
+        st.finish()
+    else:
+        raise t.error("section", f"{raw!r}", "a section name (arrange sections) or an inline "
+                      "table { name = ..., parts = [...] }")
+    role = t.string("role", "pad", choices=ROLES)
+    rhythm_text = t.string("rhythm", lr.default(f"{role}_rhythm"))
+    rhythm = parse_values(rhythm_text, where=t.at("rhythm"))
+    dyn = t.string("dynamics", lr.default(f"{role}_dynamics"), choices=DYNAMICS)
+    t.finish()
+    return Layer(index, section, role, rhythm, rhythm_text, dyn)
+
+
+def read_layers(raw: object, where: str) -> tuple[Layer, ...]:
+    """``[[layers]]``: an array of tables (section, role, rhythm, dynamics)."""
+    if raw is None:
+        return ()
+    if not isinstance(raw, list) or not all(isinstance(x, dict) for x in raw):
+        raise ProjectError(f"layers = {raw!r}", where=f"{where}, key 'layers'",
+                           accepted="an array of tables: [[layers]] with section, role, rhythm, dynamics")
+    return tuple(_layer(Table(item, where, f"layers[{i}]"), i) for i, item in enumerate(raw, start=1))
+
+
+def _spans(framework: tuple[FrameworkChord, ...], total: Fraction) -> list[tuple[Fraction, Fraction, Chord]]:
+    """Framework chords with repeats merged: (onset, end, chord)."""
+    out: list[tuple[Fraction, Fraction, Chord]] = []
+    for fc in framework:
+        if fc.onset >= total:
+            break
+        end = min(fc.onset + fc.duration, total)
+        if out and out[-1][2] == fc.chord and out[-1][1] == fc.onset:
+            out[-1] = (out[-1][0], end, fc.chord)
+        else:
+            out.append((fc.onset, end, fc.chord))
+    return out
+
+
+def accents(harmonized: Harmonized) -> tuple[int, ...]:
+    """Indices of the lead notes that carry the groove's accents: the notes the
+    rhythm stage marks ``accent`` (or anticipated).  A passage the groove marks
+    none in (a straight groove without anticipations) falls back to metric
+    weight: downbeats, off-beat notes held over the next beat, and the line's
+    peaks on the beat."""
+    notes = harmonized.line.notes
+    marked = [i for i, n in enumerate(notes) if getattr(n, "articulation", "") in ("accent", "marcato")
+              or getattr(n, "anticipated", False)]
+    if marked:
+        return tuple(marked)
+    beat = Fraction(4, harmonized.line.meter.denominator)
+    out = []
+    for i, n in enumerate(notes):
+        next_beat = (n.onset // beat + 1) * beat
+        anticipation = n.weight >= 2 and n.onset + n.duration > next_beat
+        prev_p = notes[i - 1].pitch if i else -1
+        next_p = notes[i + 1].pitch if i + 1 < len(notes) else -1
+        peak = n.weight <= 1 and n.pitch > prev_p and n.pitch > next_p
+        if n.weight == 0 or anticipation or peak:
+            out.append(i)
+    return tuple(out)
+
+
+def layer_times(harmonized: Harmonized, layer: Layer) -> list[tuple[Fraction, Fraction, Chord]]:
+    """(onset, duration, framework chord) of every background chord of ``layer``."""
+    total = harmonized.line.total
+    spans = _spans(harmonized.framework, total)
+    out: list[tuple[Fraction, Fraction, Chord]] = []
+    if layer.role == "pad":
+        for start, end, chord in spans:
+            t, k = start, 0
+            while t < end:
+                value, rest = layer.rhythm[k % len(layer.rhythm)]
+                dur = min(value, end - t)
+                if not rest:
+                    out.append((t, dur, chord))
+                t += dur
+                k += 1
+        return out
+    for k, i in enumerate(accents(harmonized)):
+        onset = harmonized.line.notes[i].onset
+        value, rest = layer.rhythm[k % len(layer.rhythm)]
+        span = next((s for s in spans if s[0] <= onset < s[1]), None)
+        if rest or span is None or (out and out[-1][0] + out[-1][1] > onset):
+            continue
+        # a hit punches the chord the lead section plays on that accent (approach chords included)
+        out.append((onset, min(value, span[1] - onset), harmonized.events[i].chord))
+    return out
+
+
+def _sounding(voiced: Voiced, onset: Fraction, dur: Fraction) -> list[tuple[int, float, tuple[int, ...]]]:
+    """Lead-section events overlapping [onset, onset + dur): (event index, share, pitches)."""
+    end = onset + dur
+    out = []
+    for i, ve in enumerate(voiced.events):
+        n = ve.event.note
+        lo, hi = max(onset, n.onset), min(end, n.onset + n.duration)
+        if hi > lo:
+            out.append((i, float((hi - lo) / dur), ve.pitches))
+    return out
+
+
+def _solve(cands: list[np.ndarray], costs: list[np.ndarray]) -> list[int]:
+    """One candidate per chord minimising costs plus motion (semitones, every voice;
+    common tones free) plus a leap cost beyond a whole step."""
+    motion, leap = recipes().weight("motion"), layer_rules().weight("leap")
+    total = costs[0].astype(float)
+    back = []
+    for i in range(1, len(cands)):
+        d = np.abs(cands[i - 1][:, None, :] - cands[i][None, :, :])
+        step = (motion * d + leap * np.clip(d - 2, 0, None)).sum(axis=2)
+        whole = total[:, None] + step
+        arg = whole.argmin(axis=0)
+        back.append(arg)
+        total = whole[arg, np.arange(len(cands[i]))] + costs[i]
+    j = int(total.argmin())
+    path = [j]
+    for arg in reversed(back):
+        j = int(arg[j])
+        path.append(j)
+    return path[::-1]
+
+
+def _voice_layer(harmonized: Harmonized, voiced: Voiced, layer: Layer) -> VoicedLayer:
+    times = layer_times(harmonized, layer)
+    if not times:
+        return VoicedLayer(layer, (), ())
+    cands, costs, sounding = [], [], []
+    for onset, dur, chord in times:
+        P, c = candidates(chord, layer.section)
+        snd = _sounding(voiced, onset, dur)
+        cands.append(P)
+        costs.append(c + cross_costs(P, [(w, p) for _i, w, p in snd], chord))
+        sounding.append(snd)
+    path = _solve(cands, costs)
+    chosen = np.stack([cands[i][j] for i, j in enumerate(path)])
+    notes = tuple(LayerNote(o, d, ch, tuple(int(p) for p in row))
+                  for (o, d, ch), row in zip(times, chosen, strict=True))
+    return VoicedLayer(layer, notes, tuple(_findings(harmonized, voiced, layer, notes, sounding)))
+
+
+def _findings(harmonized: Harmonized, voiced: Voiced, layer: Layer, notes: tuple[LayerNote, ...],
+              sounding: list[list[tuple[int, float, tuple[int, ...]]]]) -> list[LayerFinding]:
+    bar_len = harmonized.line.meter.bar
+    bars = [int(n.onset // bar_len) + 1 for n in notes]
+    P = np.array([n.pitches for n in notes], dtype=np.int64)
+    ctx = rules.context([n.chord for n in notes], ["spread"] * len(notes))
+    sec, lead_parts = layer.section, voiced.section.parts
+    name = f"layer {layer.index} ({layer.role}, {sec.name})"
+    out = []
+    first_event = [snd[0][0] if snd else None for snd in sounding]
+    for kind, i, part, msg, severity in rules.findings(P, ctx, sec, bars=bars, allow_extreme=True,
+                                                       vtypes=["spread"] * len(notes)):
+        out.append(LayerFinding(kind, first_event[i], part, f"{name}, {msg}", severity, None, i))
+    for i, (n, snd) in enumerate(zip(notes, sounding, strict=True)):
+        lows = [min(p) for _e, _w, p in snd]
+        if lows and n.pitches[0] >= min(lows):
+            out.append(LayerFinding(
+                "layer-above-lead", first_event[i], sec.parts[0].name,
+                f"{name}, bar {bars[i]}: {sec.parts[0].name} {pitch_name(n.pitches[0])} sits at or "
+                f"above the lead section's lowest note {pitch_name(min(lows))}", "warning", None, i))
+        layer_row = np.array([n.pitches], dtype=np.int64)
+        seen: set[tuple[int, int, int, int]] = set()
+        for e, _w, pitches in snd:
+            hits = clash_pairs(layer_row, np.array(pitches, dtype=np.int64), n.chord)[0]
+            for j, q in zip(*np.nonzero(hits), strict=True):
+                a, b = n.pitches[int(j)], pitches[int(q)]
+                if (int(j), int(q), a, b) in seen:     # one finding per pair while the chord holds
+                    continue
+                seen.add((int(j), int(q), a, b))
+                kind = "clash-minor-second" if abs(a - b) == 1 else "clash-minor-ninth"
+                what = "a minor second" if abs(a - b) == 1 else (
+                    "a minor ninth" if abs(a - b) == 13 else "a compound minor ninth")
+                bar = int(voiced.events[e].event.note.onset // bar_len) + 1
+                out.append(LayerFinding(
+                    kind, e, sec.parts[int(j)].name,
+                    f"{name}, bar {bar}: {sec.parts[int(j)].name} {pitch_name(a)} against "
+                    f"{lead_parts[int(q)].name} {pitch_name(b)} of the lead section, {what} "
+                    f"sounding together (over {n.chord.symbol})", "warning",
+                    lead_parts[int(q)].name, i))
+    return out
+
+
+def build_layers(harmonized: Harmonized, voiced: Voiced,
+                 layer_options: tuple[Layer, ...]) -> tuple[VoicedLayer, ...]:
+    """Every background layer, voiced under the lead section."""
+    return tuple(_voice_layer(harmonized, voiced, layer) for layer in layer_options)

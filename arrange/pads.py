@@ -1,0 +1,207 @@
+"""Background chords: the candidate voicings of one pad or hit chord and their costs.
+
+A background chord voices a framework chord for a layer's section with the
+guide tones first (third and seventh), then the tensions the chord allows
+(``voicing_rules/layers.toml`` [tensions]), then root and fifth.  Candidates
+are scored with the voicing stage's own rule checks (:mod:`arrange.rules`:
+ranges, low-interval limits, crossing, minor ninths, doublings) plus the
+layer's costs: sitting at or above the lead section's lowest note, and minor
+seconds or minor ninths against lead-section notes that sound with it.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import lru_cache
+from itertools import combinations, permutations, product
+
+import numpy as np
+
+from . import rules
+from .chords import Chord
+from .errors import VoicingError
+from .sections import Section, read_rules
+from .shapes import fifth_pc, recipes
+
+__all__ = ["LayerRules", "layer_rules", "tone_order", "pc_sets", "candidates", "cross_costs",
+           "clash_pairs", "velocity"]
+
+
+@dataclass(frozen=True, slots=True)
+class LayerRules:
+    defaults: tuple[tuple[str, str], ...]
+    tension_order: tuple[int, ...]
+    families: tuple[tuple[int, ...], ...]
+    max_gap: int
+    max_bottom_gap: int
+    weights: tuple[tuple[str, float], ...]
+    velocities: tuple[tuple[str, int], ...]
+
+    def default(self, name: str) -> str:
+        return dict(self.defaults)[name]
+
+    def weight(self, name: str) -> float:
+        return dict(self.weights)[name]
+
+
+@lru_cache(maxsize=1)
+def layer_rules() -> LayerRules:
+    where = "voicing_rules/layers.toml"
+    d = read_rules("layers.toml")
+    try:
+        lr = LayerRules(
+            tuple((k, str(v)) for k, v in d["defaults"].items()),
+            tuple(int(t) % 12 for t in d["tensions"]["order"]),
+            tuple(tuple(int(t) % 12 for t in f) for f in d["tensions"]["families"]),
+            int(d["shape"]["max_gap"]), int(d["shape"]["max_bottom_gap"]),
+            tuple((k, float(v)) for k, v in d["weights"].items()),
+            tuple((k, int(v)) for k, v in d["velocity"].items()))
+        for k in ("above_lead", "above_lead_step", "clash", "choice", "missing_guide", "doubled", "leap"):
+            lr.weight(k)
+        for k in ("pad_rhythm", "hits_rhythm", "pad_dynamics", "hits_dynamics"):
+            lr.default(k)
+    except (KeyError, TypeError, ValueError) as err:
+        raise VoicingError(f"the layer table is broken ({err!r})", where=where,
+                           accepted="tables defaults, tensions, shape, weights, velocity") from None
+    if any(not 1 <= v <= 127 for _k, v in lr.velocities):
+        raise VoicingError("a velocity outside 1..127", where=f"{where} [velocity]",
+                           accepted="MIDI velocities 1..127")
+    return lr
+
+
+def velocity(dynamic: str) -> int:
+    return dict(layer_rules().velocities)[dynamic]
+
+
+def tone_order(chord: Chord) -> tuple[int, ...]:
+    """Pitch classes in the order a background voices them: guide tones (third,
+    seventh or sixth), then allowed tensions, then root and fifth."""
+    lr = layer_rules()
+    iv = {i % 12 for i in chord.intervals}
+    third = next((t for t in (4, 3, 5) if t in iv), None)
+    seventh = next((t for t in (10, 11, 9) if t in iv), None)
+    if chord.quality == "dim7":
+        seventh = 9
+    order: list[int] = [t for t in (third, seventh) if t is not None]
+    allowed = {t % 12 for t in chord.tensions} - iv
+    used_family: set[int] = set()
+    for t in lr.tension_order:
+        fam = next((k for k, f in enumerate(lr.families) if t in f), -1 - t)
+        if t in allowed and fam not in used_family:
+            order.append(t)
+            used_family.add(fam)
+    # a natural 13 or b13 beside the fifth makes a second inside the pad: leave the fifth out
+    rest = [0] + ([] if {8, 9} & set(order[2:]) else [(fifth_pc(chord) - chord.root) % 12])
+    order += [t for t in rest if t not in order]
+    order += [t for t in sorted(iv) if t not in order]
+    return tuple((chord.root + t) % 12 for t in order)
+
+
+def pc_sets(chord: Chord, n: int) -> list[tuple[tuple[int, ...], float]]:
+    """Multisets of ``n`` pitch classes to voice, each with its preference cost.
+    Leaving out a guide tone costs ``missing_guide`` (so a pad drops one only to
+    avoid a clash with the lead section); more parts than tones double
+    root, then fifth, then the rest in order."""
+    lr = layer_rules()
+    order = tone_order(chord)
+    guides = order[:2]
+    if n > len(order):
+        base = list(order)
+        extra = [order[order.index(chord.root)]] + [p for p in order if p != chord.root]
+        k = 0
+        while len(base) < n:
+            base.append(extra[k % len(extra)])
+            k += 1
+        return [(tuple(base), lr.weight("doubled") * (n - len(order)))]
+    best = sum(range(n))
+    out = []
+    for combo in combinations(range(len(order)), n):
+        pcs = tuple(order[i] for i in combo)
+        missing = len(set(guides) - set(pcs)) if n >= len(guides) else 0
+        if n >= 2 and missing == len(guides):      # a background always has a guide tone
+            continue
+        out.append((pcs, lr.weight("choice") * (sum(combo) - best) + lr.weight("missing_guide") * missing))
+    return out
+
+
+def _stack(order: tuple[int, ...], top: int, opens: tuple[bool, ...]) -> tuple[int, ...]:
+    voices = [top]
+    for pc, open_ in zip(order[1:], opens, strict=True):
+        below = voices[-1] - ((voices[-1] - pc) % 12 or 12)
+        voices.append(below - 12 if open_ else below)
+    return tuple(voices)
+
+
+@lru_cache(maxsize=2048)
+def _shapes(pcs: tuple[int, ...], lo: int, hi: int, n: int) -> tuple[tuple[int, ...], ...]:
+    lr = layer_rules()
+    found: set[tuple[int, ...]] = set()
+    orders = set(permutations(pcs)) if n <= 5 else {pcs[i:] + pcs[:i] for i in range(n)}
+    open_choices = list(product((False, True), repeat=n - 1)) if n <= 5 else [(False,) * (n - 1)]
+    for order in orders:
+        for top in range(hi - 11, hi + 1):
+            if top % 12 != order[0]:
+                continue
+            for t in (top, top - 12, top - 24):
+                for opens in open_choices:
+                    v = _stack(order, t, opens)
+                    if v[-1] < lo or v[0] > hi:
+                        continue
+                    gaps = [a - b for a, b in zip(v, v[1:], strict=False)]
+                    if n > 1 and (max(gaps[:-1] or [0]) > lr.max_gap or gaps[-1] > lr.max_bottom_gap):
+                        continue
+                    found.add(v)
+    return tuple(sorted(found, reverse=True))
+
+
+def candidates(chord: Chord, section: Section) -> tuple[np.ndarray, np.ndarray]:
+    """Candidate voicings ``(k, n)`` (sounding, top to bottom) and their costs ``(k,)``:
+    preference cost plus the voicing stage's weighted rule penalties."""
+    n = len(section.parts)
+    lo = min(p.instrument.practical[0] for p in section.parts)
+    hi = max(p.instrument.practical[1] for p in section.parts)
+    rows: list[tuple[int, ...]] = []
+    base: list[float] = []
+    for pcs, cost in pc_sets(chord, n):
+        for v in _shapes(tuple(sorted(pcs)), lo, hi, n):
+            rows.append(v)
+            base.append(cost)
+    if not rows:
+        raise VoicingError(f"no voicing of {chord.symbol} fits the section {section.name!r}",
+                           where="[[layers]] section",
+                           accepted="a section whose parts' practical ranges overlap enough to hold a chord")
+    P = np.array(rows, dtype=np.int64)
+    weights = {k: recipes().weight(k) for k in rules.KINDS}
+    ctx = rules.context([chord] * len(P), ["spread"] * len(P))
+    cost = np.array(base) + rules.penalties(rules.masks(P, ctx, section), weights)
+    return P, cost
+
+
+def clash_pairs(layer: np.ndarray, lead: np.ndarray, chord: Chord) -> np.ndarray:
+    """``(m, n, q)`` bool: voice j of background voicing i against lead-section pitch
+    q lies a minor second, minor ninth or compound apart.  The b9 over a dominant's
+    root is kept, as inside a section (:mod:`arrange.rules`)."""
+    d = lead[None, None, :] - layer[:, :, None]
+    hit = (np.abs(d) % 12 == 1)
+    if chord.is_dominant:
+        low = np.where(d > 0, layer[:, :, None], lead[None, None, :]) % 12
+        high = np.where(d > 0, lead[None, None, :], layer[:, :, None]) % 12
+        ok = (low == chord.root) & (high == (chord.root + 1) % 12) & (np.abs(d) >= 13)
+        hit &= ~ok
+    return hit
+
+
+def cross_costs(P: np.ndarray, sounding: list[tuple[float, tuple[int, ...]]], chord: Chord) -> np.ndarray:
+    """Costs ``(k,)`` of each candidate against the lead-section notes sounding with it,
+    given as ``(share of the chord's time, pitches)`` pairs."""
+    lr = layer_rules()
+    cost = np.zeros(len(P))
+    if not sounding:
+        return cost
+    lowest = min(min(p) for _w, p in sounding)
+    above = P >= lowest
+    cost += lr.weight("above_lead") * above.sum(axis=1)
+    cost += lr.weight("above_lead_step") * np.clip(P - lowest + 1, 0, None).sum(axis=1)
+    for share, pitches in sounding:
+        hits = clash_pairs(P, np.array(pitches, dtype=np.int64), chord)
+        cost += lr.weight("clash") * (0.5 + share) * hits.sum(axis=(1, 2))
+    return cost

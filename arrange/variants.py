@@ -1,0 +1,224 @@
+"""Variants: one project built in every combination of a few varied keys.
+
+``arrange build P.toml --vary voicing=close,drop2,spread --vary tempo=96,132 -o DIR``
+expands on the raw TOML data: each ``--vary`` names a project key by its dotted
+name (``section.voicing``, ``rhythm.swing``, ``layers.1.role``) or by a short name
+(:data:`SHORT`), and a comma list of values.  Every combination is read by
+:func:`arrange.project.project_from_data` and built in memory first, so an
+unknown key or a bad value stops everything (exit 2, naming it) before a file
+is written.  Then each combination goes into its own folder and ``DIR/variants.md``
+gets a table: combination, warnings, lead span, lowest note, and a picture.
+"""
+from __future__ import annotations
+
+import tomllib
+from collections.abc import Callable
+from copy import deepcopy
+from dataclasses import dataclass
+from itertools import product
+from pathlib import Path
+from typing import Any
+
+from .errors import ArrangeError, ProjectError
+from .pitch import pitch_name
+from .project import Project, load_project, project_from_data, slugify
+
+__all__ = ["SHORT", "Vary", "parse_vary", "expand", "Variant", "build_variants", "variants_markdown",
+           "MAX_VARIANTS"]
+
+# short names an arranger types, and the dotted key each stands for
+SHORT = {
+    "voicing": "section.voicing", "section": "section.name", "groove": "rhythm.groove",
+    "swing": "rhythm.swing", "cell": "rhythm.cell", "framework": "harmony.framework",
+    "approach": "harmony.approach", "motif": "chain.motif", "statements": "chain.statements",
+    "overlap": "chain.overlap",
+}
+MAX_VARIANTS = 64
+
+
+@dataclass(frozen=True, slots=True)
+class Vary:
+    key: str                       # dotted key
+    text: str                      # as typed, for messages
+    values: tuple[str, ...]
+
+
+def parse_vary(spec: str) -> Vary:
+    where = f"--vary {spec!r}"
+    name, eq, rest = spec.partition("=")
+    name = name.strip()
+    values = tuple(v.strip() for v in rest.split(","))
+    if not eq or not name or not rest.strip() or any(not v for v in values):
+        raise ProjectError(f"{spec!r} is not KEY=VALUE,VALUE", where=where,
+                           accepted="e.g. --vary voicing=close,drop2 or --vary section.voicing=spread")
+    if len(set(values)) != len(values):
+        raise ProjectError(f"{spec!r} repeats a value", where=where, accepted="different values")
+    key = SHORT.get(name, name)
+    if "." not in key and name not in SHORT and not name.isidentifier():
+        raise ProjectError(f"key {name!r} is not known", where=where, accepted=_accepted_keys())
+    return Vary(key, name, values)
+
+
+def _accepted_keys() -> str:
+    return ("a dotted key of the project (section.voicing, rhythm.swing, tempo, layers.1.role) or "
+            "a short name: " + ", ".join(f"{k} ({v})" for k, v in SHORT.items()))
+
+
+def _typed(text: str, old: Any) -> Any:
+    """A value typed like the one it replaces (or, for a new key, as TOML reads it)."""
+    if isinstance(old, str):
+        return text
+    try:
+        value = tomllib.loads(f"v = {text}")["v"]
+    except tomllib.TOMLDecodeError:
+        return text
+    if isinstance(old, float) and isinstance(value, int) and not isinstance(value, bool):
+        return float(value)
+    return value
+
+
+def _set(data: dict[str, Any], vary: Vary, text: str) -> None:
+    where = f"--vary {vary.text}={text}"
+    node: Any = data
+    parts = vary.key.split(".")
+    for depth, seg in enumerate(parts):
+        last = depth == len(parts) - 1
+        if isinstance(node, list):
+            if not seg.isdigit() or not 1 <= int(seg) <= len(node):
+                raise ProjectError(f"key {vary.key!r}: {seg!r} is not an entry of "
+                                   f"{'.'.join(parts[:depth])}", where=where,
+                                   accepted=f"entries 1..{len(node)}")
+            if last:
+                node[int(seg) - 1] = _typed(text, node[int(seg) - 1])
+                return
+            node = node[int(seg) - 1]
+            continue
+        if not isinstance(node, dict):
+            raise ProjectError(f"key {vary.key!r}: {'.'.join(parts[:depth])!r} is not a table",
+                               where=where, accepted=_accepted_keys())
+        if last:
+            node[seg] = _typed(text, node.get(seg))
+            return
+        node = node.setdefault(seg, {})
+
+
+@dataclass(frozen=True, slots=True)
+class Variant:
+    name: str                                # "voicing=close, tempo=96"
+    folder: str                              # a slug, unique
+    project: Project
+
+
+def expand(data: dict[str, Any], varies: list[Vary], where: str, path: Path | None) -> list[Variant]:
+    """Every combination, read as a project; errors name the --vary that caused them."""
+    keys = [v.key for v in varies]
+    if len(set(keys)) != len(keys):
+        raise ProjectError(f"the key {next(k for k in keys if keys.count(k) > 1)!r} is varied twice",
+                           where="--vary", accepted="each key once")
+    count = 1
+    for v in varies:
+        count *= len(v.values)
+    if count > MAX_VARIANTS:
+        raise ProjectError(f"{count} combinations", where="--vary",
+                           accepted=f"at most {MAX_VARIANTS} combinations")
+    # each value alone first, so the error names the one value that is wrong
+    for v in varies:
+        for text in v.values:
+            one = deepcopy(data)
+            _set(one, v, text)
+            _read(one, where, path, f"--vary {v.text}={text}")
+    out, seen = [], set()
+    for combo in product(*(v.values for v in varies)):
+        one = deepcopy(data)
+        for v, text in zip(varies, combo, strict=True):
+            _set(one, v, text)
+        name = ", ".join(f"{v.text}={t}" for v, t in zip(varies, combo, strict=True))
+        folder = slugify("_".join(f"{v.text}-{t}" for v, t in zip(varies, combo, strict=True)))
+        while folder in seen:
+            folder += "-x"
+        seen.add(folder)
+        out.append(Variant(name, folder, _read(one, where, path, f"--vary {name}")))
+    return out
+
+
+def _read(data: dict[str, Any], where: str, path: Path | None, vary_where: str) -> Project:
+    try:
+        return project_from_data(data, where, path)
+    except ArrangeError as err:
+        raise ProjectError(f"{err.what} (at {err.where})" if err.where else err.what,
+                           where=vary_where, accepted=err.accepted) from None
+
+
+def build_variants(project_path: Path, specs: tuple[str, ...], out_dir: Path,
+                   formats: tuple[str, ...] | None = None,
+                   adjust: Callable[[Project], Project] | None = None) -> list[Path]:
+    """Build every combination into ``out_dir/<folder>/`` and write ``variants.md``."""
+    from .build import render_outputs, run_layers, run_pipeline
+    from .writers.files import write_batch
+
+    varies = [parse_vary(s) for s in specs]
+    load_project(project_path)                 # the file itself is sound before anything is varied
+    p = Path(project_path)
+    data = tomllib.loads(p.read_text(encoding="utf-8"))
+    variants = expand(data, varies, p.name, p.resolve())
+    if adjust is not None:                     # the command line's own flags (--parts, ...)
+        variants = [Variant(v.name, v.folder, adjust(v.project)) for v in variants]
+    rendered = []
+    for var in variants:                       # everything in memory before a file is written
+        try:
+            voiced = run_pipeline(var.project)
+            layers = run_layers(var.project, voiced)
+            fmts = formats or var.project.output.formats
+            files = render_outputs(var.project, voiced, fmts, layers=layers)
+        except ArrangeError as err:
+            raise type(err)(err.what, where=f"--vary {var.name}: {err.where or ''}".rstrip(": "),
+                            accepted=err.accepted) from None
+        rendered.append((var, voiced, layers, files))
+    written: list[Path] = []
+    rows = []
+    for var, voiced, layers, files in rendered:
+        written += write_batch(out_dir / var.folder, files)
+        rows.append(_row(var, voiced, layers, files))
+    written += write_batch(out_dir, {"variants.md": variants_markdown(p.name, varies, rows)})
+    return written
+
+
+def _row(var: Variant, voiced: Any, layers: Any, files: dict[str, bytes]) -> dict[str, Any]:
+    chain = voiced.harmonized.line.chain
+    lo, hi = chain.span
+    warnings = (len(voiced.findings) + len(voiced.harmonized.warnings)
+                + sum(len(v.findings) for v in layers))
+    low, part = None, ""
+    for ve in voiced.events:
+        for k, pitch in enumerate(ve.pitches):
+            if low is None or pitch < low:
+                low, part = pitch, voiced.section.parts[k].name
+    for vl in layers:
+        for n in vl.notes:
+            for k, pitch in enumerate(n.pitches):
+                if low is None or pitch < low:
+                    low, part = pitch, vl.layer.section.parts[k].name
+    slug = var.project.slug
+    picture = next((f"{slug}.{ext}" for ext in ("png", "svg") if f"{slug}.{ext}" in files), None)
+    score = f"{slug}.musicxml" if f"{slug}.musicxml" in files else None
+    return {"name": var.name, "folder": var.folder, "warnings": warnings,
+            "span": f"{pitch_name(lo)}-{pitch_name(hi)} ({hi - lo} semitones)",
+            "lowest": f"{pitch_name(low)} ({part})" if low is not None else "-",
+            "picture": picture, "score": score}
+
+
+def variants_markdown(source: str, varies: list[Vary], rows: list[dict[str, Any]]) -> bytes:
+    out = [f"# Variants of {source}", "",
+           "Varied: " + "; ".join(f"`{v.key}` = {', '.join(v.values)}" for v in varies) + ".", "",
+           "| combination | folder | warnings | lead span | lowest note | preview |",
+           "| --- | --- | --- | --- | --- | --- |"]
+    for r in rows:
+        if r["picture"]:
+            pic = f"![{r['name']}]({r['folder']}/{r['picture']})"
+        elif r["score"]:
+            pic = f"no preview written: [score]({r['folder']}/{r['score']})"
+        else:
+            pic = "no preview or score written"
+        out.append(f"| {r['name']} | [{r['folder']}]({r['folder']}/) | {r['warnings']} | {r['span']} | "
+                   f"{r['lowest']} | {pic} |")
+    return ("\n".join(out) + "\n").encode("utf-8")

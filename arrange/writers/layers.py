@@ -1,0 +1,237 @@
+"""Background layers in every output: score parts, MIDI tracks, report entries.
+
+Kept apart from the lead section's writers so each stays one job:
+
+* :func:`add_layer_parts` -- one music21 part per layer part, after the lead
+  section's parts, each section grouped and bracketed (MusicXML ``<part-group>``);
+* :func:`layer_tracks` -- one MIDI track per layer part, at the layer's dynamic;
+* :func:`layers_data`, :func:`layer_warnings`, :func:`layers_markdown` -- the
+  ``layers`` of ``report.json``, its warnings, and the report's section.
+"""
+from __future__ import annotations
+
+from fractions import Fraction
+from typing import Any
+
+from ..layers import VoicedLayer
+from ..notation import pieces
+from ..pitch import pitch_name
+from ..voicing import Voiced
+
+__all__ = ["add_layer_parts", "layer_sounds", "layer_tracks", "layers_data", "layer_warnings", "layers_markdown"]
+
+
+def _num(q: Fraction) -> float | int:
+    return int(q) if q.denominator == 1 else float(q)
+
+
+def _bracket(score, parts) -> None:  # noqa: ANN001
+    """One section's parts in a bracketed group (no group name: printed beside the
+    part names it would crowd them)."""
+    from music21 import layout
+
+    group = layout.StaffGroup(parts, symbol="bracket", barTogether=True)
+    score.insert(0, group)
+
+
+def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info=None) -> None:  # noqa: ANN001
+    """Append the layers' parts to ``score`` (built by ``build_score``), below the
+    lead section, and bracket each section.  Notes are spelled, key signatures
+    changed and accidentals printed as in the lead section's parts."""
+    from music21 import bar, dynamics, key, layout, meter, note, stream
+
+    from ..spelling import direction_of, m21_name, spell_pitch
+    from .midi import channel_for
+    from .musicxml import (
+        _accidental,
+        _articulation,
+        _clef,
+        _duration,
+        _fill_rests,
+        _instrument,
+        _offset,
+        _tie,
+        _tuplet_brackets,
+    )
+
+    if not layers:
+        return
+    concert = bool(getattr(info, "concert", False))
+    h = voiced.harmonized
+    line = h.line
+    bar_len = line.meter.bar
+    n_measures = line.measures
+    shift = 1 if line.pickup else 0
+    lead_parts = list(score.parts)
+    grouped = {id(p) for g in score.getElementsByClass(layout.StaffGroup) for p in g.getSpannedElements()}
+    if lead_parts and not any(id(p) in grouped for p in lead_parts):
+        _bracket(score, lead_parts)
+    index = len(lead_parts)
+    for vl in layers:
+        new_parts = []
+        for k, part in enumerate(vl.layer.section.parts):
+            p = stream.Part(id=f"P{index + 1}")
+            p.atSoundingPitch = True
+            p.partName = part.name
+            p.partAbbreviation = part.abbreviation
+            measures = []
+            for m_i in range(n_measures):
+                m = stream.Measure(number=m_i + 1 - shift)
+                if shift and m_i == 0:
+                    m.showNumber = stream.enums.ShowNumber.NEVER
+                    m.paddingLeft = float(bar_len - line.pickup)
+                if m_i == 0:
+                    inst = _instrument(part, index, concert)
+                    inst.midiChannel = channel_for(index)
+                    m.insert(0, inst)
+                    m.insert(0, _clef(part.instrument.clef))
+                    m.insert(0, key.Key(m21_name(h.key.tonic_name), h.key.signature_mode))
+                    m.insert(0, meter.TimeSignature(str(line.meter)))
+                elif h.key_at(m_i + 1 - shift) != h.key_at(m_i - shift):
+                    kc = h.key_at(m_i + 1 - shift)      # a key change by bar, as the lead's
+                    m.insert(0, key.Key(m21_name(kc.tonic_name), kc.signature_mode))
+                measures.append(m)
+            shown: dict[tuple[int, str, int], int] = {}
+            respell = bool(part.instrument.transposition) and not concert
+            voice = [n.pitches[k] for n in vl.notes]
+            entered = False
+            for i, n in enumerate(vl.notes):
+                way = direction_of(voice[i - 1] if i else None, voice[i],
+                                   voice[i + 1] if i + 1 < len(voice) else None)
+                name = m21_name(spell_pitch(voice[i], h.key_at(int(n.onset // bar_len) + 1), n.chord, way))
+                for j, pc in enumerate(pieces(n.onset, n.duration, line.meter, pickup=line.pickup)):
+                    nt = note.Note(name)
+                    nt.duration = _duration(pc.duration)
+                    if pc.tie_start and pc.tie_stop:
+                        nt.tie = _tie("continue")
+                    elif pc.tie_start:
+                        nt.tie = _tie("start")
+                    elif pc.tie_stop:
+                        nt.tie = _tie("stop")
+                    if j == 0 and vl.layer.role == "hits":   # a hit is played accented
+                        nt.articulations.append(_articulation("accent"))
+                    if j == 0 and not entered:      # a dynamic at the entrance
+                        measures[pc.measure].insert(_offset(pc.offset), dynamics.Dynamic(vl.layer.dynamics))
+                        entered = True
+                    if not respell:
+                        _accidental(nt, pc, shown, h.key_at(pc.measure + 1 - shift))
+                    measures[pc.measure].insert(_offset(pc.offset), nt)
+            for m_i, m in enumerate(measures):
+                m_start = -line.pickup if shift and m_i == 0 else (m_i - shift) * bar_len
+                m_len = line.pickup if shift and m_i == 0 else bar_len
+                _fill_rests(m, m_len, line.meter, m_start, line.pickup)
+                _tuplet_brackets(m)
+            measures[-1].rightBarline = bar.Barline("final")
+            for m in measures:
+                p.append(m)
+            score.insert(0, p)
+            new_parts.append(p)
+            index += 1
+        _bracket(score, new_parts)
+
+
+def layer_sounds(data: bytes, voiced: Voiced, layers: tuple[VoicedLayer, ...]) -> bytes:
+    """``<instrument-sound>`` (MusicXML 4.0 sound ids) for the layers' parts, which
+    music21 leaves out, as ``xmlfinish`` does for the lead section's."""
+    import re
+    from xml.sax.saxutils import escape
+
+    from .xmlfinish import _SCORE_INSTRUMENT
+
+    first = len(voiced.section.parts)
+    extra = [p for vl in layers for p in vl.layer.section.parts]
+
+    def sound(m: re.Match[bytes]) -> bytes:
+        k = int(m.group(2)) - 1 - first
+        body = m.group(3)
+        if b"<instrument-sound>" in body or not 0 <= k < len(extra):
+            return m.group(0)
+        indent = re.search(rb"\n(\s*)<instrument-name>", body)
+        pad = indent.group(1) if indent else b""
+        tag = (b"\n" + pad + b"<instrument-sound>" + escape(extra[k].instrument.sound).encode()
+               + b"</instrument-sound>")
+        return m.group(1) + body + tag + m.group(4)
+
+    return _SCORE_INSTRUMENT.sub(sound, data)
+
+
+def layer_tracks(layers: tuple[VoicedLayer, ...], first_index: int, lead_in: Fraction,
+                 track_from, tick) -> list:  # noqa: ANN001
+    """MIDI tracks of the layers' parts (track numbers after the lead section's),
+    with ``track_from`` and ``tick`` the MIDI writer's own helpers."""
+    from music21 import midi
+
+    from .midi import channel_for
+
+    tracks = []
+    index = first_index
+    for vl in layers:
+        vel = vl.layer.velocity
+        for k, part in enumerate(vl.layer.section.parts):
+            ch = channel_for(index) + 1
+            evs: list[tuple[int, int, midi.MidiEvent]] = []
+            nm = midi.MidiEvent(None, type=midi.MetaEvents.SEQUENCE_TRACK_NAME)
+            nm.data = part.name.encode("utf-8")
+            evs.append((0, 0, nm))
+            pc = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.PROGRAM_CHANGE, channel=ch)
+            pc.data = part.instrument.program - 1
+            evs.append((0, 1, pc))
+            for n in vl.notes:
+                on = tick(n.onset + lead_in)
+                off = max(on + 1, tick(n.onset + n.duration + lead_in) - 1)
+                non = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.NOTE_ON, channel=ch)
+                non.pitch, non.velocity = n.pitches[k], vel
+                noff = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.NOTE_OFF, channel=ch)
+                noff.pitch, noff.velocity = n.pitches[k], 0
+                evs.append((on, 3, non))
+                evs.append((off, 2, noff))
+            tracks.append(track_from(evs, index + 1))
+            index += 1
+    return tracks
+
+
+def layers_data(layers: tuple[VoicedLayer, ...]) -> list[dict[str, Any]]:
+    """``report.json`` ``layers``: section, role, parts (as the lead section's), notes."""
+    out = []
+    for vl in layers:
+        la = vl.layer
+        out.append({
+            "index": la.index, "section": la.section.name, "role": la.role,
+            "rhythm": la.rhythm_text, "dynamics": la.dynamics, "velocity": la.velocity,
+            "parts": [{"name": p.name, "instrument": p.instrument.key,
+                       "transposition": p.instrument.transposition,
+                       "range": list(p.instrument.practical),
+                       "extreme": list(p.instrument.extreme)} for p in la.section.parts],
+            "notes": [{"onset": _num(n.onset), "duration": _num(n.duration), "chord": n.chord.symbol,
+                       "pitches": list(n.pitches)} for n in vl.notes],
+        })
+    return out
+
+
+def layer_warnings(layers: tuple[VoicedLayer, ...], events: list[dict[str, Any]]) -> list[dict[str, Any]]:
+    """The layers' findings as report warnings (``events``: the report's, for the bar);
+    ``other_part`` is the lead-section part of a clash."""
+    def bar_of(ev: int | None) -> Any:
+        return events[ev]["bar"] if ev is not None and 0 <= ev < len(events) else None
+
+    return [{"kind": f.kind, "event": f.event, "bar": bar_of(f.event), "part": f.part,
+             "message": f.message, "severity": f.severity, "layer": vl.layer.index,
+             "layer_note": f.note, "other_part": f.other_part} for vl in layers for f in vl.findings]
+
+
+def layers_markdown(data: dict[str, Any]) -> list[str]:
+    """The report's ``## Layers`` section (empty when there are none)."""
+    layers = data.get("layers") or []
+    if not layers:
+        return []
+    out = ["", "## Layers", ""]
+    for la in layers:
+        names = ", ".join(p["name"] for p in la["parts"])
+        out += [f"### Layer {la['index']}: {la['role']}, {la['section']}", "",
+                f"Parts {names}; rhythm `{la['rhythm']}`; dynamic {la['dynamics']}.", "",
+                "| chord | onset | duration | pitches (top to bottom) |", "| --- | --- | --- | --- |"]
+        for n in la["notes"]:
+            out.append(f"| {n['chord']} | {n['onset']:g} | {n['duration']:g} | "
+                       f"{' '.join(pitch_name(p) for p in n['pitches'])} |")
+        out.append("")
+    return out[:-1]

@@ -1,0 +1,110 @@
+"""``arrange build P.toml --vary KEY=V1,V2 ...``: every combination in its own folder.
+
+References: the MusicXML 4.0 XSD (``musicxml`` package) for each variant's score,
+music21 reading each score back, and the Markdown table syntax of CommonMark/GFM
+(one row per line, cells split by ``|``).
+"""
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+from conftest import BASIC, run_cli, snapshot, write_project
+
+from arrange.pitch import pitch_name
+
+
+def _rows(md: str) -> list[list[str]]:
+    lines = [ln for ln in md.splitlines() if ln.startswith("|")]
+    return [[c.strip() for c in ln.strip("|").split("|")] for ln in lines[2:]]   # after header + rule
+
+
+# a trumpet soli over a trombone pad (our own test scenario)
+PROJECT = BASIC.replace('name = "trombones-4"', 'name = "trumpets-4"') + '''
+[[layers]]
+section = "trombones-4"
+role = "pad"
+rhythm = "2"
+'''
+SLUG = "test-cue"
+
+
+@pytest.fixture(scope="module")
+def varied(tmp_path_factory: pytest.TempPathFactory) -> Path:
+    out = tmp_path_factory.mktemp("variants")
+    src = write_project(tmp_path_factory.mktemp("src"), PROJECT)
+    r = run_cli("build", str(src), "--vary", "voicing=close,drop2,spread",
+                "--vary", "groove=swing,latin", "-o", str(out))
+    assert r.exit_code == 0, r.output
+    return out
+
+
+def test_six_folders_and_six_rows(varied: Path) -> None:
+    folders = sorted(p.name for p in varied.iterdir() if p.is_dir())
+    assert len(folders) == 6
+    rows = _rows((varied / "variants.md").read_text())
+    assert len(rows) == 6
+    combos = {r[0] for r in rows}
+    assert combos == {f"voicing={v}, groove={g}" for v in ("close", "drop2", "spread")
+                      for g in ("swing", "latin")}
+
+
+def test_each_variant_is_what_its_row_says(varied: Path, musicxml_schema) -> None:
+    from music21 import converter
+
+    for row in _rows((varied / "variants.md").read_text()):
+        name, folder_link, warnings, span, lowest, picture = row
+        folder = varied / folder_link.split("](")[1].rstrip("/)")
+        report = json.loads((folder / f"{SLUG}.report.json").read_text())
+        voicing = name.split(",")[0].split("=")[1]
+        groove = name.split("groove=")[1]
+        assert {e["voicing"] for e in report["events"]} == {voicing}
+        assert report["groove"] == groove
+        assert int(warnings) == len(report["warnings"])
+        lo, hi = report["chain"]["span"]
+        assert span.startswith(f"{pitch_name(lo)}-{pitch_name(hi)}")
+        every = [p for e in report["events"] for p in e["pitches"]]
+        every += [p for la in report["layers"] for n in la["notes"] for p in n["pitches"]]
+        assert lowest.startswith(pitch_name(min(every)))
+        # the picture: the preview where one is written, else the score, said so
+        target = picture.split("](")[1].rstrip(")")
+        assert (varied / target).is_file()
+        if target.endswith(".musicxml"):
+            assert "no preview" in picture
+        score = folder / f"{SLUG}.musicxml"
+        musicxml_schema.validate(str(score))                     # MusicXML 4.0 XSD
+        assert len(converter.parse(str(score)).parts) == 8      # music21: 4 lead + 4 pad parts
+
+
+def test_dotted_key_and_layer_key(tmp_path: Path) -> None:
+    out = tmp_path / "out"
+    r = run_cli("build", str(write_project(tmp_path, PROJECT)), "--vary", "section.voicing=drop2",
+                "--vary", "layers.1.role=pad,hits", "--vary", "tempo=92,120", "-o", str(out))
+    assert r.exit_code == 0, r.output
+    assert len(_rows((out / "variants.md").read_text())) == 4
+    roles = set()
+    for folder in (p for p in out.iterdir() if p.is_dir()):
+        report = json.loads((folder / f"{SLUG}.report.json").read_text())
+        roles.add(report["layers"][0]["role"])
+        assert report["tempo"] in (92, 120)
+    assert roles == {"pad", "hits"}
+
+
+@pytest.mark.parametrize(("vary", "needle"), [
+    ("colour=red,blue", "colour"),
+    ("section.name=trumpets-4,bogus", "bogus"),
+    ("section.colour=1", "section.colour"),
+    ("groove=swing,polka", "polka"),
+    ("layers.3.role=pad", "layers.3.role"),
+    ("tempo=90,fast", "fast"),
+    ("voicing", "voicing"),
+])
+def test_unknown_key_or_value_exits_2_before_writing(tmp_path: Path, vary: str, needle: str) -> None:
+    src = write_project(tmp_path, PROJECT)
+    out = tmp_path / "out"
+    r = run_cli("build", str(src), "--vary", "voicing=close,drop2", "--vary", vary, "-o", str(out))
+    assert r.exit_code == 2, r.output
+    assert needle in r.output and "--vary" in r.output
+    assert "Traceback" not in r.output
+    assert snapshot(out) == {} and not out.exists()
