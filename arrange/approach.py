@@ -101,12 +101,15 @@ def _candidates(technique: str, target: Chord, key: Key, pitch: int) -> list[tup
 
 
 def find_approach(pitch: int, target: Chord, current: Chord, key: Key,
-                  techniques: tuple[str, ...]) -> tuple[Chord, str, str] | None:
-    """The first technique (in the project's order) whose chord holds the lead."""
+                  techniques: tuple[str, ...], exclude: tuple[Chord, ...] = ()) -> tuple[Chord, str, str] | None:
+    """The first technique (in the project's order) whose chord holds the lead
+    (none of ``exclude``)."""
     for tech in techniques:
         found = []
         for chord, what in _candidates(tech, target, key, pitch):
             if chord.pitch_classes == current.pitch_classes and chord.root == current.root:
+                continue
+            if any(chord.pitch_classes == x.pitch_classes and chord.root == x.root for x in exclude):
                 continue
             rank = _holds(chord, pitch, key, tech == "diatonic")
             if rank is not None:

@@ -14,13 +14,14 @@ import re
 from dataclasses import dataclass, replace
 from fractions import Fraction
 
-from .approach import TECHNIQUES, classify, find_approach, find_substitute, function_name
+from .approach import TECHNIQUES, function_name
 from .chords import Chord, parse_chord
 from .errors import ArrangeError, HarmonyError, ProjectError
 from .keys import MODES, Key, parse_key, parse_key_change
 from .rhythm import Line, Note
 from .spelling import root_spelling, spell_pc
 from .tables import Table
+from .walk import walk
 
 __all__ = ["Key", "parse_key", "FrameworkChord", "Event", "Harmonized", "HarmonyOptions",
            "read_options", "harmonize", "parse_framework", "MODES", "PRESETS", "TECHNIQUES",
@@ -232,18 +233,6 @@ def _beats(meter) -> tuple[Fraction, ...]:  # noqa: ANN001
     return tuple(step * k for k in range(meter.numerator))
 
 
-def _strong_points(meter) -> set[Fraction]:  # noqa: ANN001
-    """The downbeat and the start of each large division (beat 3 of 4/4)."""
-    groups = getattr(meter, "groups", None)
-    if not groups:
-        return {Fraction(0)} | ({Fraction(2)} if str(meter) == "4/4" else set())
-    out, t = set(), Fraction(0)
-    for g in groups:
-        out.add(t)
-        t += sum(g, Fraction(0))
-    return out
-
-
 def split_bar(counts: list[int | None], n_beats: int) -> list[int] | None:
     """Beats per chord: given counts stay, the others share the rest evenly, the
     earlier chords taking the spare beats (3 chords in 4/4: 2 1 1, common practice
@@ -295,11 +284,6 @@ def build_framework(line: Line, key: Key, options: HarmonyOptions, where: str,
     return tuple(out)
 
 
-def _strong(note: Note, fc: FrameworkChord, line: Line) -> bool:
-    pos = note.onset % line.meter.bar
-    return note.weight == 0 or note.onset == fc.onset or pos in _strong_points(line.meter)
-
-
 def harmonize(line: Line, key: Key, options: HarmonyOptions, *, where: str = "[harmony]") -> Harmonized:
     shifts: tuple[tuple[int, int], ...] = ()
     if options.modulate == "by-statement" and line.chain is not None:
@@ -310,70 +294,13 @@ def harmonize(line: Line, key: Key, options: HarmonyOptions, *, where: str = "[h
     idx = []
     k = 0
     for note in line.notes:
-        while k + 1 < len(fw) and fw[k + 1].onset <= note.onset:
+        # an anticipation (an eighth ahead of the downbeat, tied over) takes the chord
+        # of the downbeat it pushes, as the band plays it (common practice)
+        at = note.onset + (Fraction(1, 2) if note.anticipated else 0)
+        while k + 1 < len(fw) and fw[k + 1].onset <= at:
             k += 1
         idx.append(k)
-    notes = line.notes
-    keys = [_key_at(key, options.keys, int(n.onset // bar_len) + 1) for n in notes]
-    kinds = [classify(n.pitch, fw[f].chord, kk) for n, f, kk in zip(notes, idx, keys, strict=True)]
-    structural = [kd in ("chord tone", "tension") for kd in kinds]
-    events: list[Event] = []
-    warnings: list[tuple[str, int | None, str]] = []
-    for i, note in enumerate(notes):
-        fc, kk, kind = fw[idx[i]], keys[i], kinds[i]
-        frame = fc.chord
-        name = spell_pc(note.pitch, kk, frame)
-        bar = int(note.onset // bar_len) + 1
-        func = function_name(note.pitch, frame)
-
-        def ev(chord: Chord, role: str, tech: str | None, why: str, target: Chord | None = None,
-               note: Note = note, kind: str = kind, kk: Key = kk) -> Event:
-            return Event(note, chord, role, tech, function_name(note.pitch, chord), why, kind,
-                         spell_pc(note.pitch, kk, chord), target)
-
-        if structural[i]:
-            what = "chord tone" if kind == "chord tone" else "available tension"
-            events.append(ev(frame, "framework", None, f"{name} is the {what} {func} of {frame.symbol}"))
-            continue
-        prev = events[-1] if events else None
-        if prev is not None and notes[i - 1].pitch == note.pitch and idx[i - 1] == idx[i]:
-            events.append(ev(prev.chord, prev.role, prev.technique,
-                             f"repeated lead {name} keeps {prev.chord.symbol}", prev.target))
-            continue
-        leads_in = i + 1 < len(notes) and idx[i + 1] != idx[i]
-        strong = _strong(note, fc, line)
-        nxt = next((j for j in range(i + 1, len(notes)) if structural[j]), None)
-        target = fw[idx[nxt]].chord if nxt is not None else \
-            (fw[idx[i] + 1].chord if idx[i] + 1 < len(fw) else frame)
-        label = f"{name} is {'an avoid note' if kind == 'avoid' else 'a non-chord tone'} ({func}) " \
-                f"of {frame.symbol}"
-        found = None
-        if (not strong or leads_in) and i + 1 < len(notes):
-            found = find_approach(note.pitch, target, frame, kk, options.approach)
-        if found:
-            chord, tech, what = found
-            pos = "leading into the next chord" if leads_in else "on a weak position"
-            events.append(ev(chord, "approach", tech,
-                             f"{label} {pos}; {chord.symbol}, {what}, holds it as "
-                             f"{function_name(note.pitch, chord)} and resolves to {target.symbol}",
-                             target))
-            continue
-        if strong:
-            sub = find_substitute(note.pitch, frame, kk)
-            if sub is not None:
-                events.append(ev(sub, "framework", "diatonic substitute",
-                                 f"{label} on a strong beat; the diatonic {sub.symbol} shares its "
-                                 f"tones and holds it as {function_name(note.pitch, sub)}"))
-                continue
-        events.append(ev(frame, "framework", None, f"{label}; kept, see the warning"))
-        if strong:
-            warnings.append(("avoid-note", i, f"bar {bar}: lead {name} is the {func} of "
-                             f"{frame.symbol} on a strong beat and no diatonic chord of {kk} "
-                             "holds it; the framework chord is kept"))
-        else:
-            techs = ", ".join(options.approach) or "none allowed"
-            warnings.append(("unserved-lead", i, f"bar {bar}: lead {name} is the {func} of "
-                             f"{frame.symbol} and no approach technique ({techs}) holds it on the way "
-                             f"to {target.symbol}; the framework chord is kept"))
+    keys = [_key_at(key, options.keys, int(n.onset // bar_len) + 1) for n in line.notes]
+    events, warnings = walk(line, fw, idx, keys, options.approach)
     changes = tuple((b, k) for b, k in options.keys)
     return Harmonized(line, key, fw, tuple(events), tuple(warnings), changes)

@@ -12,7 +12,9 @@ The rules (common practice of jazz and commercial engraving):
    written as the minor tenth instead (Eb over C7 in F major);
 4. otherwise a chromatic note follows its direction: rising notes sharp,
    falling notes flat, never a double accidental nor Cb/Fb/E#/B# unless the
-   key has them; a note without direction leans to the key signature's side.
+   key has them; a note without direction (reached and left by leap) is named
+   by its degree above the chord root (the major seventh of G7 is F#), or
+   without a chord leans to the key signature's side.
 
 Names are ours (``Eb4``, ``F#5``); :func:`m21_name` turns one into music21's
 (``E-4``).  Plain Python: no music21 here.
@@ -59,9 +61,34 @@ def spell_pc(pc: int, key: Key, chord: Chord | None = None, direction: int = 0) 
             deg = 5
         name = interval_name(chord.root_name, iv, deg)
         against = _acc(name) * (-1 if key.fifths < 0 else 1) < 0
-        if abs(_acc(name)) <= 1 and not (against and direction == 0 and iv == 3):
+        # the #9 reads as a minor tenth (Eb over C7) when the key's side or the line's
+        # fall says so; rising, it stays the #9 (D# over C7)
+        tenth = iv == 3 and ((against and direction == 0) or direction * _acc(name) < 0)
+        if abs(_acc(name)) <= 1 and not tenth:
+            return name
+    if chord is not None and direction == 0 and (pc - chord.root) % 12 not in chord.tensions:
+        # a non-chord tone that is no chromatic step: by its degree above the root
+        # (the major seventh of G7 is F#, not Gb)
+        iv = (pc - chord.root) % 12
+        name = interval_name(chord.root_name, iv, _nonchord_degree(iv, chord))
+        against = iv == 3 and _acc(name) * (-1 if key.fifths < 0 else 1) < 0   # #9 or b10
+        if abs(_acc(name)) <= 1 and (name not in _ODD or name in key.names) and not against:
             return name
     return _chromatic(pc, key, direction)
+
+
+def _nonchord_degree(iv: int, chord: Chord) -> int:
+    """The degree a non-chord tone takes above the root, as its function is named."""
+    deg = {1: 9, 2: 9, 3: 9, 4: 3, 5: 11, 6: 11, 7: 5, 8: 13, 9: 13, 10: 7, 11: 7}[iv]
+    if iv == 3 and 4 not in chord.intervals:
+        deg = 3
+    if iv == 9 and not {10, 11} & set(chord.intervals):
+        deg = 6
+    if iv in (6, 8) and 7 not in chord.intervals:
+        deg = 5
+    if iv == 4 and 5 in chord.intervals:
+        deg = 3
+    return deg
 
 
 def _chromatic(pc: int, key: Key, direction: int) -> str:
@@ -97,16 +124,16 @@ def spell_pitch(midi: int, key: Key, chord: Chord | None = None, direction: int 
 
 def direction_of(previous: int | None, pitch: int, following: int | None) -> int:
     """+1 rising, -1 falling, 0 neither: a note between two others takes the way
-    the line moves through it; otherwise the step into or out of it."""
+    the line moves through it; otherwise a chromatic step (a half step) out of it gives
+    the way it resolves.  A note left by a leap or a repeat has none (it is then named
+    by its degree over the chord)."""
     if previous is not None and following is not None:
         if previous < pitch < following:
             return 1
         if previous > pitch > following:
             return -1
-    if following is not None and following != pitch:
+    if following is not None and abs(following - pitch) == 1:
         return 1 if following > pitch else -1
-    if previous is not None and previous != pitch:
-        return 1 if pitch > previous else -1
     return 0
 
 

@@ -122,7 +122,8 @@ def statement_label(st: Any) -> str:
 
 
 def add_analysis(measures: list[Any], voiced: Voiced) -> None:
-    """Statement labels above the lead; the approach technique under each approach chord."""
+    """Statement labels above the lead; the approach technique under each approach chord
+    (once per chord, not again under a held one)."""
     from music21 import expressions
 
     starts = {st.start: st for st in voiced.harmonized.line.chain.statements}
@@ -133,7 +134,9 @@ def add_analysis(measures: list[Any], voiced: Voiced) -> None:
             te.placement = "above"
             _text_style(te).fontStyle = "italic"
             measures[m_i].insert(off, te)
-        if ve.event.role == "approach" and ve.event.technique:
+        prev = voiced.events[i - 1].event if i else None
+        if ve.event.role == "approach" and ve.event.technique and \
+                not (prev is not None and prev.role == "approach" and prev.chord == ve.event.chord):
             te = expressions.TextExpression(ve.event.technique)
             te.placement = "below"
             _text_style(te).fontStyle = "italic"

@@ -38,15 +38,11 @@ def _statement_table(voiced: Voiced, dynamics: tuple[str, ...]) -> list[dict[str
 
 
 def _lead_names(voiced: Voiced) -> list[str]:
-    """The lead spelled as the score writes it (key, chord, direction)."""
-    from ..spelling import direction_of, spell_pitch
+    """The lead as the harmonizer spelled it (key, sounding chord, direction), with its
+    octave: the same name the why and the score use."""
+    from ..spelling import with_octave
 
-    h = voiced.harmonized
-    leads = [ve.event.note.pitch for ve in voiced.events]
-    return [spell_pitch(p, h.key_at(h.line.bar_of(ve.event.note.onset)),
-                        ve.event.chord, direction_of(leads[i - 1] if i else None, p,
-                                                     leads[i + 1] if i + 1 < len(leads) else None))
-            for i, (p, ve) in enumerate(zip(leads, voiced.events, strict=True))]
+    return [with_octave(ve.event.lead_name, ve.event.note.pitch) for ve in voiced.events]
 
 
 def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
@@ -73,6 +69,8 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
             "chord": ev.chord.symbol, "role": ev.role, "technique": ev.technique,
             "lead_function": ev.lead_function, "why": ev.why,
             "lead_class": ev.lead_class,
+            "target": ev.target.symbol if ev.target is not None else None,
+            "anticipated": n.anticipated,
             "voicing": ve.voicing, "pitches": list(ve.pitches),
         })
     def bar_of(ev: int | None) -> Any:
