@@ -12,8 +12,11 @@
 Each chord is voiced by :mod:`arrange.pads` (guide tones first, then allowed
 tensions; the voicing stage's rule checks) and the whole layer is chosen by a
 dynamic programme that keeps common tones and moves by step, and sits below
-the lead section's lowest voice wherever it can.  Findings: the rule checks of
-the chosen chords, and every minor second or minor ninth between a background
+the lead section's lowest voice wherever it can.  Each chord is voiced against
+every lead-section pitch sounding during its whole duration; where no full
+voicing is clash free it is thinned (clash-free tones only, doubled in octaves
+or with parts resting: a ``None`` pitch) and ``LayerNote.why`` says why.
+Findings: the rule checks of the chosen chords (resting parts left out), and every minor second or minor ninth between a background
 note and a lead-section note sounding with it (``clash-minor-second``,
 ``clash-minor-ninth``: the message names both parts).
 """
@@ -29,7 +32,7 @@ from . import rules
 from .chords import Chord
 from .errors import ProjectError
 from .harmony import FrameworkChord, Harmonized
-from .pads import candidates, clash_pairs, cross_costs, layer_rules, velocity
+from .pads import candidates, clash_pairs, cross_costs, layer_rules, rubs, tone_order, velocity
 from .pitch import pitch_name
 from .sections import Section, section_from_table
 from .shapes import recipes
@@ -63,7 +66,12 @@ class LayerNote:
     onset: Fraction
     duration: Fraction
     chord: Chord
-    pitches: tuple[int, ...]     # sounding, top to bottom, one per part
+    pitches: tuple[int | None, ...]     # sounding, top to bottom, one per part; None: the part rests
+    why: str = ""                       # why the chord was thinned ("" when it is not)
+
+    @property
+    def sounding(self) -> tuple[int, ...]:
+        return tuple(p for p in self.pitches if p is not None)
 
 
 @dataclass(frozen=True, slots=True)
@@ -212,15 +220,19 @@ def _sounding(voiced: Voiced, onset: Fraction, dur: Fraction) -> list[tuple[int,
     return out
 
 
-def _solve(cands: list[np.ndarray], costs: list[np.ndarray]) -> list[int]:
-    """One candidate per chord minimising costs plus motion (semitones, every voice;
-    common tones free) plus a leap cost beyond a whole step."""
+_KEEP = 500      # candidates per chord kept for the search (the cheapest by their own costs)
+
+
+def _solve(cands: list[np.ndarray], costs: list[np.ndarray], rests: list[np.ndarray]) -> list[int]:
+    """One candidate per chord minimising costs plus motion (semitones, every voice
+    playing on both sides; common tones free) plus a leap cost beyond a whole step."""
     motion, leap = recipes().weight("motion"), layer_rules().weight("leap")
     total = costs[0].astype(float)
     back = []
     for i in range(1, len(cands)):
         d = np.abs(cands[i - 1][:, None, :] - cands[i][None, :, :])
-        step = (motion * d + leap * np.clip(d - 2, 0, None)).sum(axis=2)
+        plays = ~(rests[i - 1][:, None, :] | rests[i][None, :, :])
+        step = ((motion * d + leap * np.clip(d - 2, 0, None)) * plays).sum(axis=2)
         whole = total[:, None] + step
         arg = whole.argmin(axis=0)
         back.append(arg)
@@ -237,25 +249,62 @@ def _voice_layer(harmonized: Harmonized, voiced: Voiced, layer: Layer) -> Voiced
     times = layer_times(harmonized, layer)
     if not times:
         return VoicedLayer(layer, (), ())
-    cands, costs, sounding = [], [], []
+    cands, rests, costs, sounding = [], [], [], []
     for onset, dur, chord in times:
-        P, c = candidates(chord, layer.section)
         snd = _sounding(voiced, onset, dur)
-        cands.append(P)
-        costs.append(c + cross_costs(P, [(w, p) for _i, w, p in snd], chord))
+        lead = tuple(sorted({q for _i, _w, p in snd for q in p}))
+        P, R, c = candidates(chord, layer.section, lead)
+        c = c + cross_costs(P, [(w, p) for _i, w, p in snd], chord, R)
+        keep = np.argsort(c, kind="stable")[:_KEEP]
+        cands.append(P[keep])
+        rests.append(R[keep])
+        costs.append(c[keep])
         sounding.append(snd)
-    path = _solve(cands, costs)
-    chosen = np.stack([cands[i][j] for i, j in enumerate(path)])
-    notes = tuple(LayerNote(o, d, ch, tuple(int(p) for p in row))
-                  for (o, d, ch), row in zip(times, chosen, strict=True))
-    return VoicedLayer(layer, notes, tuple(_findings(harmonized, voiced, layer, notes, sounding)))
+    path = _solve(cands, costs, rests)
+    notes = []
+    for (o, d, ch), i, j, snd in zip(times, range(len(times)), path, sounding, strict=True):
+        row = tuple(None if r else int(p) for p, r in zip(cands[i][j], rests[i][j], strict=True))
+        notes.append(LayerNote(o, d, ch, row, _why(ch, row, snd, voiced, layer)))
+    return VoicedLayer(layer, tuple(notes), tuple(_findings(harmonized, voiced, layer, tuple(notes), sounding)))
+
+
+def _why(chord: Chord, row: tuple[int | None, ...], snd: list[tuple[int, float, tuple[int, ...]]],
+         voiced: Voiced, layer: Layer) -> str:
+    """A short note when a pad chord is thinned: the tones left out, the lead
+    notes they would rub against, and the parts resting or doubling."""
+    n = len(row)
+    order = tone_order(chord)
+    played = {p % 12 for p in row if p is not None}
+    full = min(n, len(order))
+    rests = [layer.section.parts[k].name for k, p in enumerate(row) if p is None]
+    if len(played) >= full and not rests:
+        return ""
+    lead_parts = voiced.section.parts
+    left = []
+    for pc in order:
+        if pc in played:
+            continue
+        against = sorted({(q % 12, lead_parts[k].name) for _e, _w, ps in snd for k, q in enumerate(ps)
+                          if rubs(pc, q % 12, chord)})
+        if against:
+            q, part = against[0]
+            left.append(f"{_pc_name(pc)} clashes with the lead's {_pc_name(q)} ({part})")
+    if not left and not rests:
+        return ""
+    out = "thinned: " + ("; ".join(left) if left else "fewer tones")
+    if rests:
+        out += "; " + ", ".join(rests) + (" rests" if len(rests) == 1 else " rest")
+    elif len(played) < n:
+        out += "; clash-free tones doubled in octaves"
+    return out
 
 
 def _findings(harmonized: Harmonized, voiced: Voiced, layer: Layer, notes: tuple[LayerNote, ...],
               sounding: list[list[tuple[int, float, tuple[int, ...]]]]) -> list[LayerFinding]:
     bar_len = harmonized.line.meter.bar
     bars = [int(n.onset // bar_len) + 1 for n in notes]
-    P = np.array([n.pitches for n in notes], dtype=np.int64)
+    R = np.array([[p is None for p in n.pitches] for n in notes], dtype=bool)
+    P = np.array([_filled(n.pitches) for n in notes], dtype=np.int64)
     ctx = rules.context([n.chord for n in notes], ["spread"] * len(notes))
     sec, lead_parts = layer.section, voiced.section.parts
     name = f"layer {layer.index} ({layer.role}, {sec.name})"
@@ -263,20 +312,24 @@ def _findings(harmonized: Harmonized, voiced: Voiced, layer: Layer, notes: tuple
     first_event = [snd[0][0] if snd else None for snd in sounding]
     for kind, i, part, msg, severity in rules.findings(P, ctx, sec, bars=bars, allow_extreme=True,
                                                        vtypes=["spread"] * len(notes)):
+        if R[i, [p.name for p in sec.parts].index(part)]:
+            continue        # a resting part carries its neighbour's pitch only for the checks
         out.append(LayerFinding(kind, first_event[i], part, f"{name}, {msg}", severity, None, i))
     for i, (n, snd) in enumerate(zip(notes, sounding, strict=True)):
         lows = [min(p) for _e, _w, p in snd]
-        if lows and n.pitches[0] >= min(lows):
+        if lows and n.pitches[0] is not None and n.pitches[0] >= min(lows):
             out.append(LayerFinding(
                 "layer-above-lead", first_event[i], sec.parts[0].name,
                 f"{name}, bar {bars[i]}: {sec.parts[0].name} {pitch_name(n.pitches[0])} sits at or "
                 f"above the lead section's lowest note {pitch_name(min(lows))}", "warning", None, i))
-        layer_row = np.array([n.pitches], dtype=np.int64)
+        layer_row = np.array([_filled(n.pitches)], dtype=np.int64)
         seen: set[tuple[int, int, int, int]] = set()
         for e, _w, pitches in snd:
             hits = clash_pairs(layer_row, np.array(pitches, dtype=np.int64), n.chord)[0]
             for j, q in zip(*np.nonzero(hits), strict=True):
-                a, b = n.pitches[int(j)], pitches[int(q)]
+                if n.pitches[int(j)] is None:
+                    continue
+                a, b = int(P[i, int(j)]), pitches[int(q)]
                 if (int(j), int(q), a, b) in seen:     # one finding per pair while the chord holds
                     continue
                 seen.add((int(j), int(q), a, b))
@@ -291,6 +344,19 @@ def _findings(harmonized: Harmonized, voiced: Voiced, layer: Layer, notes: tuple
                     f"sounding together (over {n.chord.symbol})", "warning",
                     lead_parts[int(q)].name, i))
     return out
+
+
+def _pc_name(pc: int) -> str:
+    return pitch_name(60 + pc % 12)[:-1]
+
+
+def _filled(pitches: tuple[int | None, ...]) -> tuple[int, ...]:
+    """Pitches with each resting part carrying the sounding pitch above it (the
+    top part always sounds)."""
+    out: list[int] = []
+    for p in pitches:
+        out.append(p if p is not None else (out[-1] if out else next(q for q in pitches if q is not None)))
+    return tuple(out)
 
 
 def build_layers(harmonized: Harmonized, voiced: Voiced,

@@ -7,12 +7,20 @@ are scored with the voicing stage's own rule checks (:mod:`arrange.rules`:
 ranges, low-interval limits, crossing, minor ninths, doublings) plus the
 layer's costs: sitting at or above the lead section's lowest note, and minor
 seconds or minor ninths against lead-section notes that sound with it.
+
+A pad is thinned rather than let rub: when no full set of chord tones is free
+of minor seconds and minor ninths against every lead-section pitch sounding
+during the chord (:func:`safe_pcs`), :func:`candidates` adds thinner voicings
+of the clash-free tones only (a guide tone always among them), doubled in
+octaves or with lower parts resting (``rests``, a bool array beside the
+pitches; a resting voice carries the pitch of the voice above it so that the
+rule checks see the sounding intervals, and its own marks are cleared).
 """
 from __future__ import annotations
 
 from dataclasses import dataclass
 from functools import lru_cache
-from itertools import combinations, permutations, product
+from itertools import combinations, combinations_with_replacement, permutations, product
 
 import numpy as np
 
@@ -22,8 +30,8 @@ from .errors import VoicingError
 from .sections import Section, read_rules
 from .shapes import fifth_pc, recipes
 
-__all__ = ["LayerRules", "layer_rules", "tone_order", "pc_sets", "candidates", "cross_costs",
-           "clash_pairs", "velocity"]
+__all__ = ["LayerRules", "layer_rules", "tone_order", "pc_sets", "safe_pcs", "rubs", "thinned_sets",
+           "candidates", "cross_costs", "clash_pairs", "velocity"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -55,7 +63,8 @@ def layer_rules() -> LayerRules:
             int(d["shape"]["max_gap"]), int(d["shape"]["max_bottom_gap"]),
             tuple((k, float(v)) for k, v in d["weights"].items()),
             tuple((k, int(v)) for k, v in d["velocity"].items()))
-        for k in ("above_lead", "above_lead_step", "clash", "choice", "missing_guide", "doubled", "leap"):
+        for k in ("above_lead", "above_lead_step", "clash", "choice", "missing_guide", "doubled", "leap",
+                  "thinned", "rest"):
             lr.weight(k)
         for k in ("pad_rhythm", "hits_rhythm", "pad_dynamics", "hits_dynamics"):
             lr.default(k)
@@ -153,27 +162,104 @@ def _shapes(pcs: tuple[int, ...], lo: int, hi: int, n: int) -> tuple[tuple[int, 
     return tuple(sorted(found, reverse=True))
 
 
-def candidates(chord: Chord, section: Section) -> tuple[np.ndarray, np.ndarray]:
-    """Candidate voicings ``(k, n)`` (sounding, top to bottom) and their costs ``(k,)``:
-    preference cost plus the voicing stage's weighted rule penalties."""
+def rubs(pc: int, lead_pc: int, chord: Chord) -> bool:
+    """A background pitch class ``pc`` under a lead pitch class ``lead_pc`` sounds a
+    minor second or minor ninth (the b9 over a dominant's root excepted)."""
+    if (lead_pc - pc) % 12 != 1:
+        return False
+    return not (chord.is_dominant and pc % 12 == chord.root)
+
+
+def safe_pcs(chord: Chord, lead: tuple[int, ...]) -> tuple[int, ...]:
+    """The chord's pad tones (:func:`tone_order`) that rub against none of the
+    lead-section pitches ``lead`` when voiced below them."""
+    lead_pcs = {p % 12 for p in lead}
+    return tuple(pc for pc in tone_order(chord) if not any(rubs(pc, q, chord) for q in lead_pcs))
+
+
+def thinned_sets(chord: Chord, n: int, safe: tuple[int, ...]) -> list[tuple[tuple[int, ...], int, float]]:
+    """``(multiset, sounding voices, cost)`` of the thinner pads made of the
+    clash-free tones ``safe``, when no full set of ``n`` tones is clash free:
+    fewer distinct tones (a guide tone always among them), doubled in octaves up
+    to ``n`` voices or with the remaining parts resting.  Where both guide tones
+    rub, one of them may join the clash-free tones (a pad keeps a guide tone;
+    the search weighs the clash it brings)."""
+    lr = layer_rules()
+    order = tone_order(chord)
+    guides = set(order[:2])
+    full = min(n, len(order))
+    if any(set(pcs) <= set(safe) for pcs, _c in pc_sets(chord, n)):
+        return []
+    pool = [pc for pc in order if pc in safe or pc in guides]
+    out = []
+    for s in range(min(len(pool), n - 1, full), 0, -1):
+        for combo in combinations(pool, s):
+            if not guides & set(combo) or len(set(combo) - set(safe)) > 1:
+                continue
+            pref = (lr.weight("choice") * sum(order.index(pc) for pc in combo)
+                    + lr.weight("missing_guide") * len(guides - set(combo))
+                    + lr.weight("thinned") * (full - s))
+            for t in range(s, n + 1):
+                for extra in combinations_with_replacement(combo, t - s):
+                    cost = pref + lr.weight("doubled") * (t - s) + lr.weight("rest") * (n - t)
+                    out.append((tuple(sorted(combo + extra)), t, cost))
+    return out
+
+
+def _embed(v: tuple[int, ...], sounding: tuple[int, ...], n: int) -> tuple[tuple[int, ...], tuple[bool, ...]]:
+    """A voicing of the ``sounding`` parts spread over ``n`` parts; a resting part
+    carries the pitch of the sounding voice above it."""
+    out, rests, k = [], [], 0
+    for j in range(n):
+        if j in sounding:
+            out.append(v[k])
+            k += 1
+        else:
+            out.append(out[-1])
+        rests.append(j not in sounding)
+    return tuple(out), tuple(rests)
+
+
+def candidates(chord: Chord, section: Section, lead: tuple[int, ...] = ()
+               ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Candidate voicings ``(k, n)`` (sounding, top to bottom), their rests ``(k, n)``
+    and costs ``(k,)``: preference cost plus the voicing stage's weighted rule
+    penalties.  ``lead``: every lead-section pitch sounding during the chord; when
+    no full voicing is free of clashes with it, thinner clash-free ones join."""
     n = len(section.parts)
-    lo = min(p.instrument.practical[0] for p in section.parts)
-    hi = max(p.instrument.practical[1] for p in section.parts)
+    parts = section.parts
+    lo = min(p.instrument.practical[0] for p in parts)
+    hi = max(p.instrument.practical[1] for p in parts)
     rows: list[tuple[int, ...]] = []
+    rest_rows: list[tuple[bool, ...]] = []
     base: list[float] = []
     for pcs, cost in pc_sets(chord, n):
         for v in _shapes(tuple(sorted(pcs)), lo, hi, n):
             rows.append(v)
+            rest_rows.append((False,) * n)
             base.append(cost)
+    for ms, t, cost in thinned_sets(chord, n, safe_pcs(chord, lead)) if lead else []:
+        # the top part always sounds; any t - 1 of the others join it
+        for others in combinations(range(1, n), t - 1):
+            sounding = (0, *others)
+            s_lo = min(parts[j].instrument.practical[0] for j in sounding)
+            s_hi = max(parts[j].instrument.practical[1] for j in sounding)
+            for v in _shapes(ms, s_lo, s_hi, t):
+                row, rest = _embed(v, sounding, n)
+                rows.append(row)
+                rest_rows.append(rest)
+                base.append(cost)
     if not rows:
         raise VoicingError(f"no voicing of {chord.symbol} fits the section {section.name!r}",
                            where="[[layers]] section",
                            accepted="a section whose parts' practical ranges overlap enough to hold a chord")
     P = np.array(rows, dtype=np.int64)
+    R = np.array(rest_rows, dtype=bool)
     weights = {k: recipes().weight(k) for k in rules.KINDS}
     ctx = rules.context([chord] * len(P), ["spread"] * len(P))
-    cost = np.array(base) + rules.penalties(rules.masks(P, ctx, section), weights)
-    return P, cost
+    marks = {k: m & ~R for k, m in rules.masks(P, ctx, section).items()}
+    cost = np.array(base) + rules.penalties(marks, weights)
+    return P, R, cost
 
 
 def clash_pairs(layer: np.ndarray, lead: np.ndarray, chord: Chord) -> np.ndarray:
@@ -190,18 +276,21 @@ def clash_pairs(layer: np.ndarray, lead: np.ndarray, chord: Chord) -> np.ndarray
     return hit
 
 
-def cross_costs(P: np.ndarray, sounding: list[tuple[float, tuple[int, ...]]], chord: Chord) -> np.ndarray:
+def cross_costs(P: np.ndarray, sounding: list[tuple[float, tuple[int, ...]]], chord: Chord,
+                R: np.ndarray | None = None) -> np.ndarray:
     """Costs ``(k,)`` of each candidate against the lead-section notes sounding with it,
-    given as ``(share of the chord's time, pitches)`` pairs."""
+    given as ``(share of the chord's time, pitches)`` pairs; resting voices (``R``)
+    cost nothing."""
     lr = layer_rules()
     cost = np.zeros(len(P))
     if not sounding:
         return cost
+    plays = np.ones(P.shape, dtype=bool) if R is None else ~R
     lowest = min(min(p) for _w, p in sounding)
-    above = P >= lowest
+    above = (P >= lowest) & plays
     cost += lr.weight("above_lead") * above.sum(axis=1)
-    cost += lr.weight("above_lead_step") * np.clip(P - lowest + 1, 0, None).sum(axis=1)
+    cost += lr.weight("above_lead_step") * (np.clip(P - lowest + 1, 0, None) * plays).sum(axis=1)
     for share, pitches in sounding:
-        hits = clash_pairs(P, np.array(pitches, dtype=np.int64), chord)
+        hits = clash_pairs(P, np.array(pitches, dtype=np.int64), chord) & plays[:, :, None]
         cost += lr.weight("clash") * (0.5 + share) * hits.sum(axis=(1, 2))
     return cost

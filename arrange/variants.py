@@ -196,7 +196,7 @@ def _row(var: Variant, voiced: Any, layers: Any, files: dict[str, bytes]) -> dic
     for vl in layers:
         for n in vl.notes:
             for k, pitch in enumerate(n.pitches):
-                if low is None or pitch < low:
+                if pitch is not None and (low is None or pitch < low):
                     low, part = pitch, vl.layer.section.parts[k].name
     slug = var.project.slug
     picture = next((f"{slug}.{ext}" for ext in ("png", "svg") if f"{slug}.{ext}" in files), None)

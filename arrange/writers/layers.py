@@ -96,6 +96,11 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
             voice = [n.pitches[k] for n in vl.notes]
             entered = False
             for i, n in enumerate(vl.notes):
+                if voice[i] is None:         # the part rests through a thinned chord
+                    entered = False
+                    continue
+                if i and vl.notes[i - 1].onset + vl.notes[i - 1].duration < n.onset:
+                    entered = False          # a rest of the rhythm: the dynamic again at the re-entrance
                 way = direction_of(voice[i - 1] if i else None, voice[i],
                                    voice[i + 1] if i + 1 < len(voice) else None)
                 name = m21_name(spell_pitch(voice[i], h.key_at(int(n.onset // bar_len) + 1), n.chord, way))
@@ -177,6 +182,8 @@ def layer_tracks(layers: tuple[VoicedLayer, ...], first_index: int, lead_in: Fra
             pc.data = part.instrument.program - 1
             evs.append((0, 1, pc))
             for n in vl.notes:
+                if n.pitches[k] is None:
+                    continue
                 on = tick(n.onset + lead_in)
                 off = max(on + 1, tick(n.onset + n.duration + lead_in) - 1)
                 non = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.NOTE_ON, channel=ch)
@@ -203,7 +210,7 @@ def layers_data(layers: tuple[VoicedLayer, ...]) -> list[dict[str, Any]]:
                        "range": list(p.instrument.practical),
                        "extreme": list(p.instrument.extreme)} for p in la.section.parts],
             "notes": [{"onset": _num(n.onset), "duration": _num(n.duration), "chord": n.chord.symbol,
-                       "pitches": list(n.pitches)} for n in vl.notes],
+                       "pitches": list(n.pitches), "why": n.why} for n in vl.notes],
         })
     return out
 
@@ -229,9 +236,11 @@ def layers_markdown(data: dict[str, Any]) -> list[str]:
         names = ", ".join(p["name"] for p in la["parts"])
         out += [f"### Layer {la['index']}: {la['role']}, {la['section']}", "",
                 f"Parts {names}; rhythm `{la['rhythm']}`; dynamic {la['dynamics']}.", "",
-                "| chord | onset | duration | pitches (top to bottom) |", "| --- | --- | --- | --- |"]
+                "| chord | onset | duration | pitches (top to bottom) | why |",
+                "| --- | --- | --- | --- | --- |"]
         for n in la["notes"]:
             out.append(f"| {n['chord']} | {n['onset']:g} | {n['duration']:g} | "
-                       f"{' '.join(pitch_name(p) for p in n['pitches'])} |")
+                       f"{' '.join('rest' if p is None else pitch_name(p) for p in n['pitches'])} | "
+                       f"{n.get('why', '')} |")
         out.append("")
     return out[:-1]
