@@ -146,7 +146,8 @@ def walk(line: Line, fw: tuple[FrameworkChord, ...], idx: list[int], keys: list[
             found = find_approach(note.pitch, target, target, kk, techniques)
             if found:
                 ch, tech, what = found
-                pos = f"leading into {target.symbol}" if idx[nxt] != idx[a] else "on a weak position"
+                pos = f"leading into {target.symbol}" if nxt is not None and idx[nxt] != idx[a] \
+                    else "on a weak position"
                 put(ch, "approach", tech,
                     f"{label(ch)} {pos}; {ch.symbol}, {what}, holds it as "
                     f"{function_name(note.pitch, ch)} and resolves to {target.symbol}", target, res)
@@ -176,7 +177,8 @@ def walk(line: Line, fw: tuple[FrameworkChord, ...], idx: list[int], keys: list[
     out = [e for e in events if e is not None]
     assert len(out) == n
     _no_flip_flop(out, keys, pitches, techniques)
-    warnings = [(kind, k, msg) for k, (kind, msg) in sorted(notes_warn.items())]
+    warnings: list[tuple[str, int | None, str]] = [
+        (kind, k, msg) for k, (kind, msg) in sorted(notes_warn.items())]
     return out, warnings
 
 

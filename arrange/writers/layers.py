@@ -38,7 +38,7 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
     """Append the layers' parts to ``score`` (built by ``build_score``), below the
     lead section, and bracket each section.  Notes are spelled, key signatures
     changed and accidentals printed as in the lead section's parts."""
-    from music21 import bar, dynamics, key, layout, meter, note, stream
+    from music21 import dynamics, key, layout, meter, note, stream
 
     from ..spelling import direction_of, m21_name, spell_pitch
     from .midi import channel_for
@@ -47,11 +47,10 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
         _articulation,
         _clef,
         _duration,
-        _fill_rests,
         _instrument,
         _offset,
         _tie,
-        _tuplet_brackets,
+        finish_part,
     )
 
     if not layers:
@@ -96,14 +95,15 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
             voice = [n.pitches[k] for n in vl.notes]
             entered = False
             for i, n in enumerate(vl.notes):
-                if voice[i] is None:         # the part rests through a thinned chord
+                here = voice[i]
+                if here is None:             # the part rests through a thinned chord
                     entered = False
                     continue
                 if i and vl.notes[i - 1].onset + vl.notes[i - 1].duration < n.onset:
                     entered = False          # a rest of the rhythm: the dynamic again at the re-entrance
-                way = direction_of(voice[i - 1] if i else None, voice[i],
+                way = direction_of(voice[i - 1] if i else None, here,
                                    voice[i + 1] if i + 1 < len(voice) else None)
-                name = m21_name(spell_pitch(voice[i], h.key_at(int(n.onset // bar_len) + 1), n.chord, way))
+                name = m21_name(spell_pitch(here, h.key_at(int(n.onset // bar_len) + 1), n.chord, way))
                 for j, pc in enumerate(pieces(n.onset, n.duration, line.meter, pickup=line.pickup)):
                     nt = note.Note(name)
                     nt.duration = _duration(pc.duration)
@@ -121,14 +121,7 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
                     if not respell:
                         _accidental(nt, pc, shown, h.key_at(pc.measure + 1 - shift))
                     measures[pc.measure].insert(_offset(pc.offset), nt)
-            for m_i, m in enumerate(measures):
-                m_start = -line.pickup if shift and m_i == 0 else (m_i - shift) * bar_len
-                m_len = line.pickup if shift and m_i == 0 else bar_len
-                _fill_rests(m, m_len, line.meter, m_start, line.pickup)
-                _tuplet_brackets(m)
-            measures[-1].rightBarline = bar.Barline("final")
-            for m in measures:
-                p.append(m)
+            finish_part(p, measures, line, shift, respell)
             score.insert(0, p)
             new_parts.append(p)
             index += 1

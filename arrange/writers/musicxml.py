@@ -130,7 +130,6 @@ def _clef(name: str):  # noqa: ANN202
 
 def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
     from music21 import (
-        bar,
         key,
         metadata,
         meter,  # noqa: F401
@@ -215,14 +214,7 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
             marks.add_analysis(measures, voiced)
         if lead and info.only_part is None:
             marks.concert_symbols(measures)
-        for m_i, m in enumerate(measures):
-            m_start = -line.pickup if shift and m_i == 0 else (m_i - shift) * bar_len
-            m_len = line.pickup if shift and m_i == 0 else bar_len
-            _fill_rests(m, m_len, line.meter, m_start, line.pickup)
-            _tuplet_brackets(m)
-        measures[-1].rightBarline = bar.Barline("final")
-        for m in measures:
-            p.append(m)
+        finish_part(p, measures, line, shift, respell)
         score.insert(0, p)
     if info.only_part is None:
         marks.add_part_groups(score, voiced.section)
@@ -230,6 +222,59 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
     else:
         marks.page_credits(score, info.title, info.concert, voiced.section.parts[info.only_part].name)
     return score
+
+
+def finish_part(p, measures: list, line, shift: int, written: bool) -> None:  # noqa: ANN001
+    """Rests into every gap, tuplet brackets, the final bar line, the measures into
+    the part; a transposing part is then put in written pitch with its accidentals."""
+    from music21 import bar
+
+    bar_len = line.meter.bar
+    for m_i, m in enumerate(measures):
+        m_start = -line.pickup if shift and m_i == 0 else (m_i - shift) * bar_len
+        m_len = line.pickup if shift and m_i == 0 else bar_len
+        _fill_rests(m, m_len, line.meter, m_start, line.pickup)
+        _tuplet_brackets(m)
+    measures[-1].rightBarline = bar.Barline("final")
+    for m in measures:
+        p.append(m)
+    if written:
+        written_accidentals(p)
+
+
+def written_accidentals(p) -> None:  # noqa: ANN001
+    """Put a transposing part in written pitch now (music21 transposes notes, keys and
+    symbols by the instrument's interval, keeping the letter spelling) and print each
+    accidental where the written key signature and the measure so far do not already
+    give it (common practice of engraving).  The exporter then leaves the part as is."""
+    from music21 import key, note, stream
+
+    p.toWrittenPitch(inPlace=True)
+    order = "FCGDAEB"
+    sharps = 0
+    for m in p.getElementsByClass(stream.Measure):
+        for ks in m.getElementsByClass(key.KeySignature):
+            sharps = ks.sharps
+        sig = {x: 1 for x in order[:sharps]} if sharps >= 0 else {x: -1 for x in order[::-1][:-sharps]}
+        shown: dict[tuple[str, int], int] = {}
+        for nt in sorted(m.getElementsByClass(note.Note), key=lambda n: n.offset):
+            step, octave = nt.pitch.step, nt.pitch.octave
+            alter = int(nt.pitch.alter)
+            tied_over = nt.tie is not None and nt.tie.type in ("stop", "continue")
+            need = alter != shown.get((step, octave), sig.get(step, 0)) and not tied_over
+            shown[(step, octave)] = alter
+            _show_accidental(nt, need)
+
+
+def _show_accidental(nt, need: bool) -> None:  # noqa: ANN001
+    from music21 import pitch
+
+    if nt.pitch.accidental is None:
+        if need:
+            nt.pitch.accidental = pitch.Accidental("natural")
+            nt.pitch.accidental.displayStatus = True
+        return
+    nt.pitch.accidental.displayStatus = need
 
 
 def _accidental(nt, pc, shown: dict[tuple[int, str, int], int], k) -> None:  # noqa: ANN001
