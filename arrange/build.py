@@ -144,8 +144,23 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
 
 
 def _style(project: Project) -> str:
-    return {"straight": "Straight", "swing": "Swing", "shuffle": "Shuffle",
-            "latin": "Latin"}.get(project.rhythm.groove, project.rhythm.groove.title())
+    """The style word printed with the metronome mark: the project's own, or one
+    from the groove and the tempo as lead sheets and big-band charts mark them
+    (common practice; the tempo bands are from memory)."""
+    if project.style:
+        return project.style
+    return style_word(project.rhythm.groove, project.tempo)
+
+
+def style_word(groove: str, tempo: float) -> str:
+    bands = {
+        "swing": ((90, "Swing Ballad"), (130, "Easy Swing"), (190, "Medium Swing"),
+                  (400, "Up Tempo Swing")),
+        "shuffle": ((100, "Slow Shuffle"), (400, "Shuffle")),
+        "latin": ((100, "Easy Latin"), (400, "Latin")),
+        "straight": ((76, "Slowly"), (112, "Moderately"), (160, "Brightly"), (400, "Fast")),
+    }.get(groove, ((400, groove.title()),))
+    return next(word for top, word in bands if tempo < top or top == 400)
 
 
 def write_outputs(project: Project, out_dir: Path, formats: tuple[str, ...] | None = None,

@@ -62,6 +62,7 @@ class Project:
     voicing: voicing.VoicingOptions
     output: OutputSpec
     layers: tuple[Layer, ...] = ()     # [[layers]]: background sections under the lead
+    style: str = ""                    # the style word over the metronome mark ("" = from groove and tempo)
 
 
 def slugify(title: str) -> str:
@@ -154,6 +155,10 @@ def project_from_data(data: dict[str, object], where: str, path: Path | None = N
                         f"a title of at most {MAX_TITLE} characters without / \\ .. or control "
                         "characters (the output files are named from it)")
     tempo = top.number("tempo", 120, low=20, high=400)
+    style = top.string("style", "")
+    if len(style) > 40 or any(ord(c) < 32 for c in style):
+        raise top.error("style", f"{style[:40]!r} cannot be a style word",
+                        "a short style word such as \"Medium Swing\" (at most 40 characters)")
     meter_text = top.string("meter", "4/4")
     try:
         meter = rhythm.parse_meter(meter_text, where=top.at("meter"))
@@ -171,7 +176,7 @@ def project_from_data(data: dict[str, object], where: str, path: Path | None = N
     layers = read_layers(top.raw("layers", None), where)
     top.finish()
     return Project(path, title, slugify(title), tempo, meter, key, chain, rhythm_opts,
-                   harmony_opts, section, voicing_opts, output, layers)
+                   harmony_opts, section, voicing_opts, output, layers, style.strip())
 
 
 def load_project(path: str | Path) -> Project:

@@ -115,6 +115,39 @@ def test_new_writes_a_project_that_builds(tmp_path: Path) -> None:
     assert again.exit_code == 2
 
 
+def test_every_optional_key_of_the_starter_builds(tmp_path: Path) -> None:
+    """Each commented key in the starter project, switched on (with the groove it
+    needs), still builds: the starter documents keys that exist."""
+    import re
+
+    p = tmp_path / "start.toml"
+    assert run_cli("new", str(p)).exit_code == 0
+    text = p.read_text()
+    optional = re.findall(r"^# ([a-z_]+) = .*$", text, re.M)
+    assert {"style", "swing", "cell", "augment", "approach", "keys", "modulate", "by_statement",
+            "analysis", "parts", "rhythm_section"} <= set(optional)
+    layer_block = text[text.index("# [[layers]]"):]
+    for key in dict.fromkeys(optional):
+        if f"# {key} = " in layer_block and f"# {key} = " not in text[:text.index("# [[layers]]")]:
+            continue
+        on = re.sub(rf"^# ({key} = .*)$", r"\1", text, count=1, flags=re.M)
+        if key == "swing":
+            on = on.replace('groove = "straight"', 'groove = "swing"')
+        if key == "anticipate":
+            on = on.replace('groove = "straight"', 'groove = "latin"')
+        q = tmp_path / f"{key}.toml"
+        q.write_text(on)
+        r = run_cli("build", str(q), "-o", str(tmp_path / key), "--formats", "report")
+        assert r.exit_code == 0, (key, r.output)
+    layered = text.replace(layer_block, "\n".join(
+        line[2:] if line.startswith("# ") and ("=" in line or "[[" in line) else line
+        for line in layer_block.splitlines()) + "\n")
+    q = tmp_path / "layers.toml"
+    q.write_text(layered)
+    r = run_cli("build", str(q), "-o", str(tmp_path / "layers"), "--formats", "report")
+    assert r.exit_code == 0, r.output
+
+
 def test_sections_lists_known_sections() -> None:
     r = run_cli("sections", "--json")
     data = json.loads(r.output)

@@ -141,7 +141,7 @@ def test_score_marks(built) -> None:
     mm = lead.getElementsByClass(tempo.MetronomeMark)[0]
     assert mm.number == 120
     words = [t.content for t in lead.getElementsByClass(expressions.TextExpression)]
-    assert "Straight" in words
+    assert "Brightly" in words          # straight groove at 120 (common practice, from memory)
     labels = [w for w in words if re.fullmatch(r"\d+\. (P|RI) [+-]\d+", w)]
     assert len(labels) == len(report["chain"]["statements"])         # the analysis option
     assert lead.getElementsByClass(expressions.RehearsalMark)[0].content == "A"
@@ -386,3 +386,27 @@ def test_midi_swing_offsets_as_the_groove_says(tmp_path: Path) -> None:
         beat = int(Fraction(e["onset"]).limit_denominator(96))
         # swing 0.62: the off-beat eighth sounds 0.62 of the beat after the beat (480 ticks a quarter)
         assert on == round((beat + 0.62) * 480)
+
+
+@pytest.mark.parametrize("groove, tempo, extra, word", [
+    ("swing", 144, "", "Medium Swing"),
+    ("swing", 72, "", "Swing Ballad"),
+    ("latin", 112, "", "Latin"),
+    ("straight", 66, "", "Slowly"),
+    ("straight", 120, 'style = "Fanfare"\n', "Fanfare"),
+])
+def test_style_word_over_the_metronome_mark(tmp_path: Path, groove: str, tempo: int, extra: str,
+                                            word: str) -> None:
+    """The style word a chart prints with its metronome mark follows the groove and the
+    tempo (common practice of lead sheets and big-band charts; bands from memory), or the
+    project's own `style`; music21 reads it back."""
+    from music21 import converter, expressions
+
+    text = (BASIC.replace("tempo = 120", f"tempo = {tempo}\n{extra}")
+            .replace('[harmony]', f'[rhythm]\ngroove = "{groove}"\n\n[harmony]'))
+    r = run_cli("build", str(write_project(tmp_path, text)), "-o", str(tmp_path / "o"),
+                "--formats", "musicxml")
+    assert r.exit_code == 0, r.output
+    score = converter.parse(str(next((tmp_path / "o").glob("*.musicxml"))))
+    words = [t.content for t in score.parts[0].flatten().getElementsByClass(expressions.TextExpression)]
+    assert word in words
