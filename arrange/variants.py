@@ -98,8 +98,21 @@ def _set(data: dict[str, Any], vary: Vary, text: str) -> None:
                                where=where, accepted=_accepted_keys())
         if last:
             node[seg] = _typed(text, node.get(seg))
+            if vary.key == "rhythm.groove":
+                _drop_groove_options(node, node[seg])
             return
         node = node.setdefault(seg, {})
+
+
+# keys of [rhythm] that belong to one groove only; a varied groove drops the others'
+# (the project's swing ratio means nothing to a latin variant)
+GROOVE_ONLY = {"swing": "swing", "anticipate": "latin", "notate": "shuffle"}
+
+
+def _drop_groove_options(rhythm: dict[str, Any], groove: object) -> None:
+    for key, owner in GROOVE_ONLY.items():
+        if key in rhythm and groove != owner:
+            del rhythm[key]
 
 
 @dataclass(frozen=True, slots=True)

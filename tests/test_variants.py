@@ -109,3 +109,28 @@ def test_unknown_key_or_value_exits_2_before_writing(tmp_path: Path, vary: str, 
     assert needle in r.output and "--vary" in r.output
     assert "Traceback" not in r.output
     assert snapshot(out) == {} and not out.exists()
+
+
+def test_varying_a_swing_project_to_latin_drops_the_swing_ratio(tmp_path: Path) -> None:
+    """The issue's own example: a swing project (with its ratio) varied to latin builds,
+    and the latin variant plays straight (mido: off-beat eighths exactly half a beat)."""
+    import mido
+
+    text = BASIC.replace("[harmony]", '[rhythm]\ngroove = "swing"\nswing = 0.66\n\n[harmony]')
+    proj = write_project(tmp_path, text)
+    out = tmp_path / "out"
+    r = run_cli("build", str(proj), "--vary", "groove=swing,latin", "-o", str(out),
+                "--formats", "midi,report")
+    assert r.exit_code == 0, r.output
+    mids = {d.name: next(d.glob("*.mid")) for d in out.iterdir() if d.is_dir()}
+    assert set(mids) == {"groove-swing", "groove-latin"}
+    for name, expect in (("groove-swing", 0.66), ("groove-latin", 0.5)):
+        mf = mido.MidiFile(str(mids[name]))
+        t, ons = 0, []
+        for msg in mf.tracks[1]:
+            t += msg.time
+            if msg.type == "note_on" and msg.velocity:
+                ons.append(t)
+        beat = mf.ticks_per_beat
+        offs = [x % beat for x in ons if x % beat]
+        assert offs and all(abs(o - expect * beat) <= 1 for o in offs), (name, offs[:4])
