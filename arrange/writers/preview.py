@@ -37,7 +37,7 @@ def _toolkit():  # noqa: ANN202
 def pages(musicxml: bytes) -> list[str]:
     """Each page of the score as an SVG document (verovio's layout)."""
     tk = _toolkit()
-    if not tk.loadData(musicxml.decode("utf-8")):
+    if not tk.loadData(_for_engraver(musicxml)):
         raise OutputError("verovio could not read the score it was given", where="preview",
                           accepted="a MusicXML score")
     return [_plain_text_glyphs(tk.renderToSVG(i)) for i in range(1, tk.getPageCount() + 1)]
@@ -52,6 +52,17 @@ _METRONOME_NOTES = {"\ueca5": "\u2669", "\ueca7": "\u266a", "\ueca6": "\u2669",
                     "\uea64": "\u266d", "\uea65": "\u266e", "\uea66": "\u266f",
                     "\ue260": "\u266d", "\ue261": "\u266e", "\ue262": "\u266f"}
 _SMUFL_TEXT = re.compile(r'<tspan font-family="Leipzig" font-size="(\d+)px">([^<]*)</tspan>')
+
+
+_DEGREE = re.compile(r"<degree print-object=\"no\">.*?</degree>\s*", re.S)
+
+
+def _for_engraver(musicxml: bytes) -> str:
+    """The score as verovio should draw it.  Our chord symbols carry their whole text
+    in ``<kind text=...>`` and their extensions as ``<degree print-object="no">`` (the
+    MusicXML 4.0 way to keep the meaning without printing it twice); verovio prints
+    degrees anyway ("C7b9(b9)"), so the picture is drawn from a copy without them."""
+    return _DEGREE.sub("", musicxml.decode("utf-8"))
 
 
 def _plain_text_glyphs(svg: str) -> str:
