@@ -17,6 +17,7 @@ from __future__ import annotations
 import difflib
 import re
 from dataclasses import dataclass
+from functools import lru_cache
 
 from .errors import HarmonyError
 
@@ -72,9 +73,7 @@ class Chord:
     def tensions(self) -> tuple[int, ...]:
         """Available tensions as intervals above the root, from the chord's usual
         chord scale (common jazz practice; see :mod:`arrange.keys`)."""
-        from .keys import chord_scale_for, tensions_in_scale
-
-        return tensions_in_scale(self.intervals, chord_scale_for(self)[1], self.is_dominant)
+        return _tensions(self)
 
     @property
     def core(self) -> tuple[int, ...]:
@@ -303,3 +302,11 @@ def _tones(p: _Parts) -> tuple[tuple[int, ...], tuple[int, ...]]:
 
 def format_chord(chord: Chord) -> str:
     return chord.symbol
+
+
+@lru_cache(maxsize=4096)
+def _tensions(chord: Chord) -> tuple[int, ...]:
+    """Cached: the voicing and layer searches ask for every candidate."""
+    from .keys import chord_scale_for, tensions_in_scale
+
+    return tensions_in_scale(chord.intervals, chord_scale_for(chord)[1], chord.is_dominant)

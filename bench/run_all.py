@@ -20,7 +20,11 @@ def main() -> None:
         if wanted and not any(w in script.stem for w in wanted):
             continue
         print(f"\n== {script.stem} ==", flush=True)
-        runpy.run_path(str(script), run_name="__main__")
+        try:
+            runpy.run_path(str(script), run_name="__main__")
+        except SystemExit as stop:       # a script that ends with sys.exit(...)
+            if stop.code not in (None, 0):
+                print(f"{script.stem} exited {stop.code}", flush=True)
 
 
 if __name__ == "__main__":
