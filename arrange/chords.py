@@ -268,7 +268,22 @@ def _format(p: _Parts) -> str:
         else:
             num = str(p.ext or 7)
         head = minor + num + sus
-    return head + fifth_alt + "".join(p.alts)
+    alts = fifth_alt + "".join(p.alts)
+    if not head and alts:
+        # "Cb5" or "C#9" would read as a Cb or C# root: a bare triad's alterations go in
+        # parentheses, as lead sheets write them (common practice)
+        return "(" + ",".join(_split_alts(alts)) + ")"
+    return head + alts
+
+
+def _split_alts(text: str) -> list[str]:
+    out: list[str] = []
+    for ch in text:
+        if ch in "b#":
+            out.append(ch)
+        else:
+            out[-1] += ch
+    return out
 
 
 def _tones(p: _Parts) -> tuple[tuple[int, ...], tuple[int, ...]]:

@@ -82,4 +82,9 @@ def main() -> int:
 
 
 if __name__ == "__main__":
-    sys.exit(main())
+    import resource
+
+    code = main()
+    peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+    print(f"peak memory of this process: {peak:.0f} MiB (getrusage; the budget is 1 GiB)")
+    sys.exit(code)
