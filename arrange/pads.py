@@ -132,34 +132,42 @@ def pc_sets(chord: Chord, n: int) -> list[tuple[tuple[int, ...], float]]:
     return out
 
 
-def _stack(order: tuple[int, ...], top: int, opens: tuple[bool, ...]) -> tuple[int, ...]:
-    voices = [top]
-    for pc, open_ in zip(order[1:], opens, strict=True):
-        below = voices[-1] - ((voices[-1] - pc) % 12 or 12)
-        voices.append(below - 12 if open_ else below)
-    return tuple(voices)
+@lru_cache(maxsize=8)
+def _open_choices(n: int) -> np.ndarray:
+    """``(o, n - 1)`` 0/1: which voices below the top drop an extra octave."""
+    rows = list(product((0, 1), repeat=n - 1)) if n <= 5 else [(0,) * (n - 1)]
+    return np.array(rows, dtype=np.int64).reshape(len(rows), n - 1)
 
 
 @lru_cache(maxsize=2048)
-def _shapes(pcs: tuple[int, ...], lo: int, hi: int, n: int) -> tuple[tuple[int, ...], ...]:
+def _shapes(pcs: tuple[int, ...], lo: int, hi: int, n: int) -> np.ndarray:
+    """Every voicing ``(k, n)`` (top to bottom, rows in descending order) of the
+    multiset ``pcs``: each order of the tones stacked downward from a top within
+    the octave below ``hi`` (or one or two octaves lower), each lower voice close
+    or an octave open, the bottom at or above ``lo``, at most ``max_gap`` between
+    upper voices and ``max_bottom_gap`` above the bottom.  The gaps depend only
+    on the order and the open choices, so shapes with too wide a gap are dropped
+    before any pitch is stacked."""
     lr = layer_rules()
-    found: set[tuple[int, ...]] = set()
     orders = set(permutations(pcs)) if n <= 5 else {pcs[i:] + pcs[:i] for i in range(n)}
-    open_choices = list(product((False, True), repeat=n - 1)) if n <= 5 else [(False,) * (n - 1)]
-    for order in orders:
-        for top in range(hi - 11, hi + 1):
-            if top % 12 != order[0]:
-                continue
-            for t in (top, top - 12, top - 24):
-                for opens in open_choices:
-                    v = _stack(order, t, opens)
-                    if v[-1] < lo or v[0] > hi:
-                        continue
-                    gaps = [a - b for a, b in zip(v, v[1:], strict=False)]
-                    if n > 1 and (max(gaps[:-1] or [0]) > lr.max_gap or gaps[-1] > lr.max_bottom_gap):
-                        continue
-                    found.add(v)
-    return tuple(sorted(found, reverse=True))
+    orders_a = np.array(sorted(orders), dtype=np.int64).reshape(len(orders), n)
+    close = (orders_a[:, :-1] - orders_a[:, 1:]) % 12
+    close[close == 0] = 12
+    gaps = close[:, None, :] + 12 * _open_choices(n)[None, :, :]          # (k, o, n - 1)
+    if n > 1:
+        ok = ((gaps[:, :, :-1].max(axis=2, initial=0) <= lr.max_gap)
+              & (gaps[:, :, -1] <= lr.max_bottom_gap))
+    else:
+        ok = np.ones(gaps.shape[:2], dtype=bool)
+    offsets = np.concatenate([np.zeros(gaps.shape[:2] + (1,), dtype=np.int64), np.cumsum(gaps, axis=2)], axis=2)
+    top = hi - (hi - orders_a[:, 0]) % 12                       # the top in hi - 11 .. hi on the order's first tone
+    tops = top[:, None] - 12 * np.arange(3)[None, :]                       # (k, 3)
+    V = tops[:, None, :, None] - offsets[:, :, None, :]                    # (k, o, 3, n)
+    keep = ok[:, :, None] & (V[..., -1] >= lo) & (V[..., 0] <= hi)
+    found = sorted(set(map(tuple, V[keep].tolist())), reverse=True)
+    out = np.array(found, dtype=np.int64).reshape(len(found), n)
+    out.flags.writeable = False
+    return out
 
 
 def rubs(pc: int, lead_pc: int, chord: Chord) -> bool:
@@ -206,18 +214,18 @@ def thinned_sets(chord: Chord, n: int, safe: tuple[int, ...]) -> list[tuple[tupl
     return out
 
 
-def _embed(v: tuple[int, ...], sounding: tuple[int, ...], n: int) -> tuple[tuple[int, ...], tuple[bool, ...]]:
-    """A voicing of the ``sounding`` parts spread over ``n`` parts; a resting part
-    carries the pitch of the sounding voice above it."""
-    out, rests, k = [], [], 0
-    for j in range(n):
-        if j in sounding:
-            out.append(v[k])
-            k += 1
-        else:
-            out.append(out[-1])
-        rests.append(j not in sounding)
-    return tuple(out), tuple(rests)
+def _embed(V: np.ndarray, sounding: tuple[int, ...], n: int) -> tuple[np.ndarray, np.ndarray]:
+    """Voicings ``V`` of the ``sounding`` parts spread over ``n`` parts; a resting
+    part carries the pitch of the sounding voice above it (the top part sounds)."""
+    carry = [sum(1 for s in sounding if s <= j) - 1 for j in range(n)]
+    rests = np.array([j not in sounding for j in range(n)], dtype=bool)
+    return V[:, carry], np.broadcast_to(rests, (len(V), n))
+
+
+def _context(chord: Chord, m: int) -> rules.Context:
+    """The rule context of ``m`` voicings of one chord (one row worked out, repeated)."""
+    one = rules.context([chord], ["spread"])
+    return rules.Context(*(np.repeat(getattr(one, f), m, axis=0) for f in rules.Context.__slots__))
 
 
 def candidates(chord: Chord, section: Section, lead: tuple[int, ...] = ()
@@ -225,40 +233,48 @@ def candidates(chord: Chord, section: Section, lead: tuple[int, ...] = ()
     """Candidate voicings ``(k, n)`` (sounding, top to bottom), their rests ``(k, n)``
     and costs ``(k,)``: preference cost plus the voicing stage's weighted rule
     penalties.  ``lead``: every lead-section pitch sounding during the chord; when
-    no full voicing is free of clashes with it, thinner clash-free ones join."""
+    no full voicing is free of clashes with it, thinner clash-free ones join.
+    The lead matters only through its clash-free tones, so chords that repeat
+    with the same tones free share one (read-only) result."""
+    return _candidates(chord, section, safe_pcs(chord, lead) if lead else None)
+
+
+@lru_cache(maxsize=512)
+def _candidates(chord: Chord, section: Section, safe: tuple[int, ...] | None
+                ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     n = len(section.parts)
     parts = section.parts
     lo = min(p.instrument.practical[0] for p in parts)
     hi = max(p.instrument.practical[1] for p in parts)
-    rows: list[tuple[int, ...]] = []
-    rest_rows: list[tuple[bool, ...]] = []
-    base: list[float] = []
+    rows: list[np.ndarray] = []
+    rest_rows: list[np.ndarray] = []
+    base: list[np.ndarray] = []
     for pcs, cost in pc_sets(chord, n):
-        for v in _shapes(tuple(sorted(pcs)), lo, hi, n):
-            rows.append(v)
-            rest_rows.append((False,) * n)
-            base.append(cost)
-    for ms, t, cost in thinned_sets(chord, n, safe_pcs(chord, lead)) if lead else []:
+        V = _shapes(tuple(sorted(pcs)), lo, hi, n)
+        rows.append(V)
+        rest_rows.append(np.zeros(V.shape, dtype=bool))
+        base.append(np.full(len(V), cost))
+    for ms, t, cost in thinned_sets(chord, n, safe) if safe is not None else []:
         # the top part always sounds; any t - 1 of the others join it
         for others in combinations(range(1, n), t - 1):
             sounding = (0, *others)
             s_lo = min(parts[j].instrument.practical[0] for j in sounding)
             s_hi = max(parts[j].instrument.practical[1] for j in sounding)
-            for v in _shapes(ms, s_lo, s_hi, t):
-                row, rest = _embed(v, sounding, n)
-                rows.append(row)
-                rest_rows.append(rest)
-                base.append(cost)
-    if not rows:
+            row, rest = _embed(_shapes(ms, s_lo, s_hi, t), sounding, n)
+            rows.append(row)
+            rest_rows.append(rest)
+            base.append(np.full(len(row), cost))
+    if not sum(len(r) for r in rows):
         raise VoicingError(f"no voicing of {chord.symbol} fits the section {section.name!r}",
                            where="[[layers]] section",
                            accepted="a section whose parts' practical ranges overlap enough to hold a chord")
-    P = np.array(rows, dtype=np.int64)
-    R = np.array(rest_rows, dtype=bool)
+    P = np.concatenate(rows, axis=0)
+    R = np.concatenate(rest_rows, axis=0)
     weights = {k: recipes().weight(k) for k in rules.KINDS}
-    ctx = rules.context([chord] * len(P), ["spread"] * len(P))
-    marks = {k: m & ~R for k, m in rules.masks(P, ctx, section).items()}
-    cost = np.array(base) + rules.penalties(marks, weights)
+    marks = {k: m & ~R for k, m in rules.masks(P, _context(chord, len(P)), section).items()}
+    cost = np.concatenate(base) + rules.penalties(marks, weights)
+    for arr in (P, R, cost):
+        arr.flags.writeable = False
     return P, R, cost
 
 
