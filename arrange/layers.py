@@ -223,17 +223,41 @@ def _sounding(voiced: Voiced, onset: Fraction, dur: Fraction) -> list[tuple[int,
 _KEEP = 500      # candidates per chord kept for the search (the cheapest by their own costs)
 
 
+def _step_table(motion: float, leap: float, most: int) -> np.ndarray:
+    """Cost of one voice moving ``d`` semitones, ``d`` = 0 .. ``most``."""
+    d = np.arange(most + 1, dtype=np.int64)
+    return motion * d + leap * np.clip(d - 2, 0, None)
+
+
+def _steps(a: np.ndarray, ra: np.ndarray, b: np.ndarray, rb: np.ndarray, table: np.ndarray) -> np.ndarray:
+    """``(len(a), len(b))`` motion costs between two chords' candidates: each
+    voice's cost looked up by its distance, voices resting on either side free.
+    Voices are added one ``(len(a), len(b))`` plane at a time, in order, which
+    gives the very sums numpy's ``sum`` over a last axis shorter than 8 gives
+    (longer axes it sums pairwise, so they keep the plain ``sum``)."""
+    n = a.shape[1]
+    if n >= 8:
+        step = table[np.abs(a[:, None, :] - b[None, :, :])]
+        return (step * ~(ra[:, None, :] | rb[None, :, :])).sum(axis=2)
+    total = np.zeros((len(a), len(b)))
+    for v in range(n):
+        plane = table[np.abs(a[:, v, None] - b[None, :, v])]
+        if ra[:, v].any() or rb[:, v].any():
+            plane = plane * ~(ra[:, v, None] | rb[None, :, v])
+        total = plane if v == 0 else total + plane
+    return total
+
+
 def _solve(cands: list[np.ndarray], costs: list[np.ndarray], rests: list[np.ndarray]) -> list[int]:
     """One candidate per chord minimising costs plus motion (semitones, every voice
     playing on both sides; common tones free) plus a leap cost beyond a whole step."""
     motion, leap = recipes().weight("motion"), layer_rules().weight("leap")
+    small = [c.astype(np.int32) for c in cands]
+    table = _step_table(motion, leap, int(max(c.max() for c in cands) - min(c.min() for c in cands)))
     total = costs[0].astype(float)
     back = []
     for i in range(1, len(cands)):
-        d = np.abs(cands[i - 1][:, None, :] - cands[i][None, :, :])
-        plays = ~(rests[i - 1][:, None, :] | rests[i][None, :, :])
-        step = ((motion * d + leap * np.clip(d - 2, 0, None)) * plays).sum(axis=2)
-        whole = total[:, None] + step
+        whole = total[:, None] + _steps(small[i - 1], rests[i - 1], small[i], rests[i], table)
         arg = whole.argmin(axis=0)
         back.append(arg)
         total = whole[arg, np.arange(len(cands[i]))] + costs[i]
