@@ -239,12 +239,16 @@ def _steps(a: np.ndarray, ra: np.ndarray, b: np.ndarray, rb: np.ndarray, table: 
     if n >= 8:
         step = table[np.abs(a[:, None, :] - b[None, :, :])]
         return (step * ~(ra[:, None, :] | rb[None, :, :])).sum(axis=2)
-    total = np.zeros((len(a), len(b)))
+    aT, bT, raT, rbT = (np.ascontiguousarray(x.T) for x in (a, b, ra, rb))
+    total = np.empty((0, 0))
     for v in range(n):
-        plane = table[np.abs(a[:, v, None] - b[None, :, v])]
-        if ra[:, v].any() or rb[:, v].any():
-            plane = plane * ~(ra[:, v, None] | rb[None, :, v])
-        total = plane if v == 0 else total + plane
+        plane = table.take(np.abs(aT[v][:, None] - bT[v][None, :]))
+        if raT[v].any() or rbT[v].any():
+            np.multiply(plane, ~(raT[v][:, None] | rbT[v][None, :]), out=plane)
+        if v == 0:
+            total = plane
+        else:
+            total += plane
     return total
 
 
@@ -257,10 +261,11 @@ def _solve(cands: list[np.ndarray], costs: list[np.ndarray], rests: list[np.ndar
     total = costs[0].astype(float)
     back = []
     for i in range(1, len(cands)):
-        whole = total[:, None] + _steps(small[i - 1], rests[i - 1], small[i], rests[i], table)
-        arg = whole.argmin(axis=0)
+        # rows: this chord's candidates, columns: the previous chord's (argmin along a row)
+        whole = _steps(small[i], rests[i], small[i - 1], rests[i - 1], table) + total[None, :]
+        arg = whole.argmin(axis=1)
         back.append(arg)
-        total = whole[arg, np.arange(len(cands[i]))] + costs[i]
+        total = whole[np.arange(len(cands[i])), arg] + costs[i]
     j = int(total.argmin())
     path = [j]
     for arg in reversed(back):
