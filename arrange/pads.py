@@ -139,19 +139,17 @@ def _open_choices(n: int) -> np.ndarray:
     return np.array(rows, dtype=np.int64).reshape(len(rows), n - 1)
 
 
-@lru_cache(maxsize=2048)
-def _shapes(pcs: tuple[int, ...], lo: int, hi: int, n: int) -> np.ndarray:
-    """Every voicing ``(k, n)`` (top to bottom, rows in descending order) of the
-    multiset ``pcs``: each order of the tones stacked downward from a top within
-    the octave below ``hi`` (or one or two octaves lower), each lower voice close
-    or an octave open, the bottom at or above ``lo``, at most ``max_gap`` between
-    upper voices and ``max_bottom_gap`` above the bottom.  The gaps depend only
-    on the order and the open choices, so shapes with too wide a gap are dropped
-    before any pitch is stacked."""
+@lru_cache(maxsize=1024)
+def _stacks(pcs: tuple[int, ...], n: int) -> tuple[np.ndarray, np.ndarray]:
+    """The stacks of the multiset ``pcs`` within the gap limits: each one's top
+    pitch class ``(k,)`` and every voice's distance below the top ``(k, n)``.
+    Each order of the tones is stacked downward, each lower voice close or an
+    octave open; the gaps depend only on the order and the open choices, so a
+    stack with too wide a gap is dropped before any pitch is placed."""
     lr = layer_rules()
     orders = set(permutations(pcs)) if n <= 5 else {pcs[i:] + pcs[:i] for i in range(n)}
-    orders_a = np.array(sorted(orders), dtype=np.int64).reshape(len(orders), n)
-    close = (orders_a[:, :-1] - orders_a[:, 1:]) % 12
+    order_rows = np.array(sorted(orders), dtype=np.int64).reshape(len(orders), n)
+    close = (order_rows[:, :-1] - order_rows[:, 1:]) % 12
     close[close == 0] = 12
     gaps = close[:, None, :] + 12 * _open_choices(n)[None, :, :]          # (k, o, n - 1)
     if n > 1:
@@ -160,12 +158,26 @@ def _shapes(pcs: tuple[int, ...], lo: int, hi: int, n: int) -> np.ndarray:
     else:
         ok = np.ones(gaps.shape[:2], dtype=bool)
     offsets = np.concatenate([np.zeros(gaps.shape[:2] + (1,), dtype=np.int64), np.cumsum(gaps, axis=2)], axis=2)
-    top = hi - (hi - orders_a[:, 0]) % 12                       # the top in hi - 11 .. hi on the order's first tone
-    tops = top[:, None] - 12 * np.arange(3)[None, :]                       # (k, 3)
-    V = tops[:, None, :, None] - offsets[:, :, None, :]                    # (k, o, 3, n)
-    keep = ok[:, :, None] & (V[..., -1] >= lo) & (V[..., 0] <= hi)
-    found = sorted(set(map(tuple, V[keep].tolist())), reverse=True)
-    out = np.array(found, dtype=np.int64).reshape(len(found), n)
+    first = np.broadcast_to(order_rows[:, :1], ok.shape)
+    return first[ok], offsets[ok]
+
+
+@lru_cache(maxsize=2048)
+def _shapes(pcs: tuple[int, ...], lo: int, hi: int, n: int) -> np.ndarray:
+    """Every voicing ``(k, n)`` (top to bottom, rows in descending order) of the
+    multiset ``pcs`` (:func:`_stacks`) from a top within the octave below ``hi``,
+    or one or two octaves lower, with the bottom at or above ``lo``."""
+    first, offsets = _stacks(pcs, n)
+    top = hi - (hi - first) % 12                         # the top in hi - 11 .. hi on the order's first tone
+    V = (top[:, None] - 12 * np.arange(3)[None, :])[:, :, None] - offsets[:, None, :]   # (k, 3, n)
+    rows = V[V[..., -1] >= lo].reshape(-1, n)
+    if 0 <= lo and hi < 256 and n <= 7:
+        # one base-256 number per row sorts as the row does (every pitch lies in lo .. hi)
+        place = 256 ** np.arange(n - 1, -1, -1, dtype=np.int64)
+        keys = np.unique(rows @ place)[::-1]
+        out = (keys[:, None] // place[None, :]) % 256
+    else:
+        out = np.unique(rows, axis=0)[::-1].copy() if len(rows) else rows
     out.flags.writeable = False
     return out
 
