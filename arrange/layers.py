@@ -240,14 +240,17 @@ def _steps(a: np.ndarray, ra: np.ndarray, b: np.ndarray, rb: np.ndarray, table: 
         step = table[np.abs(a[:, None, :] - b[None, :, :])]
         return (step * ~(ra[:, None, :] | rb[None, :, :])).sum(axis=2)
     aT, bT, raT, rbT = (np.ascontiguousarray(x.T) for x in (a, b, ra, rb))
-    total = np.empty((0, 0))
+    most = len(table) - 1
+    signed = table[np.abs(np.arange(-most, most + 1))]       # indexed by a - b + most: no abs per pair
+    shape = (len(a), len(b))
+    where, total, plane = np.empty(shape, dtype=np.intp), np.empty(shape), np.empty(shape)
     for v in range(n):
-        plane = table.take(np.abs(aT[v][:, None] - bT[v][None, :]))
+        out = total if v == 0 else plane
+        np.subtract((aT[v] + most)[:, None], bT[v][None, :], out=where)
+        np.take(signed, where, out=out, mode="clip")           # every index is in range
         if raT[v].any() or rbT[v].any():
-            np.multiply(plane, ~(raT[v][:, None] | rbT[v][None, :]), out=plane)
-        if v == 0:
-            total = plane
-        else:
+            np.multiply(out, ~(raT[v][:, None] | rbT[v][None, :]), out=out)
+        if v:
             total += plane
     return total
 
@@ -256,13 +259,13 @@ def _solve(cands: list[np.ndarray], costs: list[np.ndarray], rests: list[np.ndar
     """One candidate per chord minimising costs plus motion (semitones, every voice
     playing on both sides; common tones free) plus a leap cost beyond a whole step."""
     motion, leap = recipes().weight("motion"), layer_rules().weight("leap")
-    small = [c.astype(np.int32) for c in cands]
+    idx = [c.astype(np.intp) for c in cands]          # distances index the table: intp takes fastest
     table = _step_table(motion, leap, int(max(c.max() for c in cands) - min(c.min() for c in cands)))
     total = costs[0].astype(float)
     back = []
     for i in range(1, len(cands)):
         # rows: this chord's candidates, columns: the previous chord's (argmin along a row)
-        whole = _steps(small[i], rests[i], small[i - 1], rests[i - 1], table) + total[None, :]
+        whole = _steps(idx[i], rests[i], idx[i - 1], rests[i - 1], table) + total[None, :]
         arg = whole.argmin(axis=1)
         back.append(arg)
         total = whole[np.arange(len(cands[i])), arg] + costs[i]
