@@ -159,7 +159,7 @@ def layer_tracks(layers: tuple[VoicedLayer, ...], first_index: int, lead_in: Fra
     with ``track_from`` and ``tick`` the MIDI writer's own helpers."""
     from music21 import midi
 
-    from .midi import channel_for
+    from .midi import channel_for, track_head
 
     tracks = []
     index = first_index
@@ -167,13 +167,8 @@ def layer_tracks(layers: tuple[VoicedLayer, ...], first_index: int, lead_in: Fra
         vel = vl.layer.velocity
         for k, part in enumerate(vl.layer.section.parts):
             ch = channel_for(index) + 1
-            evs: list[tuple[int, int, midi.MidiEvent]] = []
-            nm = midi.MidiEvent(None, type=midi.MetaEvents.SEQUENCE_TRACK_NAME)
-            nm.data = part.name.encode("utf-8")
-            evs.append((0, 0, nm))
-            pc = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.PROGRAM_CHANGE, channel=ch)
-            pc.data = part.instrument.program - 1
-            evs.append((0, 1, pc))
+            evs: list[tuple[int, int, midi.MidiEvent]] = track_head(part.name, ch,
+                                                                    part.instrument.program)
             for n in vl.notes:
                 if n.pitches[k] is None:
                     continue

@@ -250,12 +250,11 @@ def written_accidentals(p) -> None:  # noqa: ANN001
     from music21 import key, note, stream
 
     p.toWrittenPitch(inPlace=True)
-    order = "FCGDAEB"
     sharps = 0
     for m in p.getElementsByClass(stream.Measure):
         for ks in m.getElementsByClass(key.KeySignature):
             sharps = ks.sharps
-        sig = {x: 1 for x in order[:sharps]} if sharps >= 0 else {x: -1 for x in order[::-1][:-sharps]}
+        sig = signature_alters(sharps)
         shown: dict[tuple[str, int], int] = {}
         for nt in sorted(m.getElementsByClass(note.Note), key=lambda n: n.offset):
             step, octave = nt.pitch.step, nt.pitch.octave
@@ -280,21 +279,19 @@ def _show_accidental(nt, need: bool) -> None:  # noqa: ANN001
 def _accidental(nt, pc, shown: dict[tuple[int, str, int], int], k) -> None:  # noqa: ANN001
     """Print an accidental only where the key signature and the measure so far do
     not already give it (common practice of engraving); a tied-over note never."""
-    from music21 import pitch
-
-    order = "FCGDAEB"
-    sig = {x: 1 for x in order[:k.fifths]} if k.fifths >= 0 else {x: -1 for x in order[::-1][:-k.fifths]}
+    sig = signature_alters(k.fifths)
     step, octave = nt.pitch.step, nt.pitch.octave
     alter = int(nt.pitch.alter)
     slot = (pc.measure, step, octave)
     need = alter != shown.get(slot, sig.get(step, 0)) and not pc.tie_stop
     shown[slot] = alter
-    if nt.pitch.accidental is None:
-        if need:
-            nt.pitch.accidental = pitch.Accidental("natural")
-            nt.pitch.accidental.displayStatus = True
-        return
-    nt.pitch.accidental.displayStatus = need
+    _show_accidental(nt, need)
+
+
+def signature_alters(fifths: int) -> dict[str, int]:
+    """The alteration a key signature of ``fifths`` gives each letter (sharps F C G ...)."""
+    order = "FCGDAEB"
+    return {x: 1 for x in order[:fifths]} if fifths >= 0 else {x: -1 for x in order[::-1][:-fifths]}
 
 
 def _tie(kind: str):  # noqa: ANN202
