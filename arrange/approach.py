@@ -17,7 +17,7 @@ from __future__ import annotations
 
 from .chords import Chord
 from .keys import Key, chord_scale_for, chord_scale_in_key, tensions_in_scale
-from .spelling import root_spelling, spell_pc
+from .spelling import nonchord_degree, root_spelling, spell_pc
 
 __all__ = ["TECHNIQUES", "classify", "function_name", "find_approach", "find_substitute"]
 
@@ -30,15 +30,7 @@ def function_name(pitch: int, chord: Chord) -> str:
     iv = (pitch - chord.root) % 12
     deg = chord.degree_of(iv)
     if deg is None:
-        deg = {1: 9, 2: 9, 3: 9, 4: 3, 5: 11, 6: 11, 7: 5, 8: 13, 9: 13, 10: 7, 11: 7}[iv]
-        if iv == 3 and 4 not in chord.intervals:
-            deg = 3
-        if iv == 9 and not {10, 11} & set(chord.intervals):
-            deg = 6
-        if iv in (6, 8) and 7 not in chord.intervals:
-            deg = 5
-        if iv == 4 and 5 in chord.intervals:
-            deg = 3
+        deg = nonchord_degree(iv, chord)
     natural = {1: 0, 2: 2, 3: 4, 4: 5, 5: 7, 6: 9, 7: 11, 9: 2, 11: 5, 13: 9}[deg]
     diff = (iv - natural + 6) % 12 - 6
     return ("#" * diff if diff > 0 else "b" * -diff) + str(deg)

@@ -111,6 +111,12 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
         for k, part_xml in part_bytes(voiced, info).items():
             name = voiced.section.parts[k].name
             files[f"{slug}.part{k + 1:02d}-{slugify(name)}.musicxml"] = part_xml
+        if layers:
+            from .writers.layers import layer_part_bytes
+
+            first = len(voiced.section.parts)
+            for j, (name, part_xml) in enumerate(layer_part_bytes(voiced, info, layers)):
+                files[f"{slug}.part{first + j + 1:02d}-{slugify(name)}.musicxml"] = part_xml
     midi = None
     if "midi" in formats or out.audio:
         from .writers.midi import MidiOptions, midi_bytes

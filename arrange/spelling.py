@@ -24,7 +24,7 @@ from __future__ import annotations
 from .chords import ROOT_NAMES, Chord, interval_name, parse_chord, spell_name
 from .keys import LETTERS, Key
 
-__all__ = ["spell_pc", "spell_pitch", "spell_chord", "with_octave", "m21_name", "root_spelling",
+__all__ = ["nonchord_degree", "spell_pc", "spell_pitch", "spell_chord", "with_octave", "m21_name", "root_spelling",
            "direction_of"]
 
 # degree a tension takes, by interval above the root (b9 9 #9, 11 #11, b13 13, 6 7)
@@ -70,14 +70,14 @@ def spell_pc(pc: int, key: Key, chord: Chord | None = None, direction: int = 0) 
         # a non-chord tone that is no chromatic step: by its degree above the root
         # (the major seventh of G7 is F#, not Gb)
         iv = (pc - chord.root) % 12
-        name = interval_name(chord.root_name, iv, _nonchord_degree(iv, chord))
+        name = interval_name(chord.root_name, iv, nonchord_degree(iv, chord))
         against = iv == 3 and _acc(name) * (-1 if key.fifths < 0 else 1) < 0   # #9 or b10
         if abs(_acc(name)) <= 1 and (name not in _ODD or name in key.names) and not against:
             return name
     return _chromatic(pc, key, direction)
 
 
-def _nonchord_degree(iv: int, chord: Chord) -> int:
+def nonchord_degree(iv: int, chord: Chord) -> int:
     """The degree a non-chord tone takes above the root, as its function is named."""
     deg = {1: 9, 2: 9, 3: 9, 4: 3, 5: 11, 6: 11, 7: 5, 8: 13, 9: 13, 10: 7, 11: 7}[iv]
     if iv == 3 and 4 not in chord.intervals:

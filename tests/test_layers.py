@@ -475,3 +475,30 @@ def test_clash_free_voicing_is_found(tmp_path: Path) -> None:
         cs = harmony.ChordSymbol(_m21_figure(n.chord.symbol))
         assert cs.third.pitchClass in {p % 12 for p in n.sounding}
         assert n.why.startswith("thinned: ")
+
+
+def test_parts_include_the_layer_parts(demo, musicxml_schema) -> None:
+    """--parts (the demo asks for parts) writes one printable file per layer part as well:
+    each validates against the MusicXML 4.0 XSD, holds one part, and music21 reads back
+    its sounding pitches as report.json's layer notes, with rehearsal letters and the
+    tempo a player needs (common practice of part preparation)."""
+    from music21 import converter, expressions, tempo
+
+    out, report = demo
+    lead_n = len(report["section"]["parts"])
+    layer_parts = [p for la in report["layers"] for p in la["parts"]]
+    files = sorted(out.glob("copper-coast-transition.part*.musicxml"))
+    assert len(files) == lead_n + len(layer_parts)
+    notes = report["layers"][0]["notes"]
+    for j, part in enumerate(layer_parts):
+        f = files[lead_n + j]
+        musicxml_schema.validate(str(f))                                # MusicXML 4.0 XSD
+        score = converter.parse(str(f))                                 # music21 as reader
+        assert len(score.parts) == 1 and score.parts[0].partName == part["name"]
+        flat = score.parts[0].toSoundingPitch().flatten()
+        heard = [n.pitch.midi for n in flat.notes
+                 if not (n.tie is not None and n.tie.type in ("stop", "continue"))]
+        expected = [n["pitches"][j] for n in notes if n["pitches"][j] is not None]
+        assert heard == expected
+        assert flat.getElementsByClass(expressions.RehearsalMark)
+        assert flat.getElementsByClass(tempo.MetronomeMark)

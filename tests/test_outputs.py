@@ -410,3 +410,34 @@ def test_style_word_over_the_metronome_mark(tmp_path: Path, groove: str, tempo: 
     score = converter.parse(str(next((tmp_path / "o").glob("*.musicxml"))))
     words = [t.content for t in score.parts[0].flatten().getElementsByClass(expressions.TextExpression)]
     assert word in words
+
+
+def test_audio_render_is_peak_normalised(tmp_path: Path) -> None:
+    """--audio through the fluidsynth program and a General MIDI SoundFont (.ci/run
+    installs Debian's fluidsynth and fluid-soundfont-gm): the WAV is read with Python's
+    wave module (RIFF/WAVE, the standard library as reader); its peak sits at -1 dBFS
+    (dBFS = 20 log10(peak / full scale), by definition) and it lasts as long as the MIDI
+    (mido's length)."""
+    import math
+    import shutil
+    import wave
+    from array import array
+
+    import mido
+
+    if not shutil.which("fluidsynth"):   # CI installs it (.ci/run); a fresh laptop may not have it
+        pytest.skip("fluidsynth is not installed (Debian: apt-get install fluidsynth fluid-soundfont-gm)")
+    proj = write_project(tmp_path, TRUMPETS)
+    out = tmp_path / "out"
+    r = run_cli("build", str(proj), "-o", str(out), "--audio", "--formats", "midi")
+    assert r.exit_code == 0, r.output
+    wav = next(out.glob("*.wav"))
+    with wave.open(str(wav)) as w:
+        assert w.getsampwidth() == 2
+        frames = w.readframes(w.getnframes())
+        seconds = w.getnframes() / w.getframerate()
+    samples = array("h", frames)
+    peak = max(abs(s) for s in samples)
+    assert abs(20 * math.log10(peak / 32767) - (-1.0)) < 0.05
+    length = mido.MidiFile(str(next(out.glob("*.mid")))).length
+    assert length <= seconds <= length + 5          # the render keeps the release tail

@@ -152,6 +152,7 @@ def test_missing_audio_tools_named(monkeypatch: pytest.MonkeyPatch, tmp_path: Pa
     monkeypatch.setenv("ARRANGE_SOUNDFONT", str(tmp_path / "none.sf2"))
     msg = missing_message()
     assert msg is not None and "fluidsynth" in msg and "SoundFont" in msg and "\n" not in msg
+    assert "none.sf2" in msg                    # the SoundFont the user named, not another
 
 
 def test_batch_rolls_back_when_a_rename_fails(tmp_path: Path) -> None:

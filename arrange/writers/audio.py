@@ -36,8 +36,10 @@ def find_fluidsynth() -> str | None:
 
 def find_soundfont() -> Path | None:
     env = os.environ.get("ARRANGE_SOUNDFONT")
-    for cand in ([env] if env else []) + list(SOUNDFONTS):
-        if cand and Path(cand).is_file():
+    if env:     # a SoundFont the user names is the one to use, or none
+        return Path(env) if Path(env).is_file() else None
+    for cand in SOUNDFONTS:
+        if Path(cand).is_file():
             return Path(cand)
     return None
 
@@ -48,7 +50,8 @@ def missing_message() -> str | None:
     if find_fluidsynth() is None:
         need.append("the fluidsynth program")
     if find_soundfont() is None:
-        need.append("a General MIDI SoundFont")
+        env = os.environ.get("ARRANGE_SOUNDFONT")
+        need.append(f"the SoundFont {env!r} (ARRANGE_SOUNDFONT)" if env else "a General MIDI SoundFont")
     if not need:
         return None
     how = ("apt install fluidsynth fluid-soundfont-gm" if sys.platform.startswith("linux")

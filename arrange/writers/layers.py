@@ -159,7 +159,7 @@ def layer_tracks(layers: tuple[VoicedLayer, ...], first_index: int, lead_in: Fra
     with ``track_from`` and ``tick`` the MIDI writer's own helpers."""
     from music21 import midi
 
-    from .midi import channel_for
+    from .midi import channel_for, track_head
 
     tracks = []
     index = first_index
@@ -167,13 +167,8 @@ def layer_tracks(layers: tuple[VoicedLayer, ...], first_index: int, lead_in: Fra
         vel = vl.layer.velocity
         for k, part in enumerate(vl.layer.section.parts):
             ch = channel_for(index) + 1
-            evs: list[tuple[int, int, midi.MidiEvent]] = []
-            nm = midi.MidiEvent(None, type=midi.MetaEvents.SEQUENCE_TRACK_NAME)
-            nm.data = part.name.encode("utf-8")
-            evs.append((0, 0, nm))
-            pc = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.PROGRAM_CHANGE, channel=ch)
-            pc.data = part.instrument.program - 1
-            evs.append((0, 1, pc))
+            evs: list[tuple[int, int, midi.MidiEvent]] = track_head(part.name, ch,
+                                                                    part.instrument.program)
             for n in vl.notes:
                 if n.pitches[k] is None:
                     continue
@@ -237,3 +232,44 @@ def layers_markdown(data: dict[str, Any]) -> list[str]:
                        f"{n.get('why', '')} |")
         out.append("")
     return out[:-1]
+
+
+def layer_part_bytes(voiced: Voiced, info, layers: tuple[VoicedLayer, ...]) -> list[tuple[str, bytes]]:  # noqa: ANN001
+    """One printable MusicXML file per layer part, in written pitch, as ``--parts``
+    writes the lead section's: the part alone, with the tempo, style word and
+    rehearsal letters a player needs, and its own name on the first page."""
+    from dataclasses import replace
+
+    from music21 import expressions, layout, stream, tempo, text
+    from music21.musicxml.m21ToXml import GeneralObjectExporter
+
+    from . import marks
+    from .musicxml import build_score, finish_xml
+
+    names = [p.name for vl in layers for p in vl.layer.section.parts]
+    out = []
+    for j, name in enumerate(names):
+        one = replace(info, only_part=None, concert=False)
+        score = build_score(voiced, one)
+        add_layer_parts(score, voiced, layers, one)
+        parts = list(score.parts)
+        lead, keep = parts[0], parts[len(voiced.section.parts) + j]
+        first = keep.getElementsByClass(stream.Measure)[0]
+        lead_first = lead.getElementsByClass(stream.Measure)[0]
+        for el in list(lead_first.getElementsByClass((tempo.MetronomeMark, expressions.TextExpression))):
+            if isinstance(el, tempo.MetronomeMark) or el.content == info.style:
+                first.insert(el.offset, el)
+        marks.add_rehearsal(list(keep.getElementsByClass(stream.Measure)), voiced)
+        for p in parts:
+            if p is not keep:
+                score.remove(p)
+        for el in list(score.getElementsByClass((layout.StaffGroup, text.TextBox))):
+            score.remove(el)
+        marks.page_credits(score, info.title, False, name)
+        exporter = GeneralObjectExporter(score)
+        exporter.makeNotation = False
+        data: bytes = exporter.parse()
+        data = finish_xml(data, voiced, one)
+        data = layer_sounds(data, voiced, layers)
+        out.append((name, data))
+    return out

@@ -35,6 +35,18 @@ class MidiOptions:
     rhythm_section: bool = False
 
 
+def track_head(name: str, channel: int, program: int) -> list:  # noqa: ANN001
+    """A part track's first events: its name and its General MIDI program (1-based in,
+    0-based on the wire); ``channel`` is music21's 1-based channel."""
+    from music21 import midi
+
+    nm = midi.MidiEvent(None, type=midi.MetaEvents.SEQUENCE_TRACK_NAME)
+    nm.data = name.encode("utf-8")
+    pc = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.PROGRAM_CHANGE, channel=channel)
+    pc.data = program - 1
+    return [(0, 0, nm), (0, 1, pc)]
+
+
 def channel_for(part_index: int) -> int:
     """0-based MIDI channel of a part, skipping the percussion channel (9)."""
     ch = part_index if part_index < 9 else part_index + 1
@@ -92,13 +104,7 @@ def midi_bytes(voiced: Voiced, tempo: float, options: MidiOptions | None = None,
 
     for k, part in enumerate(voiced.section.parts):
         ch = channel_for(k) + 1   # music21's MidiEvent.channel is 1-based
-        evs: list[tuple[int, int, midi.MidiEvent]] = []
-        nm = midi.MidiEvent(None, type=midi.MetaEvents.SEQUENCE_TRACK_NAME)
-        nm.data = part.name.encode("utf-8")
-        evs.append((0, 0, nm))
-        pc = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.PROGRAM_CHANGE, channel=ch)
-        pc.data = part.instrument.program - 1
-        evs.append((0, 1, pc))
+        evs = track_head(part.name, ch, part.instrument.program)
         prev_end: dict[int, int] = {}
         for ve in voiced.events:
             n = ve.event.note

@@ -10,11 +10,11 @@ from __future__ import annotations
 from dataclasses import dataclass
 from fractions import Fraction
 
-from ..chords import Chord, parse_chord
 from ..notation import pieces
 from ..spelling import direction_of, m21_name, spell_pitch
 from ..voicing import Voiced
 from . import marks
+from .symbols import chord_symbol, m21_figure  # noqa: F401 - m21_figure is used by callers
 
 __all__ = ["ScoreInfo", "musicxml_bytes", "part_bytes", "m21_figure", "chord_symbol", "swing_ratio"]
 
@@ -35,58 +35,6 @@ class ScoreInfo:
     concert: bool = False                 # concert score instead of a transposed one
     only_part: int | None = None          # build the single part k (for --parts)
     version: str = ""
-
-
-_M21_CORE = {(0, 4, 7): "", (0, 3, 7): "m", (0, 3, 6): "dim", (0, 4, 8): "+", (0, 2, 7): "sus2",
-             (0, 5, 7): "sus4", (0, 4, 7, 9): "6", (0, 3, 7, 9): "m6", (0, 4, 7, 11): "maj7",
-             (0, 3, 7, 10): "m7", (0, 3, 7, 11): "mM7", (0, 4, 7, 10): "7", (0, 3, 6, 10): "ø7",
-             (0, 3, 6, 9): "o7", (0, 5, 7, 10): "7sus4", (0, 4, 8, 10): "+7", (0, 4, 8, 11): "+M7"}
-
-
-def m21_figure(chord: Chord | str) -> str:
-    """Our chord to a figure music21's ChordSymbol reads to the same tones: the core
-    (triad, sixth, seventh) as one of music21's kinds, every extension as ``add``
-    with its alteration (music21 rejects spellings such as ``Ebm9`` or ``Cmaj9``,
-    and reads ``C13`` with an 11), flats as ``-``."""
-    from ..spelling import m21_name
-
-    ch = parse_chord(chord) if isinstance(chord, str) else chord
-    core = tuple(sorted(ch.core))
-    five = ""
-    if core not in _M21_CORE:   # an altered fifth on a core music21 has no kind for
-        fifth = next(i for i, d in zip(ch.intervals, ch.degrees, strict=True) if d == 5)
-        core = tuple(sorted(7 if i == fifth else i for i in core))
-        five = {6: "b5", 8: "#5"}[fifth]
-    out = m21_name(ch.root_name) + _M21_CORE[core] + five
-    for iv, d in zip(ch.intervals, ch.degrees, strict=True):
-        if d >= 9:
-            diff = (iv - {9: 2, 11: 5, 13: 9}[d] + 6) % 12 - 6
-            out += "add" + ("b" * -diff if diff < 0 else "#" * diff) + str(d)
-    if ch.bass_name:
-        out += "/" + m21_name(ch.bass_name)
-    return out
-
-
-_SYMBOLS: dict[tuple[str, str], object] = {}
-
-
-def chord_symbol(chord: Chord):  # noqa: ANN201
-    """A music21 ChordSymbol for ``chord`` that prints our canonical symbol.
-
-    music21 works out a symbol's pitches through its scale networks (about
-    10 ms each), so one prototype per figure is built and copied."""
-    import copy
-
-    from music21 import harmony
-
-    key = (m21_figure(chord), chord.quality)
-    proto = _SYMBOLS.get(key)
-    if proto is None:
-        cs = harmony.ChordSymbol(key[0])
-        cs.chordKindStr = chord.quality
-        cs.writeAsChord = False
-        _SYMBOLS[key] = proto = cs
-    return copy.deepcopy(proto)
 
 
 def part_abbreviation(part) -> str:  # noqa: ANN001
@@ -250,12 +198,11 @@ def written_accidentals(p) -> None:  # noqa: ANN001
     from music21 import key, note, stream
 
     p.toWrittenPitch(inPlace=True)
-    order = "FCGDAEB"
     sharps = 0
     for m in p.getElementsByClass(stream.Measure):
         for ks in m.getElementsByClass(key.KeySignature):
             sharps = ks.sharps
-        sig = {x: 1 for x in order[:sharps]} if sharps >= 0 else {x: -1 for x in order[::-1][:-sharps]}
+        sig = signature_alters(sharps)
         shown: dict[tuple[str, int], int] = {}
         for nt in sorted(m.getElementsByClass(note.Note), key=lambda n: n.offset):
             step, octave = nt.pitch.step, nt.pitch.octave
@@ -280,21 +227,19 @@ def _show_accidental(nt, need: bool) -> None:  # noqa: ANN001
 def _accidental(nt, pc, shown: dict[tuple[int, str, int], int], k) -> None:  # noqa: ANN001
     """Print an accidental only where the key signature and the measure so far do
     not already give it (common practice of engraving); a tied-over note never."""
-    from music21 import pitch
-
-    order = "FCGDAEB"
-    sig = {x: 1 for x in order[:k.fifths]} if k.fifths >= 0 else {x: -1 for x in order[::-1][:-k.fifths]}
+    sig = signature_alters(k.fifths)
     step, octave = nt.pitch.step, nt.pitch.octave
     alter = int(nt.pitch.alter)
     slot = (pc.measure, step, octave)
     need = alter != shown.get(slot, sig.get(step, 0)) and not pc.tie_stop
     shown[slot] = alter
-    if nt.pitch.accidental is None:
-        if need:
-            nt.pitch.accidental = pitch.Accidental("natural")
-            nt.pitch.accidental.displayStatus = True
-        return
-    nt.pitch.accidental.displayStatus = need
+    _show_accidental(nt, need)
+
+
+def signature_alters(fifths: int) -> dict[str, int]:
+    """The alteration a key signature of ``fifths`` gives each letter (sharps F C G ...)."""
+    order = "FCGDAEB"
+    return {x: 1 for x in order[:fifths]} if fifths >= 0 else {x: -1 for x in order[::-1][:-fifths]}
 
 
 def _tie(kind: str):  # noqa: ANN202
