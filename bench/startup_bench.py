@@ -7,10 +7,11 @@ from __future__ import annotations
 
 import sys
 
-from _measure import machine, side_by_side
+from _measure import machine, precompile, side_by_side
 
 
 def main() -> dict[str, object]:
+    precompile()
     py = sys.executable
     res = side_by_side({
         "floor: import click": [py, "-c", "import click"],
