@@ -38,7 +38,7 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
     """Append the layers' parts to ``score`` (built by ``build_score``), below the
     lead section, and bracket each section.  Notes are spelled, key signatures
     changed and accidentals printed as in the lead section's parts."""
-    from music21 import dynamics, key, layout, meter, note, stream
+    from music21 import dynamics, key, layout, meter, stream
 
     from ..spelling import direction_of, m21_name, spell_pitch
     from .midi import channel_for
@@ -46,11 +46,10 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
         _accidental,
         _articulation,
         _clef,
-        _duration,
         _instrument,
         _offset,
-        _tie,
         finish_part,
+        piece_note,
     )
 
     if not layers:
@@ -105,14 +104,7 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
                                    voice[i + 1] if i + 1 < len(voice) else None)
                 name = m21_name(spell_pitch(here, h.key_at(int(n.onset // bar_len) + 1), n.chord, way))
                 for j, pc in enumerate(pieces(n.onset, n.duration, line.meter, pickup=line.pickup)):
-                    nt = note.Note(name)
-                    nt.duration = _duration(pc.duration)
-                    if pc.tie_start and pc.tie_stop:
-                        nt.tie = _tie("continue")
-                    elif pc.tie_start:
-                        nt.tie = _tie("start")
-                    elif pc.tie_stop:
-                        nt.tie = _tie("stop")
+                    nt = piece_note(name, pc)
                     if j == 0 and vl.layer.role == "hits":   # a hit is played accented
                         nt.articulations.append(_articulation("accent"))
                     if j == 0 and not entered:      # a dynamic at the entrance

@@ -142,14 +142,7 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
             bar_key = voiced.harmonized.key_at(int(n.onset // bar_len) + 1)
             name = m21_name(spell_pitch(ve.pitches[k], bar_key, ve.event.chord, way))
             for j, pc in enumerate(cut):
-                nt = note.Note(name)
-                nt.duration = _duration(pc.duration)
-                if pc.tie_start and pc.tie_stop:
-                    nt.tie = _tie("continue")
-                elif pc.tie_start:
-                    nt.tie = _tie("start")
-                elif pc.tie_stop:
-                    nt.tie = _tie("stop")
+                nt = piece_note(name, pc)
                 if j == 0 and n.articulation:
                     nt.articulations.append(_articulation(n.articulation))
                 if not respell:     # transposing parts in written pitch: music21 respells them
@@ -240,6 +233,21 @@ def signature_alters(fifths: int) -> dict[str, int]:
     """The alteration a key signature of ``fifths`` gives each letter (sharps F C G ...)."""
     order = "FCGDAEB"
     return {x: 1 for x in order[:fifths]} if fifths >= 0 else {x: -1 for x in order[::-1][:-fifths]}
+
+
+def piece_note(name: str, pc):  # noqa: ANN001, ANN201
+    """A music21 Note for one notation piece: its value and its tie to the next piece."""
+    from music21 import note
+
+    nt = note.Note(name)
+    nt.duration = _duration(pc.duration)
+    if pc.tie_start and pc.tie_stop:
+        nt.tie = _tie("continue")
+    elif pc.tie_start:
+        nt.tie = _tie("start")
+    elif pc.tie_stop:
+        nt.tie = _tie("stop")
+    return nt
 
 
 def _tie(kind: str):  # noqa: ANN202
