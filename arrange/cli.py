@@ -45,6 +45,13 @@ def guarded(fn: F) -> F:
             return fn(*args, **kwargs)
         except (click.exceptions.Exit, click.ClickException, click.Abort):
             raise
+        except BrokenPipeError:
+            # the reader went away (``arrange chain ... | head``): stop quietly
+            import os
+
+            devnull = os.open(os.devnull, os.O_WRONLY)
+            os.dup2(devnull, sys.stdout.fileno())
+            sys.exit(0)
         except Exception as err:  # noqa: BLE001 - the one place faults are turned into exits
             _fail(err)
     return wrapper  # type: ignore[return-value]

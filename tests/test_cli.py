@@ -152,3 +152,19 @@ def test_sections_lists_known_sections() -> None:
     r = run_cli("sections", "--json")
     data = json.loads(r.output)
     assert "trumpets-4" in data and "trombones-4" in data
+
+
+def test_a_closed_pipe_stops_quietly() -> None:
+    """`arrange chain ... | head -1`: when the reader closes the pipe the tool stops
+    without a traceback or an 'internal error' (common practice of command-line tools)."""
+    import subprocess
+    import sys
+
+    p = subprocess.Popen([sys.executable, "-m", "arrange", "chain", "C4 E4 D4 G4 F4 A4 B4 G4 E4 F4 D4 E4", "-k", "1000"],
+                         stdout=subprocess.PIPE, stderr=subprocess.PIPE)
+    assert p.stdout is not None and p.stderr is not None
+    p.stdout.close()                  # the reader is gone before the first write
+    err = p.stderr.read().decode()
+    p.wait(timeout=60)
+    assert "internal error" not in err and "Traceback" not in err
+    assert p.returncode == 0
