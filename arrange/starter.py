@@ -13,8 +13,8 @@ key = "Bb major"                 # tonic + mode (major, minor, dorian, mixolydia
 # style = "Medium Swing"         # the word over the metronome mark (default: from groove and tempo)
 
 [chain]
-motif = "D4 F4 Eb4 G4"           # pitch names or MIDI numbers, or "file:theme.musicxml"
-statements = 4
+motif = "F4 D5 A4 Bb4"           # pitch names or MIDI numbers, or "file:theme.musicxml"
+statements = 8
 overlap = 2                      # or a list, one per link: [2, 3, 2]
 # lead_range = ["C4", "G5"]      # concert pitch; default: the lead instrument's practical range
 
