@@ -22,7 +22,7 @@ overlap = 2                      # or a list, one per link: [2, 3, 2]
 groove = "straight"              # straight | swing | shuffle | latin
 # swing = 0.62                   # swing only: long share of a swung pair, 0.50..0.75
 # cell = "8 8 4 8 8 4"           # note values cycled over the line; "r8" rest, "4~8" tie, "8t" triplet
-# augment = [1, 1, 1.5, 2]       # duration factor per statement (or grow = 1.25)
+# augment = [1, 1, 1, 1, 1, 1, 1.5, 2]   # duration factor per statement (or grow = 1.25)
 # anticipate = true              # latin only: downbeat notes pushed an eighth early
 # pickup = "8"                   # an anacrusis before bar 1
 
