@@ -17,12 +17,9 @@ from ..layers import VoicedLayer
 from ..notation import pieces
 from ..pitch import pitch_name
 from ..voicing import Voiced
+from .report import bar_of_event, json_number
 
 __all__ = ["add_layer_parts", "layer_sounds", "layer_tracks", "layers_data", "layer_warnings", "layers_markdown"]
-
-
-def _num(q: Fraction) -> float | int:
-    return int(q) if q.denominator == 1 else float(q)
 
 
 def _bracket(score, parts) -> None:  # noqa: ANN001
@@ -123,26 +120,10 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
 def layer_sounds(data: bytes, voiced: Voiced, layers: tuple[VoicedLayer, ...]) -> bytes:
     """``<instrument-sound>`` (MusicXML 4.0 sound ids) for the layers' parts, which
     music21 leaves out, as ``xmlfinish`` does for the lead section's."""
-    import re
-    from xml.sax.saxutils import escape
+    from .xmlfinish import add_sounds
 
-    from .xmlfinish import _SCORE_INSTRUMENT
-
-    first = len(voiced.section.parts)
     extra = [p for vl in layers for p in vl.layer.section.parts]
-
-    def sound(m: re.Match[bytes]) -> bytes:
-        k = int(m.group(2)) - 1 - first
-        body = m.group(3)
-        if b"<instrument-sound>" in body or not 0 <= k < len(extra):
-            return m.group(0)
-        indent = re.search(rb"\n(\s*)<instrument-name>", body)
-        pad = indent.group(1) if indent else b""
-        tag = (b"\n" + pad + b"<instrument-sound>" + escape(extra[k].instrument.sound).encode()
-               + b"</instrument-sound>")
-        return m.group(1) + body + tag + m.group(4)
-
-    return _SCORE_INSTRUMENT.sub(sound, data)
+    return add_sounds(data, extra, first=len(voiced.section.parts))
 
 
 def layer_tracks(layers: tuple[VoicedLayer, ...], first_index: int, lead_in: Fraction,
@@ -189,7 +170,7 @@ def layers_data(layers: tuple[VoicedLayer, ...]) -> list[dict[str, Any]]:
                        "transposition": p.instrument.transposition,
                        "range": list(p.instrument.practical),
                        "extreme": list(p.instrument.extreme)} for p in la.section.parts],
-            "notes": [{"onset": _num(n.onset), "duration": _num(n.duration), "chord": n.chord.symbol,
+            "notes": [{"onset": json_number(n.onset), "duration": json_number(n.duration), "chord": n.chord.symbol,
                        "pitches": list(n.pitches), "why": n.why} for n in vl.notes],
         })
     return out
@@ -198,10 +179,7 @@ def layers_data(layers: tuple[VoicedLayer, ...]) -> list[dict[str, Any]]:
 def layer_warnings(layers: tuple[VoicedLayer, ...], events: list[dict[str, Any]]) -> list[dict[str, Any]]:
     """The layers' findings as report warnings (``events``: the report's, for the bar);
     ``other_part`` is the lead-section part of a clash."""
-    def bar_of(ev: int | None) -> Any:
-        return events[ev]["bar"] if ev is not None and 0 <= ev < len(events) else None
-
-    return [{"kind": f.kind, "event": f.event, "bar": bar_of(f.event), "part": f.part,
+    return [{"kind": f.kind, "event": f.event, "bar": bar_of_event(events, f.event), "part": f.part,
              "message": f.message, "severity": f.severity, "layer": vl.layer.index,
              "layer_note": f.note, "other_part": f.other_part} for vl in layers for f in vl.findings]
 
@@ -230,33 +208,34 @@ def layer_part_bytes(voiced: Voiced, info, layers: tuple[VoicedLayer, ...]) -> l
     """One printable MusicXML file per layer part, in written pitch, as ``--parts``
     writes the lead section's: the part alone, with the tempo, style word and
     rehearsal letters a player needs, and its own name on the first page."""
+    import copy
     from dataclasses import replace
 
-    from music21 import expressions, layout, stream, tempo, text
+    from music21 import expressions, stream, tempo
     from music21.musicxml.m21ToXml import GeneralObjectExporter
 
     from . import marks
     from .musicxml import build_score, finish_xml
 
     names = [p.name for vl in layers for p in vl.layer.section.parts]
+    one = replace(info, only_part=None, concert=False)
+    full = build_score(voiced, one)        # built once; each layer part is lifted out of it
+    add_layer_parts(full, voiced, layers, one)
+    parts = list(full.parts)
+    lead_first = parts[0].getElementsByClass(stream.Measure)[0]
+    heading = [el for el in lead_first.getElementsByClass((tempo.MetronomeMark, expressions.TextExpression))
+               if isinstance(el, tempo.MetronomeMark) or el.content == info.style]
     out = []
     for j, name in enumerate(names):
-        one = replace(info, only_part=None, concert=False)
-        score = build_score(voiced, one)
-        add_layer_parts(score, voiced, layers, one)
-        parts = list(score.parts)
-        lead, keep = parts[0], parts[len(voiced.section.parts) + j]
+        keep = parts[len(voiced.section.parts) + j]
         first = keep.getElementsByClass(stream.Measure)[0]
-        lead_first = lead.getElementsByClass(stream.Measure)[0]
-        for el in list(lead_first.getElementsByClass((tempo.MetronomeMark, expressions.TextExpression))):
-            if isinstance(el, tempo.MetronomeMark) or el.content == info.style:
-                first.insert(el.offset, el)
+        for el in heading:
+            first.insert(el.offset, copy.deepcopy(el))
         marks.add_rehearsal(list(keep.getElementsByClass(stream.Measure)), voiced)
-        for p in parts:
-            if p is not keep:
-                score.remove(p)
-        for el in list(score.getElementsByClass((layout.StaffGroup, text.TextBox))):
-            score.remove(el)
+        score = stream.Score(id="score")
+        score.atSoundingPitch = full.atSoundingPitch
+        score.metadata = full.metadata
+        score.insert(0, keep)
         marks.page_credits(score, info.title, False, name)
         exporter = GeneralObjectExporter(score)
         exporter.makeNotation = False

@@ -7,11 +7,17 @@ from typing import Any
 
 from ..voicing import Voiced
 
-__all__ = ["report_data", "report_json", "report_markdown"]
+__all__ = ["json_number", "bar_of_event", "report_data", "report_json", "report_markdown"]
 
 
-def _num(q: Fraction) -> float | int:
+def json_number(q: Fraction) -> float | int:
+    """A time in quarter notes as a JSON number: whole values as integers."""
     return int(q) if q.denominator == 1 else float(q)
+
+
+def bar_of_event(events: list[dict[str, Any]], ev: int | None) -> Any:
+    """The bar of report event ``ev`` (None for a finding about the whole passage)."""
+    return events[ev]["bar"] if ev is not None and 0 <= ev < len(events) else None
 
 
 def _statement_table(voiced: Voiced, dynamics: tuple[str, ...]) -> list[dict[str, Any]]:
@@ -61,9 +67,9 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
         n = ev.note
         events.append({
             "index": i, "statement": n.statement, "bar": int(n.onset // line.meter.bar) + 1,
-            "onset": _num(n.onset), "duration": _num(n.duration),
-            "beat": _num(n.onset % line.meter.bar * Fraction(line.meter.denominator, 4) + 1),
-            "performed_onset": _num(n.perf_onset), "performed_duration": _num(n.perf_duration),
+            "onset": json_number(n.onset), "duration": json_number(n.duration),
+            "beat": json_number(n.onset % line.meter.bar * Fraction(line.meter.denominator, 4) + 1),
+            "performed_onset": json_number(n.perf_onset), "performed_duration": json_number(n.perf_duration),
             "weight": n.weight, "articulation": n.articulation, "lead": n.pitch,
             "lead_name": spelled[i],
             "chord": ev.chord.symbol, "role": ev.role, "technique": ev.technique,
@@ -73,12 +79,9 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
             "anticipated": n.anticipated,
             "voicing": ve.voicing, "pitches": list(ve.pitches),
         })
-    def bar_of(ev: int | None) -> Any:
-        return events[ev]["bar"] if ev is not None and 0 <= ev < len(events) else None
-
-    warnings = [{"kind": f.kind, "event": f.event, "bar": bar_of(f.event), "part": f.part,
+    warnings = [{"kind": f.kind, "event": f.event, "bar": bar_of_event(events, f.event), "part": f.part,
                  "message": f.message, "severity": f.severity} for f in voiced.findings]
-    warnings += [{"kind": kind, "event": ev, "bar": bar_of(ev), "part": None, "message": msg,
+    warnings += [{"kind": kind, "event": ev, "bar": bar_of_event(events, ev), "part": None, "message": msg,
                   "severity": "warning"} for kind, ev, msg in h.warnings]
     return {
         "title": title, "key": str(h.key), "meter": str(line.meter), "tempo": tempo,
@@ -88,7 +91,7 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
         "statements": _statement_table(voiced, dynamics),
         "rhythm": _rhythm(line),
         "section": {"name": voiced.section.name, "parts": parts},
-        "framework": [{"bar": fc.bar, "onset": _num(fc.onset), "duration": _num(fc.duration),
+        "framework": [{"bar": fc.bar, "onset": json_number(fc.onset), "duration": json_number(fc.duration),
                        "chord": fc.chord.symbol} for fc in h.framework],
         "keys": [{"bar": b, "key": str(k)} for b, k in getattr(h, "keys", ())],
         "events": events,
@@ -99,9 +102,9 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
 def _rhythm(line: Any) -> dict[str, Any]:
     """Per statement its onset, duration and bar span (bar 0 is a pickup)."""
     return {"groove": line.groove, "swing": line.swing, "written_meter": str(line.meter),
-            "notate": line.notate, "pickup": _num(line.pickup), "bars": line.bars,
-            "statements": [{"index": s.index, "onset": _num(s.onset), "duration": _num(s.duration),
-                            "augment": _num(s.factor), "first_bar": s.first_bar,
+            "notate": line.notate, "pickup": json_number(line.pickup), "bars": line.bars,
+            "statements": [{"index": s.index, "onset": json_number(s.onset), "duration": json_number(s.duration),
+                            "augment": json_number(s.factor), "first_bar": s.first_bar,
                             "last_bar": s.last_bar} for s in line.spans]}
 
 

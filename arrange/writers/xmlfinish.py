@@ -13,16 +13,16 @@ import re
 from typing import Any
 from xml.sax.saxutils import escape
 
-__all__ = ["finish"]
+__all__ = ["finish", "add_sounds"]
 
 _SCORE_INSTRUMENT = re.compile(rb'(<score-instrument id="P(\d+)-I1">)(.*?)(\s*</score-instrument>)', re.S)
 
 
-def finish(data: bytes, voiced: Any, info: Any) -> bytes:
-    parts = voiced.section.parts
-
+def add_sounds(data: bytes, parts: Any, first: int = 0) -> bytes:
+    """``<instrument-sound>`` for the score-instruments of parts ``P{first+1}`` onwards,
+    ``parts`` in that order; a score-instrument that has one already is left alone."""
     def sound(m: re.Match[bytes]) -> bytes:
-        k = int(m.group(2)) - 1
+        k = int(m.group(2)) - 1 - first
         body = m.group(3)
         if b"<instrument-sound>" in body or not 0 <= k < len(parts):
             return m.group(0)
@@ -32,7 +32,11 @@ def finish(data: bytes, voiced: Any, info: Any) -> bytes:
             + b"</instrument-sound>"
         return m.group(1) + body + tag + m.group(4)
 
-    data = _SCORE_INSTRUMENT.sub(sound, data)
+    return _SCORE_INSTRUMENT.sub(sound, data)
+
+
+def finish(data: bytes, voiced: Any, info: Any) -> bytes:
+    data = add_sounds(data, voiced.section.parts)
     data = re.sub(rb'\s*<creator type="composer">Music21</creator>', b"", data)
     if info.version:
         data = re.sub(rb"(\n(\s*)<software>[^<]*</software>)",
