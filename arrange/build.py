@@ -7,7 +7,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from . import __version__
-from .chain import build_chain
+from .chain import build_chain, chain_length
 from .errors import ArrangeError, LimitError
 from .harmony import harmonize
 from .layers import VoicedLayer, build_layers
@@ -37,9 +37,7 @@ MAX_SCORE_NOTES = 40_000
 def check_size(project: Project) -> None:
     """Refuse, before any work starts, a passage too big to write in reasonable time."""
     c = project.chain
-    n = len(c.motif)
-    links = c.overlap if isinstance(c.overlap, tuple) else (c.overlap,) * (c.statements - 1)
-    notes = n + sum(max(n - o, 0) for o in links)
+    notes = chain_length(len(c.motif), c.statements, c.overlap)
     parts = len(project.section.parts) + sum(len(la.section.parts) for la in project.layers)
     if notes * parts > MAX_SCORE_NOTES:
         name = project.path.name if project.path else "project"

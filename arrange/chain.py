@@ -30,6 +30,7 @@ __all__ = [
     "Statement",
     "Chain",
     "build_chain",
+    "chain_length",
     "working_overlaps",
     "place_in_range",
     "MAX_STATEMENTS",
@@ -106,6 +107,13 @@ class Chain:
             "aggregate_at": self.aggregate_at,
             "lead_range": list(self.lead_range) if self.lead_range else None,
         }
+
+
+def chain_length(motif_length: int, statements: int, overlap: int | Sequence[int]) -> int:
+    """Notes in the merged line: the motif, then each link adds its statement minus the
+    shared notes, k(n-o)+o for one overlap (a link that shares too many adds none)."""
+    links = (overlap,) * max(statements - 1, 0) if isinstance(overlap, int) else tuple(overlap)
+    return motif_length + sum(max(motif_length - o, 0) for o in links)
 
 
 def _link_kind(tail: Sequence[int]) -> str | None:
@@ -194,7 +202,7 @@ def build_chain(
         spare = links[0] if links else 2
     _check_inputs(motif, statements, checked)
     n = len(motif)
-    total = n + sum(n - o for o in links)
+    total = chain_length(n, statements, links)
     if total > MAX_NOTES:
         raise LimitError(f"the chain would have {total} notes", where="statements",
                          accepted=f"a chain of at most {MAX_NOTES} notes")
