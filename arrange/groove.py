@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from fractions import Fraction
 
-__all__ = ["GROOVES", "DEFAULT_CELL", "DEFAULT_SWING", "ARTICULATIONS", "warp",
+__all__ = ["GROOVES", "GROOVE_ONLY", "DEFAULT_CELL", "DEFAULT_SWING", "ARTICULATIONS", "warp",
            "groove_articulation", "SHUFFLE"]
 
 GROOVES = ("straight", "swing", "shuffle", "latin")
@@ -26,6 +26,8 @@ DEFAULT_CELL = {
 }
 DEFAULT_COMPOUND_CELL = "4 8"
 ARTICULATIONS = ("groove", "none", "accent", "staccato", "tenuto")
+# [rhythm] keys that belong to one groove only (read_options refuses them under another)
+GROOVE_ONLY = {"swing": "swing", "anticipate": "latin", "notate": "shuffle"}
 
 
 def warp(t: Fraction, ratio: Fraction) -> Fraction:

@@ -20,6 +20,7 @@ from pathlib import Path
 from typing import Any
 
 from .errors import ArrangeError, ProjectError
+from .groove import GROOVE_ONLY
 from .pitch import pitch_name
 from .project import Project, load_project, project_from_data, slugify
 
@@ -104,12 +105,9 @@ def _set(data: dict[str, Any], vary: Vary, text: str) -> None:
         node = node.setdefault(seg, {})
 
 
-# keys of [rhythm] that belong to one groove only; a varied groove drops the others'
-# (the project's swing ratio means nothing to a latin variant)
-GROOVE_ONLY = {"swing": "swing", "anticipate": "latin", "notate": "shuffle"}
-
-
 def _drop_groove_options(rhythm: dict[str, Any], groove: object) -> None:
+    """A varied groove drops the [rhythm] keys of other grooves (the project's swing
+    ratio means nothing to a latin variant)."""
     for key, owner in GROOVE_ONLY.items():
         if key in rhythm and groove != owner:
             del rhythm[key]
