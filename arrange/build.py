@@ -153,10 +153,10 @@ def _style(project: Project) -> str:
     (common practice; the tempo bands are from memory)."""
     if project.style:
         return project.style
-    return style_word(project.rhythm.groove, project.tempo)
+    return default_style(project.rhythm.groove, project.tempo)
 
 
-def style_word(groove: str, tempo: float) -> str:
+def default_style(groove: str, tempo: float) -> str:
     bands = {
         "swing": ((90, "Swing Ballad"), (130, "Easy Swing"), (190, "Medium Swing"),
                   (400, "Up Tempo Swing")),

@@ -67,10 +67,6 @@ def data_dir() -> Path:
 
 def read_rules(name: str) -> dict[str, Any]:
     """One TOML file of ``voicing_rules/`` as a dict (no caching)."""
-    return _read(name)
-
-
-def _read(name: str) -> dict[str, Any]:
     path = data_dir() / name
     with path.open("rb") as fh:
         return tomllib.load(fh)
@@ -79,7 +75,7 @@ def _read(name: str) -> dict[str, Any]:
 @lru_cache(maxsize=1)
 def instruments() -> dict[str, Instrument]:
     out = {}
-    for key, d in _read("instruments.toml").items():
+    for key, d in read_rules("instruments.toml").items():
         where = f"voicing_rules/instruments.toml [{key}]"
         out[key] = Instrument(
             key=key, name=d["name"], abbreviation=d["abbreviation"],
@@ -142,7 +138,7 @@ def _parts(raw: object, where: str) -> tuple[Part, ...]:
 @lru_cache(maxsize=1)
 def sections() -> dict[str, Section]:
     out = {}
-    for key, d in _read("sections.toml").items():
+    for key, d in read_rules("sections.toml").items():
         where = f"voicing_rules/sections.toml [{key}]"
         out[key] = Section(key, d.get("description", ""), _parts(d["parts"], where))
     return out
