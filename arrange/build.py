@@ -90,7 +90,8 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
 
         info = ScoreInfo(project.title, project.tempo, _style(project), dynamics=out.dynamics,
                          analysis=out.analysis, concert=out.concert_score, version=__version__)
-        xml = musicxml_bytes(voiced, info, layers)
+    if info is not None and ("musicxml" in formats or "preview" in formats):
+        xml = musicxml_bytes(voiced, info, layers)   # the full score only when it is written or drawn
         if "musicxml" in formats:
             files[f"{slug}.musicxml"] = xml
         if "preview" in formats:
