@@ -3,6 +3,7 @@ the writers.  Stages return immutable values; only :func:`write_outputs`
 touches the disk (through :mod:`arrange.writers.files`)."""
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -15,7 +16,7 @@ from .project import Project
 from .rhythm import lay_rhythm
 from .voicing import Voiced, voice
 
-__all__ = ["run_pipeline", "run_layers", "render_outputs", "write_outputs", "BuildResult"]
+__all__ = ["run_pipeline", "run_layers", "render_outputs", "render_project", "write_outputs", "BuildResult"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -168,12 +169,27 @@ def default_style(groove: str, tempo: float) -> str:
     return next(word for top, word in bands if tempo < top or top == 400)
 
 
-def write_outputs(project: Project, out_dir: Path, formats: tuple[str, ...] | None = None,
-                  notes: list[str] | None = None) -> BuildResult:
-    from .writers.files import write_batch
-
+def render_project(project: Project, formats: tuple[str, ...] | None = None,
+                   notes: list[str] | None = None,
+                   progress: Callable[[str], None] | None = None,
+                   ) -> tuple[Voiced, tuple[VoicedLayer, ...], dict[str, bytes]]:
+    """Every stage, then every asked file as bytes; ``progress`` hears "voicing" and
+    "writing" as the work moves on."""
+    if progress is not None:
+        progress("voicing")
     voiced = run_pipeline(project)
     layers = run_layers(project, voiced)
+    if progress is not None:
+        progress("writing")
     files = render_outputs(project, voiced, formats or project.output.formats, notes, layers)
+    return voiced, layers, files
+
+
+def write_outputs(project: Project, out_dir: Path, formats: tuple[str, ...] | None = None,
+                  notes: list[str] | None = None,
+                  progress: Callable[[str], None] | None = None) -> BuildResult:
+    from .writers.files import write_batch
+
+    voiced, layers, files = render_project(project, formats, notes, progress)
     paths = write_batch(out_dir, files)
     return BuildResult(voiced, tuple(paths), layers)

@@ -198,23 +198,22 @@ def _with_flags(proj: Any, parts: bool | None, analysis: bool | None, audio: boo
 
 def _build_one(proj: Any, out_dir: Path, fmts: tuple[str, ...] | None, *, label: str) -> None:
     """Run the pipeline and the writers, saying on stderr what is being done."""
-    from .build import render_outputs, run_layers, run_pipeline
-    from .writers.files import write_batch
+    from .build import write_outputs
 
     err = sys.stderr.isatty()
-    click.echo(f"{label}: voicing ...", err=True, nl=not err)
-    voiced = run_pipeline(proj)
-    click.echo(("\r" if err else "") + f"{label}: writing ...", err=True, nl=not err)
+
+    def say(stage: str) -> None:
+        back = "\r" if err and stage != "voicing" else ""
+        click.echo(f"{back}{label}: {stage} ...", err=True, nl=not err)
+
     notes: list[str] = []
-    layers = run_layers(proj, voiced)
-    files = render_outputs(proj, voiced, fmts or proj.output.formats, notes, layers)
-    paths = write_batch(out_dir, files)
-    click.echo(("\r" if err else "") + f"{label}: {len(paths)} files" + " " * 8, err=True)
-    for p in paths:
+    result = write_outputs(proj, out_dir, fmts, notes, progress=say)
+    click.echo(("\r" if err else "") + f"{label}: {len(result.files)} files" + " " * 8, err=True)
+    for p in result.files:
         click.echo(str(p))
     for note in notes:
         click.echo(f"arrange: {note}", err=True)
-    n = len(voiced.findings) + len(voiced.harmonized.warnings) + sum(len(v.findings) for v in layers)
+    n = result.warnings
     if n:
         click.echo(f"{label}: {n} warning{'s' if n != 1 else ''}: see the report", err=True)
 

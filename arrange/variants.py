@@ -164,7 +164,7 @@ def build_variants(project_path: Path, specs: tuple[str, ...], out_dir: Path,
                    formats: tuple[str, ...] | None = None,
                    adjust: Callable[[Project], Project] | None = None) -> list[Path]:
     """Build every combination into ``out_dir/<folder>/`` and write ``variants.md``."""
-    from .build import render_outputs, run_layers, run_pipeline
+    from .build import render_project
     from .writers.files import write_batch
 
     varies = [parse_vary(s) for s in specs]
@@ -177,10 +177,7 @@ def build_variants(project_path: Path, specs: tuple[str, ...], out_dir: Path,
     rendered = []
     for var in variants:                       # everything in memory before a file is written
         try:
-            voiced = run_pipeline(var.project)
-            layers = run_layers(var.project, voiced)
-            fmts = formats or var.project.output.formats
-            files = render_outputs(var.project, voiced, fmts, layers=layers)
+            voiced, layers, files = render_project(var.project, formats)
         except ArrangeError as err:
             raise type(err)(err.what, where=f"--vary {var.name}: {err.where or ''}".rstrip(": "),
                             accepted=err.accepted) from None
