@@ -35,17 +35,16 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
     """Append the layers' parts to ``score`` (built by ``build_score``), below the
     lead section, and bracket each section.  Notes are spelled, key signatures
     changed and accidentals printed as in the lead section's parts."""
-    from music21 import dynamics, key, layout, meter, stream
+    from music21 import dynamics, instrument, layout
 
     from ..spelling import direction_of, m21_name, spell_pitch
     from .midi import channel_for
     from .musicxml import (
         _accidental,
         _articulation,
-        _clef,
-        _instrument,
         _offset,
         finish_part,
+        part_skeleton,
         piece_note,
     )
 
@@ -55,7 +54,6 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
     h = voiced.harmonized
     line = h.line
     bar_len = line.meter.bar
-    n_measures = line.measures
     shift = 1 if line.pickup else 0
     lead_parts = list(score.parts)
     grouped = {id(p) for g in score.getElementsByClass(layout.StaffGroup) for p in g.getSpannedElements()}
@@ -65,27 +63,9 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
     for vl in layers:
         new_parts = []
         for k, part in enumerate(vl.layer.section.parts):
-            p = stream.Part(id=f"P{index + 1}")
-            p.atSoundingPitch = True
-            p.partName = part.name
-            p.partAbbreviation = part.abbreviation
-            measures = []
-            for m_i in range(n_measures):
-                m = stream.Measure(number=m_i + 1 - shift)
-                if shift and m_i == 0:
-                    m.showNumber = stream.enums.ShowNumber.NEVER
-                    m.paddingLeft = float(bar_len - line.pickup)
-                if m_i == 0:
-                    inst = _instrument(part, index, concert)
-                    inst.midiChannel = channel_for(index)
-                    m.insert(0, inst)
-                    m.insert(0, _clef(part.instrument.clef))
-                    m.insert(0, key.Key(m21_name(h.key.tonic_name), h.key.signature_mode))
-                    m.insert(0, meter.TimeSignature(str(line.meter)))
-                elif h.key_at(m_i + 1 - shift) != h.key_at(m_i - shift):
-                    kc = h.key_at(m_i + 1 - shift)      # a key change by bar, as the lead's
-                    m.insert(0, key.Key(m21_name(kc.tonic_name), kc.signature_mode))
-                measures.append(m)
+            p, measures = part_skeleton(part, index, part.abbreviation, h, concert)
+            for inst in measures[0].getElementsByClass(instrument.Instrument):
+                inst.midiChannel = channel_for(index)
             shown: dict[tuple[int, str, int], int] = {}
             respell = bool(part.instrument.transposition) and not concert
             voice = [n.pitches[k] for n in vl.notes]

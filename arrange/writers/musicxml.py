@@ -78,7 +78,6 @@ def _clef(name: str):  # noqa: ANN202
 
 def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
     from music21 import (
-        key,
         metadata,
         meter,  # noqa: F401
         note,
@@ -88,9 +87,7 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
 
     line = voiced.harmonized.line
     bar_len = line.meter.bar
-    n_measures = line.measures
     shift = 1 if line.pickup else 0
-    hkey = voiced.harmonized.key
     score = stream.Score(id="score")
     score.atSoundingPitch = True
     score.metadata = metadata.Metadata()
@@ -100,31 +97,13 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
         if info.only_part is not None and k != info.only_part:
             continue
         lead = k == (info.only_part or 0)     # this staff carries tempo, marks and symbols
-        p = stream.Part(id=f"P{k + 1}")
-        p.atSoundingPitch = True
-        p.partName = part.name
-        p.partAbbreviation = part_abbreviation(part)
-        measures = []
-        for m_i in range(n_measures):
-            m = stream.Measure(number=m_i + 1 - shift)
-            if shift and m_i == 0:          # the pickup: measure 0, implicit (MusicXML 4.0)
-                m.showNumber = stream.enums.ShowNumber.NEVER
-                m.paddingLeft = float(bar_len - line.pickup)
-            if m_i == 0:
-                m.insert(0, _instrument(part, k, info.concert))
-                m.insert(0, _clef(part.instrument.clef))
-                m.insert(0, key.Key(m21_name(hkey.tonic_name), hkey.signature_mode))
-                m.insert(0, meter.TimeSignature(str(line.meter)))
-                if lead:
-                    beat = note.Note(type="quarter")
-                    if line.tempo_scale != 1:      # a shuffle written in 12/8: the dotted quarter
-                        beat.duration.dots = 1
-                    m.insert(0, marks.style_word(info.style))
-                    m.insert(0, tempo.MetronomeMark(number=info.tempo, referent=beat))
-            elif voiced.harmonized.key_at(m_i + 1 - shift) != voiced.harmonized.key_at(m_i - shift):
-                kc = voiced.harmonized.key_at(m_i + 1 - shift)   # a key change by bar
-                m.insert(0, key.Key(m21_name(kc.tonic_name), kc.signature_mode))
-            measures.append(m)
+        p, measures = part_skeleton(part, k, part_abbreviation(part), voiced.harmonized, info.concert)
+        if lead:
+            beat = note.Note(type="quarter")
+            if line.tempo_scale != 1:      # a shuffle written in 12/8: the dotted quarter
+                beat.duration.dots = 1
+            measures[0].insert(0, marks.style_word(info.style))
+            measures[0].insert(0, tempo.MetronomeMark(number=info.tempo, referent=beat))
         prev_chord = None
         part_pitches = [ve.pitches[k] for ve in voiced.events]
         shown: dict[tuple[int, str, int], int] = {}     # accidentals in force per measure
@@ -163,6 +142,36 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
     else:
         marks.page_credits(score, info.title, info.concert, voiced.section.parts[info.only_part].name)
     return score
+
+
+def part_skeleton(part, index: int, abbreviation: str, harmonized, concert: bool):  # noqa: ANN001, ANN201
+    """An empty part ``P{index+1}`` and its measures: the pickup as an implicit measure 0
+    (MusicXML 4.0), instrument, clef, key and time in the first, a key signature
+    wherever the key changes by bar."""
+    from music21 import key, meter, stream
+
+    line = harmonized.line
+    shift = 1 if line.pickup else 0
+    p = stream.Part(id=f"P{index + 1}")
+    p.atSoundingPitch = True
+    p.partName = part.name
+    p.partAbbreviation = abbreviation
+    measures = []
+    for m_i in range(line.measures):
+        m = stream.Measure(number=m_i + 1 - shift)
+        if shift and m_i == 0:          # the pickup: measure 0, implicit (MusicXML 4.0)
+            m.showNumber = stream.enums.ShowNumber.NEVER
+            m.paddingLeft = float(line.meter.bar - line.pickup)
+        if m_i == 0:
+            m.insert(0, _instrument(part, index, concert))
+            m.insert(0, _clef(part.instrument.clef))
+            m.insert(0, key.Key(m21_name(harmonized.key.tonic_name), harmonized.key.signature_mode))
+            m.insert(0, meter.TimeSignature(str(line.meter)))
+        elif harmonized.key_at(m_i + 1 - shift) != harmonized.key_at(m_i - shift):
+            kc = harmonized.key_at(m_i + 1 - shift)   # a key change by bar
+            m.insert(0, key.Key(m21_name(kc.tonic_name), kc.signature_mode))
+        measures.append(m)
+    return p, measures
 
 
 def finish_part(p, measures: list, line, shift: int, written: bool) -> None:  # noqa: ANN001
