@@ -186,10 +186,12 @@ class Built:
     keys: list[str]                 # the keys the project names
     chords: list[tuple[float, Any]] = field(default_factory=list)   # (offset, ChordSymbol), concert
     files: list[tuple[str, int, Any, Any]] = field(default_factory=list)  # part files: name, part, written, sounding
-    flips: dict[tuple[int, int], int] = field(default_factory=dict)      # (part, bar) -> flip
 
-    def flip(self, k: int, bar: int) -> int:
-        return self.flips.get((k, bar), 0)
+    def group(self, k: int) -> int:
+        """Parts that read one written key: in a concert score all; in a transposed score
+        those of one transposition (modulo octaves).  Only parts of one group are compared
+        note for note (a part in the enharmonic key sounds, say, Gb where the rest read F#)."""
+        return 0 if self.concert else int(INSTRUMENTS[self.parts[k].instrument]["transposition"]) % 12
 
 
 def _score_parts(report: dict[str, Any]) -> list[Part]:
@@ -229,9 +231,6 @@ def built(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Built]:
         for k, f in enumerate(b.part_files):
             w = converter.parse(str(f))
             b.files.append((f.name, k, w, w.toSoundingPitch(inPlace=False)))
-        for k, p in enumerate(score.parts):
-            for bar in range(0, report["bars"] + 2):
-                b.flips[(k, bar)] = _flip(b, k, p, bar)
         out[name] = b
     return out
 
@@ -251,13 +250,6 @@ def _interval(instrument: str):  # noqa: ANN202
     from music21 import interval
 
     return interval.Interval(M21_INTERVAL[INSTRUMENTS[instrument]["interval"]])
-
-
-def _interval_fifths(instrument: str) -> int:
-    """Sharps a C major key gains when moved by the instrument's interval (music21)."""
-    from music21 import key
-
-    return int(key.Key("C").transpose(_interval(instrument)).sharps)
 
 
 def expected_sharps(concert: str, instrument: str, concert_score: bool) -> int:
@@ -304,20 +296,6 @@ def _notes(part) -> list[Any]:  # noqa: ANN001
     if hit is None or hit[0] is not part:
         hit = _NOTES[id(part)] = (part, [n for n in part.flatten().notes if isinstance(n, note.Note)])
     return hit[1]
-
-
-def _flip(b: Built, k: int, written_part, bar: int) -> int:  # noqa: ANN001
-    """How many times 12 fifths the written key of part ``k`` lies off the key the
-    interval alone gives (0: spelled as the concert spelling moved by the interval)."""
-    if b.concert:
-        return 0
-    sigs = _signatures(written_part)
-    keys = _concert_key_by_bar(b)
-    concert = keys[max(x for x in keys if x <= max(bar, 1))]
-    inst = b.parts[k].instrument
-    sharps = next((sigs[m] for m in sorted(sigs, reverse=True) if m <= bar), 0)
-    natural = int(_m21_key(concert).sharps) + _interval_fifths(inst)
-    return round((sharps - natural) / 12)
 
 
 def _bar_of(b: Built, offset: float) -> int:
@@ -434,15 +412,15 @@ def test_no_double_accidental_but_a_diminished_sevenths(built: dict[str, Built])
 
 
 def test_one_spelling_per_pitch_class_at_one_moment(built: dict[str, Built]) -> None:
-    """Across every part of the score, layers included (at sounding pitch; a part whose
-    key is the enharmonic one is compared with the parts that share that key)."""
+    """Across every part of the score, layers included, at sounding pitch; in a transposed
+    score among the parts that read one written key (``Built.group``)."""
     bad = []
     for b in built.values():
         for t, notes in _moments(b).items():
             bar = _bar_of(b, t)
             seen: dict[tuple[int, int], tuple[str, int]] = {}
             for k, n in notes:
-                slot = (b.flip(k, bar), n.pitch.pitchClass)
+                slot = (b.group(k), n.pitch.pitchClass)
                 if slot in seen and seen[slot][0] != n.pitch.name:
                     other = seen[slot]
                     bad.append(f"{b.name} bar {bar}: {n.pitch.name} in {b.parts[k].name} against "
@@ -463,7 +441,7 @@ def test_chord_tones_are_spelled_by_degree_over_the_root(built: dict[str, Built]
             for n in _notes(p):
                 t = float(n.offset)
                 cs = _chord_at(b, t)
-                if cs is None or b.flip(k, _bar_of(b, t)) != 0:
+                if cs is None or b.group(k) != 0:
                     continue
                 names = {x.pitchClass: x.name for x in cs.pitches}
                 if n.pitch.pitchClass not in names or _is_dim7_seventh(cs, n.pitch):
@@ -523,8 +501,7 @@ def test_the_report_spells_as_the_score_does(built: dict[str, Built]) -> None:
         n_lead = len(b.report["section"]["parts"])
         per_part = {}
         for k in range(len(b.parts)):
-            flips = {b.flip(k, bar) for bar in range(1, b.report["bars"] + 1)}
-            if flips == {0}:
+            if b.group(k) == 0:
                 per_part[k] = _concert_names(b, k)
         events = b.report["events"]
         for i, e in enumerate(events):
