@@ -21,7 +21,8 @@ from arrange.theory.chords import Chord, chord_scale_for, parse_chord
 from arrange.theory.scales import CHORD_SCALES, MODES, tensions_in_scale
 
 __all__ = ["Key", "parse_key", "parse_key_change", "MODES", "CHORD_SCALES", "chord_scale_for",
-           "chord_scale_in_key", "tensions_in_scale", "LETTERS"]
+           "chord_scale_in_key", "tensions_in_scale", "LETTERS", "fifths_of", "name_at", "interval_steps",
+           "enharmonic", "signature_key", "written_key", "MAX_WRITTEN", "MAX_NAMED"]
 
 LETTERS = "CDEFGAB"
 _PC = {"C": 0, "D": 2, "E": 4, "F": 5, "G": 7, "A": 9, "B": 11}
@@ -94,6 +95,66 @@ _MODE_WORDS = sorted(list(MODES) + list(_ALIASES), key=len, reverse=True)
 _KEY_RE = re.compile(r"\s*([A-Ga-g])(bb|b|##|#|♭|♯)?\s*(" + "|".join(_MODE_WORDS) + r")?\s*$",
                      re.IGNORECASE)
 _FROM_RE = re.compile(r"^(.*?)\s+from\s+bar\s+(\S+)\s*$", re.IGNORECASE)
+
+
+# The key-signature rule (circle of fifths, common notation practice): a signature never
+# carries more than 7 accidentals; a transposed part whose key lands past 6 takes the
+# enharmonic key with fewer (concert F# major: trumpet Ab major, alto Eb major); a concert
+# key past 6 is written enharmonically too unless the project names it (C# major stays).
+MAX_WRITTEN = 6
+MAX_NAMED = 7
+_FIFTHS_ORDER = "FCGDAEB"
+
+
+def fifths_of(name: str) -> int:
+    """A note name's place on the line of fifths (C 0, G 1, F -1, F# 6, Bb -2, C## 14)."""
+    return _FIFTHS_ORDER.index(name[0]) - 1 + 7 * (name.count("#") - name.count("b"))
+
+
+def name_at(fifths: int) -> str:
+    """The note name at a place on the line of fifths (the inverse of :func:`fifths_of`)."""
+    acc = (fifths + 1) // 7
+    return _FIFTHS_ORDER[(fifths + 1) % 7] + ("#" * acc if acc > 0 else "b" * -acc)
+
+
+def interval_steps(semitones: int) -> int:
+    """Letter steps of the usual interval of ``semitones`` (major, minor or perfect; the
+    tritone an augmented fourth): 2 -> 1 (major second), 9 -> 5 (major sixth), 14 -> 8."""
+    sign = -1 if semitones < 0 else 1
+    octaves, rest = divmod(abs(semitones), 12)
+    return sign * (7 * octaves + (0, 1, 1, 2, 2, 3, 3, 4, 5, 5, 6, 6)[rest])
+
+
+def enharmonic(key: Key) -> Key:
+    """The same key on the other spelling of its tonic, 12 fifths toward fewer
+    accidentals (F# major -> Gb major, G# major -> Ab major, Cb major -> B major)."""
+    step = -12 if key.fifths > 0 else 12
+    return Key(key.tonic, name_at(fifths_of(key.tonic_name) + step), key.mode)
+
+
+def signature_key(key: Key, limit: int = MAX_WRITTEN) -> Key:
+    """``key``, or its enharmonic while its signature has more than ``limit`` accidentals."""
+    while abs(key.fifths) > limit:
+        key = enharmonic(key)
+    return key
+
+
+def written_key(concert: Key, semitones: int = 0, *, named: bool = True) -> Key:
+    """The key signature a part reads, from the concert key and the part's transposition
+    (``semitones`` written minus sounding: 2 for a B-flat trumpet, 9 for an alto saxophone).
+
+    The one key-signature rule: the concert key moved by the usual interval of the
+    transposition; past 6 accidentals the enharmonic key with fewer (never past 7).  A
+    part that sounds as written (or by octaves) keeps a concert key of 7 the project names
+    (``named``), and takes the enharmonic one past that."""
+    if semitones % 12 == 0:
+        return signature_key(concert, MAX_NAMED if named else MAX_WRITTEN)
+    steps = interval_steps(semitones)
+    letter = LETTERS[(LETTERS.index(concert.tonic_name[0]) + steps) % 7]
+    pc = (concert.tonic + semitones) % 12
+    diff = (pc - _PC[letter] + 6) % 12 - 6
+    moved = Key(pc, letter + ("#" * diff if diff > 0 else "b" * -diff), concert.mode)
+    return signature_key(moved, MAX_WRITTEN)
 
 
 def _accepted() -> str:

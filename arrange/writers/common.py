@@ -4,7 +4,7 @@ from __future__ import annotations
 from fractions import Fraction
 from typing import Any
 
-__all__ = ["json_number", "bar_of_event", "channel_for"]
+__all__ = ["json_number", "bar_of_event", "channel_for", "spelled_parts"]
 
 
 def json_number(q: Fraction) -> float | int:
@@ -21,3 +21,58 @@ def channel_for(part_index: int) -> int:
     """0-based MIDI channel of a part, skipping the percussion channel (9)."""
     ch = part_index if part_index < 9 else part_index + 1
     return ch % 16
+
+
+_SPELLED: dict[tuple[int, int], tuple[Any, Any, Any]] = {}
+
+
+def spelled_parts(voiced: Any, layers: tuple[Any, ...] = ()) -> tuple[tuple[tuple[str, ...], ...],
+                                                                      tuple[tuple[tuple[str | None, ...], ...], ...]]:
+    """Concert names of every note the score writes: per lead-section part one per event,
+    per layer part one per layer note (None where it rests).  Each is spelled by its key,
+    chord and direction (``theory.spelling.spell_pitch``), then all are made to agree, one
+    spelling per pitch class at one moment (``theory.written.agree``; the lead section
+    first, so its names never depend on the layers).  Every writer (score, parts, report)
+    reads its names here; a part's written name is ``theory.written.written_name`` of these."""
+    from arrange.theory.spelling import direction_of, spell_pitch
+    from arrange.theory.written import agree
+
+    hit = _SPELLED.get((id(voiced), id(layers)))
+    if hit is not None and hit[0] is voiced and hit[1] is layers:
+        return hit[2]  # type: ignore[no-any-return]
+    h = voiced.harmonized
+    bar_len = h.line.meter.bar
+    notes: list[tuple[Fraction, Fraction, int, str]] = []
+    for k in range(len(voiced.section.parts)):
+        voice = [ve.pitches[k] for ve in voiced.events]
+        for i, ve in enumerate(voiced.events):
+            n = ve.event.note
+            way = direction_of(voice[i - 1] if i else None, voice[i], voice[i + 1] if i + 1 < len(voice) else None)
+            name = spell_pitch(voice[i], h.key_at(int(n.onset // bar_len) + 1), ve.event.chord, way)
+            notes.append((n.onset, n.onset + n.duration, voice[i], name))
+    slots: list[tuple[int, int, int]] = []
+    for li, vl in enumerate(layers):
+        for k in range(len(vl.layer.section.parts)):
+            lvoice = [n.pitches[k] for n in vl.notes]
+            for i, n in enumerate(vl.notes):
+                here = lvoice[i]
+                if here is None:
+                    continue
+                way = direction_of(lvoice[i - 1] if i else None, here,
+                                   lvoice[i + 1] if i + 1 < len(lvoice) else None)
+                name = spell_pitch(here, h.key_at(int(n.onset // bar_len) + 1), n.chord, way)
+                notes.append((n.onset, n.onset + n.duration, here, name))
+                slots.append((li, k, i))
+    names = agree(notes)
+    n_ev = len(voiced.events)
+    lead = tuple(tuple(names[k * n_ev:(k + 1) * n_ev]) for k in range(len(voiced.section.parts)))
+    rest = names[len(voiced.section.parts) * n_ev:]
+    grid: list[list[list[str | None]]] = [[[None] * len(vl.notes) for _ in vl.layer.section.parts]
+                                          for vl in layers]
+    for (li, k, i), name in zip(slots, rest, strict=True):
+        grid[li][k][i] = name
+    out = (lead, tuple(tuple(tuple(p) for p in g) for g in grid))
+    if len(_SPELLED) > 8:
+        _SPELLED.clear()
+    _SPELLED[(id(voiced), id(layers))] = (voiced, layers, out)
+    return out

@@ -30,13 +30,14 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
     changed and accidentals printed as in the lead section's parts."""
     from music21 import dynamics, instrument, layout
 
-    from arrange.theory.spelling import direction_of, m21_name, spell_pitch
-    from arrange.writers.common import channel_for
+    from arrange.theory.keys import written_key
+    from arrange.writers.common import channel_for, spelled_parts
     from arrange.writers.xml_score import (
         _accidental,
         _articulation,
         _offset,
         finish_part,
+        music21_name,
         part_skeleton,
         piece_note,
     )
@@ -53,7 +54,8 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
     if lead_parts and not any(id(p) in grouped for p in lead_parts):
         _bracket(score, lead_parts)
     index = len(lead_parts)
-    for vl in layers:
+    spelled = spelled_parts(voiced, layers)[1]
+    for li, vl in enumerate(layers):
         new_parts = []
         for k, part in enumerate(vl.layer.section.parts):
             p, measures = part_skeleton(part, index, part.abbreviation, h, concert)
@@ -61,6 +63,7 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
                 inst.midiChannel = channel_for(index)
             shown: dict[tuple[int, str, int], int] = {}
             respell = bool(part.instrument.transposition) and not concert
+            moved = 0 if concert else part.instrument.transposition
             voice = [n.pitches[k] for n in vl.notes]
             entered = False
             for i, n in enumerate(vl.notes):
@@ -70,9 +73,9 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
                     continue
                 if i and vl.notes[i - 1].onset + vl.notes[i - 1].duration < n.onset:
                     entered = False          # a rest of the rhythm: the dynamic again at the re-entrance
-                way = direction_of(voice[i - 1] if i else None, here,
-                                   voice[i + 1] if i + 1 < len(voice) else None)
-                name = m21_name(spell_pitch(here, h.key_at(int(n.onset // bar_len) + 1), n.chord, way))
+                concert_name = spelled[li][k][i]
+                assert concert_name is not None
+                name = music21_name(concert_name, moved, h.key_at(int(n.onset // bar_len) + 1), n.chord)
                 for j, pc in enumerate(pieces(n.onset, n.duration, line.meter, pickup=line.pickup)):
                     nt = piece_note(name, pc)
                     if j == 0 and vl.layer.role == "hits":   # a hit is played accented
@@ -81,7 +84,7 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
                         measures[pc.measure].insert(_offset(pc.offset), dynamics.Dynamic(vl.layer.dynamics))
                         entered = True
                     if not respell:
-                        _accidental(nt, pc, shown, h.key_at(pc.measure + 1 - shift))
+                        _accidental(nt, pc, shown, written_key(h.key_at(pc.measure + 1 - shift)))
                     measures[pc.measure].insert(_offset(pc.offset), nt)
             finish_part(p, measures, line, shift, respell)
             score.insert(0, p)

@@ -11,9 +11,12 @@ from dataclasses import dataclass
 from fractions import Fraction
 
 from arrange.rhythm.notation import pieces
-from arrange.theory.spelling import direction_of, m21_name, spell_pitch
+from arrange.theory.keys import written_key
+from arrange.theory.spelling import m21_name
+from arrange.theory.written import sounding_side, split_name, written_name
 from arrange.voicing.voicer import Voiced
 from arrange.writers import marks
+from arrange.writers.common import spelled_parts
 from arrange.writers.symbols import chord_symbol, m21_figure  # noqa: F401 - m21_figure is used by callers
 
 __all__ = ["ScoreInfo", "build_score", "finish_xml", "m21_figure", "chord_symbol", "swing_ratio"]
@@ -105,9 +108,10 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
             measures[0].insert(0, marks.style_word(info.style))
             measures[0].insert(0, tempo.MetronomeMark(number=info.tempo, referent=beat))
         prev_chord = None
-        part_pitches = [ve.pitches[k] for ve in voiced.events]
+        names = spelled_parts(voiced)[0][k]
         shown: dict[tuple[int, str, int], int] = {}     # accidentals in force per measure
         respell = bool(part.instrument.transposition) and not info.concert
+        moved = 0 if info.concert else part.instrument.transposition
         for i, ve in enumerate(voiced.events):
             n = ve.event.note
             cut = pieces(n.onset, n.duration, line.meter, pickup=line.pickup)
@@ -116,16 +120,14 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
                 if ve.event.chord.symbol != prev_chord:
                     measures[m_i].insert(_offset(off), chord_symbol(ve.event.chord))
                     prev_chord = ve.event.chord.symbol
-            way = direction_of(part_pitches[i - 1] if i else None, ve.pitches[k],
-                               part_pitches[i + 1] if i + 1 < len(part_pitches) else None)
             bar_key = voiced.harmonized.key_at(int(n.onset // bar_len) + 1)
-            name = m21_name(spell_pitch(ve.pitches[k], bar_key, ve.event.chord, way))
+            name = music21_name(names[i], moved, bar_key, ve.event.chord)
             for j, pc in enumerate(cut):
                 nt = piece_note(name, pc)
                 if j == 0 and n.articulation:
                     nt.articulations.append(_articulation(n.articulation))
                 if not respell:     # transposing parts in written pitch: music21 respells them
-                    _accidental(nt, pc, shown, voiced.harmonized.key_at(pc.measure + 1 - shift))
+                    _accidental(nt, pc, shown, written_key(voiced.harmonized.key_at(pc.measure + 1 - shift)))
                 measures[pc.measure].insert(_offset(pc.offset), nt)
         marks.add_dynamics(measures, voiced, info.dynamics)
         if lead:
@@ -144,12 +146,31 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
     return score
 
 
+def music21_name(concert_name: str, moved: int, key, chord) -> str:  # noqa: ANN001
+    """The name music21 is given for a note: the part's written name
+    (``theory.written.written_name``) moved back by its interval, so that music21's own
+    ``toWrittenPitch`` lands on it exactly."""
+    return m21_name(sounding_side(written_name(concert_name, moved, key, chord), moved))
+
+
+def _signature(k, moved: int):  # noqa: ANN001, ANN202
+    """The music21 key object for concert key ``k`` in a part moved by ``moved`` semitones:
+    the written key (``theory.keys.written_key``, the one key-signature rule) moved back,
+    so that music21's ``toWrittenPitch`` writes exactly that key."""
+    from music21 import key
+
+    wk = written_key(k, moved)
+    tonic = split_name(sounding_side(f"{wk.tonic_name}4", moved))[0]
+    return key.Key(m21_name(tonic), wk.signature_mode)
+
+
 def part_skeleton(part, index: int, abbreviation: str, harmonized, concert: bool):  # noqa: ANN001, ANN201
     """An empty part ``P{index+1}`` and its measures: the pickup as an implicit measure 0
     (MusicXML 4.0), instrument, clef, key and time in the first, a key signature
     wherever the key changes by bar."""
-    from music21 import key, meter, stream
+    from music21 import meter, stream
 
+    moved = 0 if concert else part.instrument.transposition
     line = harmonized.line
     shift = 1 if line.pickup else 0
     p = stream.Part(id=f"P{index + 1}")
@@ -165,11 +186,11 @@ def part_skeleton(part, index: int, abbreviation: str, harmonized, concert: bool
         if m_i == 0:
             m.insert(0, _instrument(part, index, concert))
             m.insert(0, _clef(part.instrument.clef))
-            m.insert(0, key.Key(m21_name(harmonized.key.tonic_name), harmonized.key.signature_mode))
+            m.insert(0, _signature(harmonized.key, moved))
             m.insert(0, meter.TimeSignature(str(line.meter)))
         elif harmonized.key_at(m_i + 1 - shift) != harmonized.key_at(m_i - shift):
             kc = harmonized.key_at(m_i + 1 - shift)   # a key change by bar
-            m.insert(0, key.Key(m21_name(kc.tonic_name), kc.signature_mode))
+            m.insert(0, _signature(kc, moved))
         measures.append(m)
     return p, measures
 
