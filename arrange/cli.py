@@ -156,20 +156,30 @@ def _chain_table(c: Any) -> str:
 @click.option("--vary", "vary", multiple=True, metavar="KEY=V1,V2",
               help="Build every combination into its own folder, with DIR/variants.md "
               "(e.g. voicing=close,drop2; repeatable).")
+@click.option("--transpose", "move", default=None, metavar="SEMITONES|KEY",
+              help='Move the whole project: by semitones (-3, +5), or to a key ("Ab major", '
+              "in the octave that keeps the lead in range).")
 @guarded
 def build(project: Path, out_dir: Path, formats: str | None, parts: bool | None,
-          analysis: bool | None, audio: bool | None, vary: tuple[str, ...] = ()) -> None:
+          analysis: bool | None, audio: bool | None, vary: tuple[str, ...] = (),
+          move: str | None = None) -> None:
     """Build PROJECT.toml into score, MIDI and report files in the output folder."""
     from arrange.project import load_project
 
-    proj = _with_flags(load_project(project), parts, analysis, audio)
+    def adjust(pr: Any) -> Any:
+        if move is not None:
+            from arrange.transpose import parse_target, transpose_project
+
+            pr = transpose_project(pr, parse_target(move, where="--transpose"), where="--transpose")
+        return _with_flags(pr, parts, analysis, audio)
+
+    proj = adjust(load_project(project))
     fmts = _formats(formats)
     if vary:
         from arrange.variants import build_variants
 
         click.echo(f"{proj.title}: every combination of {len(vary)} varied keys ...", err=True)
-        for p in build_variants(project, vary, out_dir, fmts,
-                                adjust=lambda pr: _with_flags(pr, parts, analysis, audio)):
+        for p in build_variants(project, vary, out_dir, fmts, adjust=adjust):
             click.echo(str(p))
         return
     _build_one(proj, out_dir, fmts, label=proj.title)

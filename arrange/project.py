@@ -176,9 +176,16 @@ def project_from_data(data: dict[str, object], where: str, path: Path | None = N
     sec_table.finish()
     output = _output(top.sub("output"))
     layers = read_layers(top.raw("layers", None), where)
+    move = top.raw("transpose", None)
     top.finish()
-    return Project(path, title, slugify(title), tempo, meter, key, chain, rhythm_opts,
-                   harmony_opts, section, voicing_opts, output, layers, style.strip())
+    project = Project(path, title, slugify(title), tempo, meter, key, chain, rhythm_opts,
+                      harmony_opts, section, voicing_opts, output, layers, style.strip())
+    if move is None:
+        return project
+    from arrange.transpose import parse_target, transpose_project
+
+    at = top.at("transpose")
+    return transpose_project(project, parse_target(move, where=at), where=at)
 
 
 def load_project(path: str | Path) -> Project:
