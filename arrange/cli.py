@@ -168,7 +168,8 @@ def build(project: Path, out_dir: Path, formats: str | None, parts: bool | None,
 
     def adjust(pr: Any) -> Any:
         if move is not None:
-            from arrange.transpose import parse_target, transpose_project
+            from arrange.project import transpose_project
+            from arrange.transpose import parse_target
 
             pr = transpose_project(pr, parse_target(move, where="--transpose"), where="--transpose")
         return _with_flags(pr, parts, analysis, audio)

@@ -13,17 +13,16 @@ same interval; layers and the rhythm section follow the moved framework by thems
 """
 from __future__ import annotations
 
-from dataclasses import replace
+from dataclasses import dataclass, replace
 
 from arrange.chain.core import build_chain
 from arrange.errors import ArrangeError, ProjectError
 from arrange.harmony.harmonizer import _TOKEN, HarmonyOptions, transpose_chord, transpose_key
-from arrange.project import Project
 from arrange.theory.chords import parse_chord
 from arrange.theory.keys import Key, parse_key
 from arrange.theory.pitch import pitch_name
 
-__all__ = ["Target", "parse_target", "transpose_project", "MAX_SEMITONES"]
+__all__ = ["Target", "parse_target", "Moved", "move", "MAX_SEMITONES"]
 
 MAX_SEMITONES = 24
 Target = int | Key
@@ -51,24 +50,31 @@ def parse_target(value: object, *, where: str) -> Target:
                            accepted="a whole number of semitones (-3, +5) or " + (err.accepted or "a key")) from None
 
 
-def _line(project: Project) -> tuple[tuple[int, ...], tuple[int, int], tuple[int, int]]:
-    """(the placed lead line, the range it was placed in, the lead's practical range)."""
-    c = project.chain
-    practical = project.section.lead.instrument.practical
-    rng = c.lead_range or practical
-    return build_chain(c.motif, c.statements, c.overlap, rng).pitches, rng, practical
+@dataclass(frozen=True, slots=True)
+class Moved:
+    """What a project becomes: its key, motif, lead range and harmony, moved by ``shift``."""
+    shift: int
+    key: Key
+    motif: tuple[int, ...]
+    lead_range: tuple[int, int]
+    harmony: HarmonyOptions
 
 
 def _fits(line: tuple[int, ...], d: int, practical: tuple[int, int]) -> bool:
     return practical[0] <= min(line) + d and max(line) + d <= practical[1]
 
 
-def transpose_project(project: Project, target: Target, *, where: str) -> Project:
-    """``project`` moved by ``target`` (semitones, or to a key: nearest octave in range)."""
-    line, rng, practical = _line(project)
-    lead = project.section.lead
+def move(key: Key, chain: tuple[tuple[int, ...], int, int | tuple[int, ...], tuple[int, int] | None],
+         harmony: HarmonyOptions, lead: tuple[str, tuple[int, int]], target: Target, *,
+         where: str) -> Moved:
+    """Move a project: ``chain`` is (motif, statements, overlap, lead range or None), ``lead``
+    the lead part's name and practical range; ``target`` semitones or a key."""
+    motif, statements, overlap, lead_range = chain
+    name, practical = lead
+    rng = lead_range or practical
+    line = build_chain(motif, statements, overlap, rng).pitches
     if isinstance(target, Key):
-        dist = (target.tonic - project.key.tonic) % 12
+        dist = (target.tonic - key.tonic) % 12
         octaves = sorted((dist + 12 * k for k in (-2, -1, 0, 1)), key=lambda d: (abs(d), d))
         fitting = [d for d in octaves if _fits(line, d, practical)]
         shift = fitting[0] if fitting else octaves[0]
@@ -82,16 +88,12 @@ def transpose_project(project: Project, target: Target, *, where: str) -> Projec
             raise ProjectError(
                 f"{shift:+d} semitones moves the lead line to {pitch_name(lo)}..{pitch_name(hi)}, "
                 f"outside the practical range {pitch_name(practical[0])}..{pitch_name(practical[1])} "
-                f"of {lead.name}", where=where,
+                f"of {name}", where=where,
                 accepted=("a move that keeps the line in range: " + ", ".join(f"{d:+d}" for d in others))
                 if others else "a smaller move, or a key")
-        new_key = transpose_key(project.key, shift)
-    if shift == 0 and new_key == project.key:
-        return project
-    chain = replace(project.chain, motif=tuple(p + shift for p in project.chain.motif),
-                    lead_range=(rng[0] + shift, rng[1] + shift))
-    return replace(project, key=new_key, chain=chain,
-                   harmony=_move_harmony(project.harmony, shift, new_key))
+        new_key = transpose_key(key, shift)
+    return Moved(shift, new_key, tuple(p + shift for p in motif), (rng[0] + shift, rng[1] + shift),
+                 _move_harmony(harmony, shift, new_key))
 
 
 def _move_harmony(options: HarmonyOptions, shift: int, key: Key) -> HarmonyOptions:
