@@ -155,7 +155,7 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
         if layers:
             from arrange.writers.report import layer_warnings, layers_data
 
-            data["layers"] = layers_data(layers)
+            data["layers"] = layers_data(layers, voiced)
             data["warnings"] = list(data["warnings"]) + layer_warnings(layers, data["events"])
         files[f"{slug}.report.json"] = report_json(data)
         files[f"{slug}.report.md"] = report_markdown(data)

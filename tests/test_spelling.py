@@ -14,7 +14,7 @@ from pathlib import Path
 import pytest
 from conftest import BASIC, run_cli, write_project
 
-from arrange.theory.chords import VOCABULARY, parse_chord
+from arrange.theory.chords import VOCABULARY, interval_name, parse_chord
 from arrange.theory.keys import MODES, parse_key
 from arrange.theory.spelling import direction_of, m21_name, spell_chord, spell_pc, spell_pitch
 
@@ -32,6 +32,14 @@ def test_flat_keys_never_sharpen_a_diatonic_note() -> None:
             for pc, own in zip(key.scale, key.names, strict=True):
                 for chord in chords:
                     name = spell_pc(pc, key, chord)
+                    if chord is not None and (pc - chord.root) % 12 in (*chord.intervals, *chord.tensions):
+                        # a chord tone or tension goes by its degree over the root (issue 14:
+                        # the third of E7 is G# in any key); a #9 may read as the minor tenth
+                        iv = (pc - chord.root) % 12
+                        deg = chord.degree_of(iv)
+                        if deg is not None and not (chord.quality == "dim7" and deg == 7):
+                            assert name == interval_name(chord.root_name, iv, deg), (str(key), chord, name)
+                        continue
                     # harmonic and melodic minor raise their own 6th/7th: those keep the key's name
                     assert "#" not in name or "#" in own, (str(key), chord, name)
                     assert name == own
@@ -125,7 +133,9 @@ def test_written_score_spells_by_key(tmp_path: Path) -> None:
     assert len(lead) == len(report["events"])
     for n, e in zip(lead, report["events"], strict=True):
         assert n.pitch.midi == e["lead"]
-        if e["lead"] % 12 in ab:
+        if e["lead"] % 12 in ab and e["role"] == "framework":
+            # under an approach chord the lead goes by its degree over that chord's root
+            # (issue 14: the 5th of an F#m7 approach is C#, even in a flat key)
             assert "#" not in n.pitch.name, (n.pitch.name, e)
         assert n.pitch.nameWithOctave.replace("-", "b") == e["lead_name"]
     sig = score.parts[0].flatten().getElementsByClass("KeySignature")[0]

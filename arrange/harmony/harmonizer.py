@@ -21,7 +21,7 @@ from arrange.harmony.walk import walk
 from arrange.rhythm.line import Line
 from arrange.tables import Table
 from arrange.theory.chords import Chord, parse_chord
-from arrange.theory.keys import MODES, Key, parse_key, parse_key_change
+from arrange.theory.keys import MAX_NAMED, MODES, Key, parse_key, parse_key_change, signature_key
 from arrange.theory.spelling import root_spelling, spell_pc
 
 __all__ = ["Key", "parse_key", "FrameworkChord", "Event", "Harmonized", "HarmonyOptions",
@@ -247,6 +247,10 @@ def build_framework(line: Line, key: Key, options: HarmonyOptions, where: str,
 
 
 def harmonize(line: Line, key: Key, options: HarmonyOptions, *, where: str = "[harmony]") -> Harmonized:
+    # a key past 7 accidentals (G# major, D# lydian) is spelled and written as its
+    # enharmonic key (theory.keys.written_key's rule for a concert part)
+    key = signature_key(key, MAX_NAMED)
+    options = replace(options, keys=tuple((b, signature_key(k, MAX_NAMED)) for b, k in options.keys))
     shifts: tuple[tuple[int, int], ...] = ()
     if options.modulate == "by-statement" and line.chain is not None:
         shifts = statement_keys(line, key)

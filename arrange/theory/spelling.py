@@ -43,29 +43,23 @@ def _pc(name: str) -> int:
 def spell_pc(pc: int, key: Key, chord: Chord | None = None, direction: int = 0) -> str:
     """A pitch-class name (``Bb``) by the rules above; ``direction`` > 0 rising, < 0 falling."""
     pc %= 12
-    if pc in key.scale:
-        return key.names[key.scale.index(pc)]
     if chord is not None:
         iv = (pc - chord.root) % 12
         if chord.bass is not None and pc == chord.bass and chord.bass_name:
             return chord.bass_name
         deg = chord.degree_of(iv)
         if deg is not None:
-            return interval_name(chord.root_name, iv, deg)
-    if chord is not None and (pc - chord.root) % 12 in chord.tensions:
-        iv = (pc - chord.root) % 12
-        deg = _TENSION_DEGREE[iv]
-        if iv == 8 and 7 not in chord.intervals:
-            deg = 5
-        if iv == 6 and 7 not in chord.intervals:
-            deg = 5
-        name = interval_name(chord.root_name, iv, deg)
-        against = _acc(name) * (-1 if key.fifths < 0 else 1) < 0
-        # the #9 reads as a minor tenth (Eb over C7) when the key's side or the line's
-        # fall says so; rising, it stays the #9 (D# over C7)
-        tenth = iv == 3 and ((against and direction == 0) or direction * _acc(name) < 0)
-        if abs(_acc(name)) <= 1 and not tenth:
-            return name
+            name = interval_name(chord.root_name, iv, deg)
+            # by degree, even a double accidental no single one could spell as that degree;
+            # the seventh of a diminished seventh follows the key instead
+            if abs(_acc(name)) <= 1 or not (chord.quality == "dim7" and deg == 7):
+                return name
+        elif iv in chord.tensions:
+            tension = _tension_name(iv, chord, key, direction)
+            if tension is not None:
+                return tension
+    if pc in key.scale:
+        return key.names[key.scale.index(pc)]
     if chord is not None and direction == 0 and (pc - chord.root) % 12 not in chord.tensions:
         # a non-chord tone that is no chromatic step: by its degree above the root
         # (the major seventh of G7 is F#, not Gb)
@@ -75,6 +69,23 @@ def spell_pc(pc: int, key: Key, chord: Chord | None = None, direction: int = 0) 
         if abs(_acc(name)) <= 1 and (name not in _ODD or name in key.names) and not against:
             return name
     return _chromatic(pc, key, direction)
+
+
+def _tension_name(iv: int, chord: Chord, key: Key, direction: int) -> str | None:
+    """A tension by its degree (b9 of C7 is Db, #11 F#); a #9 against the key's side or in
+    a falling line reads as the minor tenth (Eb over C7 in F major), and so does a #9 that
+    is a note of the key; None where the degree would need a double accidental."""
+    deg = _TENSION_DEGREE[iv]
+    if iv in (6, 8) and 7 not in chord.intervals:
+        deg = 5
+    name = interval_name(chord.root_name, iv, deg)
+    against = _acc(name) * (-1 if key.fifths < 0 else 1) < 0
+    in_key = (chord.root + iv) % 12 in key.scale and name not in key.names
+    tenth = iv == 3 and ((against and direction == 0) or direction * _acc(name) < 0 or
+                         (in_key and direction == 0))
+    if abs(_acc(name)) <= 1 and not tenth:
+        return name
+    return None
 
 
 def nonchord_degree(iv: int, chord: Chord) -> int:
@@ -144,9 +155,11 @@ def spell_chord(chord: Chord) -> tuple[str, ...]:
 
 
 def root_spelling(pc: int, suffix: str, key: Key, letter_hint: str | None = None) -> Chord:
-    """A chord on ``pc`` with ``suffix``, its root spelled so that the most of its
-    tones read as the key writes them, with few accidentals (``letter_hint``
-    breaks ties: the letter the voice-leading suggests)."""
+    """A chord on ``pc`` with ``suffix``, its root spelled so that its own tones need no
+    double accidental (Bb7, not A#7, in E major: A#7 would have C##; F#m7, not Gbm7, whose
+    third is Bbb), no root Cb, Fb, E# or B# the key lacks, then most of its tones read as the
+    key writes them, with few accidentals against the key's side (``letter_hint`` breaks
+    ties: the letter the voice-leading suggests)."""
     best = None
     for letter in LETTERS:
         name = spell_name(letter, pc)
@@ -154,11 +167,13 @@ def root_spelling(pc: int, suffix: str, key: Key, letter_hint: str | None = None
             continue
         chord = parse_chord(name + suffix)
         tones = spell_chord(chord)
+        doubles = sum(1 for t, d in zip(tones, chord.degrees, strict=True)
+                      if abs(_acc(t)) > 1 and not (chord.quality == "dim7" and d == 7))
         clash = sum(1 for t in tones if _pc(t) in key.scale and t not in key.names)
         side = -1 if key.fifths < 0 else 1
         against = sum(1 for t in tones if _acc(t) * side < 0 and t not in key.names)
         foreign = sum(1 for t in tones if t not in key.names)
-        score = (name in _ODD and name not in key.names, clash, against, foreign,
+        score = (doubles, name in _ODD and name not in key.names, clash, against, foreign,
                  letter != letter_hint)
         if best is None or score < best[0]:
             best = (score, chord)

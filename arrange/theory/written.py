@@ -64,25 +64,42 @@ def sounding_side(written: str, semitones: int) -> str:
     return transpose_name(written, -semitones)
 
 
-def _chord_shift(chord: Chord, move: int, wkey: Key) -> int:
+def _interval_fifths(semitones: int) -> int:
+    """Fifths a name travels with the usual interval (major second 2, major sixth 3)."""
+    return fifths_of(split_name(transpose_name("C4", semitones))[0])
+
+
+def _chord_shift(chord: Chord, move: int, flipped: bool, wkey: Key) -> int:
     """Extra 12 fifths (0, -12 or +12) the chord's root takes in the written part: none of
-    its tones needing a double accidental (the seventh of a diminished seventh aside), no
-    root Cb, Fb, E# or B# the written key lacks, then its tones closest to the written key
-    (the middle of its signature's seven names on the line of fifths)."""
-    root = fifths_of(chord.root_name) + move
+    its tones needing a double accidental the concert chord does not have (the seventh of a
+    diminished seventh aside), no root Cb, Fb, E# or B# the written key lacks, then (in a
+    part whose key is the enharmonic one) its tones closest to the written key (the middle
+    of its signature's seven names on the line of fifths)."""
+    root = fifths_of(chord.root_name)
     centre = wkey.fifths + 2
 
-    def cost(extra: int) -> tuple[int, bool, int]:
-        if not _LOW - 7 <= root + extra <= _HIGH + 7:
-            return 99, True, 0
-        doubles = spread = 0
+    def doubles(at: int) -> int:
+        out = 0
         for iv, deg in zip(chord.intervals, chord.degrees, strict=True):
-            place = fifths_of(interval_name(name_at(root + extra), iv, deg))
-            spread += abs(place - centre)
+            place = fifths_of(interval_name(name_at(at), iv, deg))
             if not (chord.quality == "dim7" and deg == 7) and not _LOW <= place <= _HIGH:
-                doubles += 1
-        odd = name_at(root + extra) in _ODD and name_at(root + extra) not in wkey.names
-        return doubles, odd, spread
+                out += 1
+        return out
+
+    if not _LOW <= root <= _HIGH:
+        return 0                        # a root the user spelled with a double accidental
+    concert = doubles(root)
+    if not flipped and doubles(root + move) <= concert:
+        return 0
+
+    def cost(extra: int) -> tuple[int, bool, int]:
+        at = root + move + extra
+        if not _LOW - 7 <= at <= _HIGH + 7:
+            return 99, True, 0
+        spread = sum(abs(fifths_of(interval_name(name_at(at), iv, deg)) - centre)
+                     for iv, deg in zip(chord.intervals, chord.degrees, strict=True))
+        odd = name_at(at) in _ODD and name_at(at) not in wkey.names
+        return max(0, doubles(at) - concert), odd, spread
 
     return min((0, -12, 12), key=cost)
 
@@ -103,6 +120,7 @@ def written_name(name: str, semitones: int, key: Key, chord: Chord | None = None
     move = wkey.fifths - key.fifths     # the fifths every name travels, interval included
     if move == 0 and semitones == 0:
         return name                     # a concert part in the key the project names
+    flipped = move != _interval_fifths(semitones)
     place = fifths_of(pc_name) + move
     with_chord = False
     if chord is not None:
@@ -110,13 +128,15 @@ def written_name(name: str, semitones: int, key: Key, chord: Chord | None = None
         deg = chord.degree_of(iv)
         with_chord = deg is not None and interval_name(chord.root_name, iv, deg) == pc_name
         if with_chord:
-            place += _chord_shift(chord, move, wkey)
-    if move % 12 and not with_chord and name_at(place) in _ODD and name_at(place) not in wkey.names:
+            place += _chord_shift(chord, move, flipped, wkey)
+    if flipped and not with_chord and name_at(place) in _ODD and name_at(place) not in wkey.names:
         place += -12 if place > 0 else 12       # Fb -> E, E# -> F (the key has no Fb, E#)
-    while place > _HIGH:
-        place -= 12
-    while place < _LOW:
-        place += 12
+    if abs(pc_name.count("#") - pc_name.count("b")) <= 1:
+        # a double accidental the move brought in (not one the concert name has): its enharmonic
+        while place > _HIGH:
+            place -= 12
+        while place < _LOW:
+            place += 12
     return _with_octave(name_at(place), midi_of(name) + semitones)
 
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 from fractions import Fraction
 from typing import Any
 
-__all__ = ["json_number", "bar_of_event", "channel_for", "spelled_parts"]
+__all__ = ["json_number", "bar_of_event", "channel_for", "spelled_parts", "written_parts"]
 
 
 def json_number(q: Fraction) -> float | int:
@@ -75,4 +75,57 @@ def spelled_parts(voiced: Any, layers: tuple[Any, ...] = ()) -> tuple[tuple[tupl
     if len(_SPELLED) > 8:
         _SPELLED.clear()
     _SPELLED[(id(voiced), id(layers))] = (voiced, layers, out)
+    return out
+
+
+_WRITTEN: dict[tuple[int, int, bool], tuple[Any, Any, Any]] = {}
+
+
+def written_parts(voiced: Any, layers: tuple[Any, ...] = (), concert: bool = False) -> tuple[
+        tuple[tuple[str, ...], ...], tuple[tuple[tuple[str | None, ...], ...], ...]]:
+    """The written name of every note, shaped as :func:`spelled_parts`: each concert name
+    through ``theory.written.written_name`` for its part's transposition (0 throughout a
+    concert score), then ``agree`` among the parts that read one written key (one
+    transposition, modulo octaves), the lead section first."""
+    from arrange.theory.written import agree, midi_of, written_name
+
+    hit = _WRITTEN.get((id(voiced), id(layers), concert))
+    if hit is not None and hit[0] is voiced and hit[1] is layers:
+        return hit[2]  # type: ignore[no-any-return]
+    lead_names, layer_names = spelled_parts(voiced, layers)
+    h = voiced.harmonized
+    bar_len = h.line.meter.bar
+    groups: dict[int, list[tuple[Fraction, Fraction, int, str]]] = {}
+    where: dict[int, list[tuple[int, int, int]]] = {}      # group -> (layer or -1, part, note)
+
+    def put(moved: int, onset: Fraction, end: Fraction, name: str, chord: Any, slot: tuple[int, int, int]) -> None:
+        w = written_name(name, moved, h.key_at(int(onset // bar_len) + 1), chord)
+        groups.setdefault(moved % 12, []).append((onset, end, midi_of(w), w))
+        where.setdefault(moved % 12, []).append(slot)
+
+    for k, part in enumerate(voiced.section.parts):
+        moved = 0 if concert else part.instrument.transposition
+        for i, ve in enumerate(voiced.events):
+            n = ve.event.note
+            put(moved, n.onset, n.onset + n.duration, lead_names[k][i], ve.event.chord, (-1, k, i))
+    for li, vl in enumerate(layers):
+        for k, part in enumerate(vl.layer.section.parts):
+            moved = 0 if concert else part.instrument.transposition
+            for i, n in enumerate(vl.notes):
+                name = layer_names[li][k][i]
+                if name is not None:
+                    put(moved, n.onset, n.onset + n.duration, name, n.chord, (li, k, i))
+    lead: list[list[str]] = [[""] * len(voiced.events) for _ in voiced.section.parts]
+    grid: list[list[list[str | None]]] = [[[None] * len(vl.notes) for _ in vl.layer.section.parts]
+                                          for vl in layers]
+    for g, notes in groups.items():
+        for (li, k, i), name in zip(where[g], agree(notes), strict=True):
+            if li < 0:
+                lead[k][i] = name
+            else:
+                grid[li][k][i] = name
+    out = (tuple(tuple(p) for p in lead), tuple(tuple(tuple(p) for p in g) for g in grid))
+    if len(_WRITTEN) > 8:
+        _WRITTEN.clear()
+    _WRITTEN[(id(voiced), id(layers), concert)] = (voiced, layers, out)
     return out

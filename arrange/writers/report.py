@@ -8,7 +8,7 @@ from typing import Any
 from arrange.theory.pitch import pitch_name
 from arrange.voicing.layers import VoicedLayer
 from arrange.voicing.voicer import Voiced
-from arrange.writers.common import bar_of_event, json_number
+from arrange.writers.common import bar_of_event, json_number, spelled_parts
 
 __all__ = ["json_number", "bar_of_event", "report_data", "report_json", "report_markdown"]
 
@@ -55,6 +55,7 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
               "extreme": list(p.instrument.extreme)} for p in voiced.section.parts]
     events = []
     spelled = _lead_names(voiced)
+    names = spelled_parts(voiced)[0]      # as the score spells them, at concert pitch
     for i, ve in enumerate(voiced.events):
         ev = ve.event
         n = ev.note
@@ -71,6 +72,7 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
             "target": ev.target.symbol if ev.target is not None else None,
             "anticipated": n.anticipated,
             "voicing": ve.voicing, "pitches": list(ve.pitches),
+            "names": [part[i] for part in names],
         })
     warnings = [{"kind": f.kind, "event": f.event, "bar": bar_of_event(events, f.event), "part": f.part,
                  "message": f.message, "severity": f.severity} for f in voiced.findings]
@@ -110,8 +112,6 @@ def _cell(text: object) -> str:
 
 
 def report_markdown(data: dict[str, Any]) -> bytes:
-    from arrange.theory.pitch import pitch_name
-
     ch = data["chain"]
     parts = data["section"]["parts"]
     out = [f"# {data['title']}", "",
@@ -141,10 +141,10 @@ def report_markdown(data: dict[str, Any]) -> bytes:
     events = data["events"]
     for st in data["statements"]:
         notes = st["notes"]
-        first = events[notes[0]]["pitches"] if notes else []
+        first = _names(events[notes[0]]) if notes else []
         span = f"{notes[0] + 1}-{notes[-1] + 1}" if notes else "(overlap only)"
         out.append(f"| {st['statement']} | {st['bar'] or ''} | {', '.join(st['voicings']) or '-'} | "
-                   f"{span} | {' '.join(pitch_name(p) for p in first)} |")
+                   f"{span} | {' '.join(first)} |")
     out += layers_markdown(data)
     out += ["", "## Warnings", ""]
     if not data["warnings"]:
@@ -157,10 +157,19 @@ def report_markdown(data: dict[str, Any]) -> bytes:
     return ("\n".join(out) + "\n").encode("utf-8")
 
 
-def layers_data(layers: tuple[VoicedLayer, ...]) -> list[dict[str, Any]]:
-    """``report.json`` ``layers``: section, role, parts (as the lead section's), notes."""
+def _names(note: dict[str, Any]) -> list[str]:
+    """A report entry's spelled names (as the score writes them), ``rest`` where a part rests."""
+    if "names" in note:
+        return [n or "rest" for n in note["names"]]
+    return ["rest" if p is None else pitch_name(p) for p in note["pitches"]]
+
+
+def layers_data(layers: tuple[VoicedLayer, ...], voiced: Voiced | None = None) -> list[dict[str, Any]]:
+    """``report.json`` ``layers``: section, role, parts (as the lead section's), notes; with
+    ``voiced``, each note's ``names`` as the score spells them (``None`` where a part rests)."""
     out = []
-    for vl in layers:
+    spelled = spelled_parts(voiced, layers)[1] if voiced is not None else None
+    for li, vl in enumerate(layers):
         la = vl.layer
         out.append({
             "index": la.index, "section": la.section.name, "role": la.role,
@@ -170,7 +179,9 @@ def layers_data(layers: tuple[VoicedLayer, ...]) -> list[dict[str, Any]]:
                        "range": list(p.instrument.practical),
                        "extreme": list(p.instrument.extreme)} for p in la.section.parts],
             "notes": [{"onset": json_number(n.onset), "duration": json_number(n.duration), "chord": n.chord.symbol,
-                       "pitches": list(n.pitches), "why": n.why} for n in vl.notes],
+                       "pitches": list(n.pitches), "why": n.why,
+                       **({"names": [spelled[li][k][i] for k in range(len(n.pitches))]} if spelled else {})}
+                      for i, n in enumerate(vl.notes)],
         })
     return out
 
@@ -197,7 +208,7 @@ def layers_markdown(data: dict[str, Any]) -> list[str]:
                 "| --- | --- | --- | --- | --- |"]
         for n in la["notes"]:
             out.append(f"| {n['chord']} | {n['onset']:g} | {n['duration']:g} | "
-                       f"{' '.join('rest' if p is None else pitch_name(p) for p in n['pitches'])} | "
+                       f"{' '.join(_names(n))} | "
                        f"{n.get('why', '')} |")
         out.append("")
     return out[:-1]

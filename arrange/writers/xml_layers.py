@@ -31,7 +31,7 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
     from music21 import dynamics, instrument, layout
 
     from arrange.theory.keys import written_key
-    from arrange.writers.common import channel_for, spelled_parts
+    from arrange.writers.common import channel_for, written_parts
     from arrange.writers.xml_score import (
         _accidental,
         _articulation,
@@ -47,14 +47,13 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
     concert = bool(getattr(info, "concert", False))
     h = voiced.harmonized
     line = h.line
-    bar_len = line.meter.bar
     shift = 1 if line.pickup else 0
     lead_parts = list(score.parts)
     grouped = {id(p) for g in score.getElementsByClass(layout.StaffGroup) for p in g.getSpannedElements()}
     if lead_parts and not any(id(p) in grouped for p in lead_parts):
         _bracket(score, lead_parts)
     index = len(lead_parts)
-    spelled = spelled_parts(voiced, layers)[1]
+    spelled = written_parts(voiced, layers, concert)[1]
     for li, vl in enumerate(layers):
         new_parts = []
         for k, part in enumerate(vl.layer.section.parts):
@@ -73,9 +72,9 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
                     continue
                 if i and vl.notes[i - 1].onset + vl.notes[i - 1].duration < n.onset:
                     entered = False          # a rest of the rhythm: the dynamic again at the re-entrance
-                concert_name = spelled[li][k][i]
-                assert concert_name is not None
-                name = music21_name(concert_name, moved, h.key_at(int(n.onset // bar_len) + 1), n.chord)
+                written = spelled[li][k][i]
+                assert written is not None
+                name = music21_name(written, moved)
                 for j, pc in enumerate(pieces(n.onset, n.duration, line.meter, pickup=line.pickup)):
                     nt = piece_note(name, pc)
                     if j == 0 and vl.layer.role == "hits":   # a hit is played accented

@@ -13,10 +13,10 @@ from fractions import Fraction
 from arrange.rhythm.notation import pieces
 from arrange.theory.keys import written_key
 from arrange.theory.spelling import m21_name
-from arrange.theory.written import sounding_side, split_name, written_name
+from arrange.theory.written import sounding_side, split_name
 from arrange.voicing.voicer import Voiced
 from arrange.writers import marks
-from arrange.writers.common import spelled_parts
+from arrange.writers.common import written_parts
 from arrange.writers.symbols import chord_symbol, m21_figure  # noqa: F401 - m21_figure is used by callers
 
 __all__ = ["ScoreInfo", "build_score", "finish_xml", "m21_figure", "chord_symbol", "swing_ratio"]
@@ -89,7 +89,6 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
     )
 
     line = voiced.harmonized.line
-    bar_len = line.meter.bar
     shift = 1 if line.pickup else 0
     score = stream.Score(id="score")
     score.atSoundingPitch = True
@@ -108,7 +107,7 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
             measures[0].insert(0, marks.style_word(info.style))
             measures[0].insert(0, tempo.MetronomeMark(number=info.tempo, referent=beat))
         prev_chord = None
-        names = spelled_parts(voiced)[0][k]
+        names = written_parts(voiced, (), info.concert)[0][k]
         shown: dict[tuple[int, str, int], int] = {}     # accidentals in force per measure
         respell = bool(part.instrument.transposition) and not info.concert
         moved = 0 if info.concert else part.instrument.transposition
@@ -120,8 +119,7 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
                 if ve.event.chord.symbol != prev_chord:
                     measures[m_i].insert(_offset(off), chord_symbol(ve.event.chord))
                     prev_chord = ve.event.chord.symbol
-            bar_key = voiced.harmonized.key_at(int(n.onset // bar_len) + 1)
-            name = music21_name(names[i], moved, bar_key, ve.event.chord)
+            name = music21_name(names[i], moved)
             for j, pc in enumerate(cut):
                 nt = piece_note(name, pc)
                 if j == 0 and n.articulation:
@@ -146,11 +144,11 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
     return score
 
 
-def music21_name(concert_name: str, moved: int, key, chord) -> str:  # noqa: ANN001
+def music21_name(written: str, moved: int) -> str:
     """The name music21 is given for a note: the part's written name
-    (``theory.written.written_name``) moved back by its interval, so that music21's own
+    (``writers.common.written_parts``) moved back by its interval, so that music21's own
     ``toWrittenPitch`` lands on it exactly."""
-    return m21_name(sounding_side(written_name(concert_name, moved, key, chord), moved))
+    return m21_name(sounding_side(written, moved))
 
 
 def _signature(k, moved: int):  # noqa: ANN001, ANN202
