@@ -74,7 +74,26 @@ def run_pipeline(project: Project) -> Voiced:
     line = lay_rhythm(chain, project.meter, project.rhythm)
     harmonized = harmonize(line, project.key, project.harmony,
                            where=f"{project.path.name if project.path else 'project'} [harmony]")
-    return voice(harmonized, project.section, project.voicing)
+    return named_as_sounding(voice(harmonized, project.section, project.voicing))
+
+
+def named_as_sounding(voiced: Voiced) -> Voiced:
+    """Each event's chord named for what its voicing sounds (``theory.chords.sounding_chord``:
+    a sixth chord holding its major seventh is written maj7), the why saying so."""
+    from dataclasses import replace
+
+    from arrange.theory.chords import sounding_chord
+
+    events = []
+    for ve in voiced.events:
+        ch = sounding_chord(ve.event.chord, ve.pitches)
+        if ch != ve.event.chord:
+            ev = ve.event
+            why = (f"{ev.why}; the voicing sounds its major seventh, so the symbol is {ch.symbol} "
+                   f"(the sixth is its 13)")
+            ve = replace(ve, event=replace(ev, chord=ch, why=why))
+        events.append(ve)
+    return replace(voiced, events=tuple(events))
 
 
 def run_layers(project: Project, voiced: Voiced) -> tuple[VoicedLayer, ...]:

@@ -6,7 +6,9 @@ Accepted (common practice of lead sheets): a root ``A``-``G`` with ``b #`` (or
 (``M7``, ``Δ``, ``Δ7``), ``m7`` (``-7``, ``min7``), ``m6``, ``m(maj7)``
 (``mmaj7``, ``mM7``), ``7``, ``m7b5`` (``ø``, ``ø7``), ``dim7`` (``°7``, ``o7``),
 ``7sus4``; extensions ``9 11 13`` (``maj9``, ``m11``, ``13sus4`` ...);
-alterations ``b5 #5 b9 #9 #11 b13`` (also in parentheses, ``7(b9,#11)``);
+alterations ``b5 #5 b9 #9 #11 b13`` (also in parentheses, ``7(b9,#11)``); ``7alt``, the
+altered dominant, voiced 1 3 b7 #9 b13 without its fifth (the altered scale's b9 and #11
+are its further tensions);
 a slash bass (``C7/E``).
 
 :func:`parse_chord` gives a :class:`Chord`; ``Chord.symbol`` is the canonical
@@ -22,7 +24,7 @@ from functools import lru_cache
 from arrange.errors import HarmonyError
 from arrange.theory.scales import CHORD_SCALES, chord_scale_name, tensions_in_scale
 
-__all__ = ["Chord", "parse_chord", "format_chord", "VOCABULARY", "ROOT_NAMES",
+__all__ = ["Chord", "parse_chord", "format_chord", "sounding_chord", "VOCABULARY", "ROOT_NAMES",
            "interval_name", "spell_name", "chord_scale_for"]
 
 ROOT_NAMES = {"C": 0, "D": 2, "E": 4, "F": 5, "G": 7, "A": 9, "B": 11}
@@ -40,7 +42,7 @@ VOCABULARY = (
     "C", "Cm", "Cdim", "Caug", "Csus2", "Csus4", "C6", "C6/9", "Cmaj7", "Cm7", "Cm6", "Cm6/9",
     "Cm(maj7)", "C7", "Cm7b5", "Cdim7", "C7sus4", "C9", "C11", "C13", "Cmaj9", "Cmaj13",
     "Cm9", "Cm11", "Cm13", "Cm(maj9)", "C9sus4", "C13sus4", "C7b5", "C7#5", "C7b9", "C7#9",
-    "C7#11", "C7b13", "C7b9#11", "C7#9b13", "C13#11", "C9#11", "Cmaj7#11", "Cmaj7#5",
+    "C7#11", "C7b13", "C7b9#11", "C7#9b13", "C7alt", "C13#11", "C9#11", "Cmaj7#11", "Cmaj7#5",
     "Cmaj9#11", "C7/E", "Cm7/Bb", "Ebm9", "F#m7b5", "Bb13", "Db7#9", "Abmaj7/C", "Gb6/9",
 )
 
@@ -118,6 +120,7 @@ class _Parts:
     seventh: int | None = None   # 9 (dim7), 10, 11
     ext: int = 0             # 0, 9, 11, 13
     alts: tuple[str, ...] = ()
+    alt: bool = False        # 7alt: voiced 1 3 b7 #9 b13 (no fifth), altered scale
 
 
 def _suggest(text: str) -> str:
@@ -129,7 +132,7 @@ def _suggest(text: str) -> str:
     close = difflib.get_close_matches(s, pool, n=3, cutoff=0.4)
     return ("closest: " + ", ".join(close) + "; " if close else "") + \
         "a root A-G (b #) then a quality such as m, dim, aug, sus4, 6, 6/9, maj7, m7, 7, m7b5, " \
-        "dim7, m(maj7), 7sus4, 9, 13, alterations b5 #5 b9 #9 #11 b13, and an optional /bass"
+        "dim7, m(maj7), 7sus4, 7alt, 9, 13, alterations b5 #5 b9 #9 #11 b13, and an optional /bass"
 
 
 def parse_chord(text: str, *, where: str = "chord") -> Chord:
@@ -207,6 +210,13 @@ def _read_suffix(s: str, bad) -> _Parts:  # noqa: ANN001, C901 - one small gramm
         elif num:
             p.seventh = 11 if maj else 10
             p.ext = 0 if num == "7" else int(num)
+    if take("alt"):
+        if p.third != "M" or p.seventh != 10 or p.ext or p.fifth != 7 or family:
+            raise bad("puts alt on a chord that is not a plain dominant seventh (e.g. C7alt)")
+        if i < len(s):
+            raise bad(f"has {s[i:]!r} after alt; 7alt names its alterations itself (#9 b13)")
+        p.alt = True
+        return p
     sus = take("sus2", "sus4", "sus")
     if sus:
         if p.third == "m" or p.fifth != 7 and family:
@@ -249,6 +259,8 @@ def _read_suffix(s: str, bad) -> _Parts:  # noqa: ANN001, C901 - one small gramm
 
 
 def _format(p: _Parts) -> str:
+    if p.alt:
+        return "7alt"
     sus = {"sus2": "sus2", "sus4": "sus4"}.get(p.third, "")
     fifth_alt = {6: "b5", 7: "", 8: "#5"}[p.fifth]
     if p.seventh is None and not p.sixth:
@@ -288,6 +300,8 @@ def _split_alts(text: str) -> list[str]:
 
 
 def _tones(p: _Parts) -> tuple[tuple[int, ...], tuple[int, ...]]:
+    if p.alt:       # the altered dominant as it is voiced: 1 3 b7 #9 b13, no fifth (common practice)
+        return (0, 4, 10, 3, 8), (1, 3, 7, 9, 13)
     tones: list[tuple[int, int]] = [(0, 1)]
     tones.append({"M": (4, 3), "m": (3, 3), "sus2": (2, 2), "sus4": (5, 4)}[p.third])
     tones.append((p.fifth, 5))
@@ -314,6 +328,20 @@ def _tones(p: _Parts) -> tuple[tuple[int, ...], tuple[int, ...]]:
     for iv, deg in order:
         seen.setdefault(iv, deg)
     return tuple(seen), tuple(seen.values())
+
+
+_SIXTH_TO_SEVENTH = {"6": "maj7", "6/9": "maj9", "m6": "m(maj7)", "m6/9": "m(maj9)"}
+
+
+def sounding_chord(chord: Chord, pitch_classes: tuple[int, ...] | list[int] | set[int]) -> Chord:
+    """The chord named for what sounds (common practice of lead sheets: a symbol names its
+    content): a sixth chord whose voicing holds its major seventh is a major-seventh chord
+    (Bb6 sounding A: Bbmaj7, the sixth its 13; Cm6 sounding B: Cm(maj7)).  Other chords as given."""
+    new = _SIXTH_TO_SEVENTH.get(chord.quality)
+    if new is None or (chord.root + 11) % 12 not in {p % 12 for p in pitch_classes}:
+        return chord
+    bass = f"/{chord.bass_name}" if chord.bass_name else ""
+    return parse_chord(f"{chord.root_name}{new}{bass}")
 
 
 def format_chord(chord: Chord) -> str:

@@ -66,7 +66,7 @@ def chord_scale_name(intervals: tuple[int, ...], quality: str) -> str:
             ("lydian" if 6 in iv else "ionian")
     else:                       # dominant
         alts = {a for a in ("b5", "#5", "b9", "#9", "#11", "b13") if a in quality}
-        if "#9" in alts or ("b9" in alts and "#5" in alts):
+        if "alt" in quality or "#9" in alts or ("b9" in alts and "#5" in alts):
             name = "altered"
         elif "b9" in alts and "b13" in alts:
             name = "phrygian dominant"

@@ -23,6 +23,8 @@ def m21_figure(chord: Chord | str) -> str:
     ch = parse_chord(chord) if isinstance(chord, str) else chord
     core = tuple(sorted(ch.core))
     five = ""
+    if ch.quality == "7alt":    # voiced 1 3 b7 #9 b13: the dominant seventh without its fifth
+        return m21_name(ch.root_name) + "7omit5add#9addb13" + (f"/{m21_name(ch.bass_name)}" if ch.bass_name else "")
     if core not in _M21_CORE:   # an altered fifth on a core music21 has no kind for
         fifth = next(i for i, d in zip(ch.intervals, ch.degrees, strict=True) if d == 5)
         core = tuple(sorted(7 if i == fifth else i for i in core))
