@@ -14,6 +14,8 @@ from pathlib import Path
 from arrange.errors import ArrangeError, ProjectError
 from arrange.harmony import harmonizer as harmony
 from arrange.rhythm import line as rhythm
+from arrange.rhythm_section.options import RhythmSectionOptions
+from arrange.rhythm_section.options import read_options as read_rhythm_section
 from arrange.tables import Table
 from arrange.theory.pitch import parse_pitch, parse_pitches
 from arrange.voicing import voicer as voicing
@@ -43,7 +45,7 @@ class OutputSpec:
     analysis: bool = False                # statement labels, approach techniques
     parts: bool = False                   # one MusicXML per part as well
     concert_score: bool = False           # the score at concert pitch (parts stay transposed)
-    rhythm_section: bool = False          # MIDI bass and drums mock-up
+    rhythm_section: bool = False          # the old switch: bass and drums ([rhythm_section] now)
     humanize: float = 0.0                 # milliseconds of seeded timing spread (0 = none)
     seed: int = 1
     audio: bool = False                   # a WAV through fluidsynth when installed
@@ -65,6 +67,7 @@ class Project:
     output: OutputSpec
     layers: tuple[Layer, ...] = ()     # [[layers]]: background sections under the lead
     style: str = ""                    # the style word over the metronome mark ("" = from groove and tempo)
+    rhythm_section: RhythmSectionOptions = RhythmSectionOptions()   # written piano, guitar, bass, drums
 
 
 def slugify(title: str) -> str:
@@ -176,9 +179,16 @@ def project_from_data(data: dict[str, object], where: str, path: Path | None = N
     sec_table.finish()
     output = _output(top.sub("output"))
     layers = read_layers(top.raw("layers", None), where)
+    rs_table = top.sub("rhythm_section")
+    if output.rhythm_section and rs_table.has("parts"):
+        raise ProjectError("both output.rhythm_section and rhythm_section.parts are given",
+                           where=f"{where}, key 'output.rhythm_section'",
+                           accepted="only [rhythm_section] parts = [...] (output.rhythm_section = true "
+                                    "is the old spelling of parts = [\"bass\", \"drums\"])")
+    rhythm_section = read_rhythm_section(rs_table, legacy=output.rhythm_section)
     top.finish()
     return Project(path, title, slugify(title), tempo, meter, key, chain, rhythm_opts,
-                   harmony_opts, section, voicing_opts, output, layers, style.strip())
+                   harmony_opts, section, voicing_opts, output, layers, style.strip(), rhythm_section)
 
 
 def load_project(path: str | Path) -> Project:
