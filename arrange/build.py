@@ -161,9 +161,21 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
 
             data["layers"] = layers_data(layers)
             data["warnings"] = list(data["warnings"]) + layer_warnings(layers, data["events"])
+        if rhythm is not None:
+            data["rhythm_section"] = rhythm_data(rhythm)
         files[f"{slug}.report.json"] = report_json(data)
         files[f"{slug}.report.md"] = report_markdown(data)
     return files
+
+
+def rhythm_data(rhythm: RhythmSection) -> dict[str, object]:
+    """The report's ``rhythm_section``: its parts (names as the score writes them), the
+    bass style and instrument, and the drum part's fill bars."""
+    names = {"guitar": "Guitar", "piano": "Piano", "bass": "Bass", "drums": "Drums"}
+    return {"parts": [{"name": names[p], "role": p} for p in rhythm.parts],
+            "bass_style": rhythm.bass_style, "bass_instrument": rhythm.bass_instrument,
+            "bass_notes": len(rhythm.bass), "slashes": sum(1 for s in rhythm.comping if not s.rest),
+            "fills": list(rhythm.drums.fills) if rhythm.drums is not None else []}
 
 
 def _style(project: Project) -> str:
