@@ -253,8 +253,8 @@ def run_form(project: Any) -> tuple[Harmonized, VoicingOptions]:
     joined = join(built, project.meter)
     # a passage's voicing type goes to its statements (its pickup included)
     passage_of = {n.statement: k for k, n in _passage_notes(joined)}
-    by_statement = tuple((s, built[k][0].voicing) for s, k in sorted(passage_of.items())
-                         if built[k][0].voicing is not None)
+    by_statement = tuple((s, v) for s, k in sorted(passage_of.items())
+                         if (v := built[k][0].voicing) is not None)
     base: VoicingOptions = project.voicing
     return joined, replace(base, by_statement=by_statement + base.by_statement)
 

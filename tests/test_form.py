@@ -169,3 +169,57 @@ def test_form_melody_file_in_another_meter_is_refused(tmp_path: Path) -> None:
     r = run_cli("build", str(p), "-o", str(tmp_path / "out"))
     assert r.exit_code == 2 and "is in 3/4 but the form is in 4/4" in r.output, r.output
     assert snapshot(tmp_path / "out") == {}
+
+
+@pytest.fixture(scope="module")
+def lantern(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, dict]:
+    from conftest import DEMOS
+
+    folder = tmp_path_factory.mktemp("lantern")
+    (folder / "lantern-walk.musicxml").write_bytes((DEMOS / "lantern-walk.musicxml").read_bytes())
+    text = (DEMOS / "lantern-walk-soli.toml").read_text(encoding="utf-8").replace('"preview"', '"report"')
+    p = write_project(folder, text, "lantern-walk-soli.toml")
+    r = run_cli("build", str(p), "-o", str(folder / "out"))
+    assert r.exit_code == 0, r.output
+    return folder / "out", json.loads((folder / "out" / "lantern-walk-soli.report.json").read_text())
+
+
+def test_demo_aaba_tune_as_sax_soli_with_pad_and_turn(lantern: tuple[Path, dict]) -> None:
+    """The demo: our 32-bar AABA lead sheet (music21 reads it as the reference) as a saxophone
+    soli over a trombone pad, a designed four-statement turn, the last A a minor third up."""
+    from conftest import DEMOS
+    from music21 import converter, key, stream
+
+    out, report = lantern
+    source = converter.parse(str(DEMOS / "lantern-walk.musicxml")).parts[0]
+    src_measures = list(source.getElementsByClass(stream.Measure))
+    assert [m.number for m in src_measures] == list(range(0, 33))          # a pickup and 32 bars
+    assert len(source.flatten().getElementsByClass("ChordSymbol")) >= 40    # with its changes
+    assert [p["material"].split(" ")[0] for p in report["passages"]] == \
+        ["melody", "melody", "melody", "designed", "melody"]
+    assert report["section"]["name"] == "saxes-5"
+    assert [(la["section"], la["role"]) for la in report["layers"]] == [("trombones-4", "pad")]
+    events = report["events"]
+    # the last A: the file's bars 25-32, three semitones up, same rhythm (offsets from its first bar)
+    want = []
+    for m in src_measures[25:]:
+        for n in m.notes:
+            if n.isNote:
+                want.append((float(m.offset - src_measures[25].offset + n.offset), n.quarterLength,
+                             n.pitch.midi + 3))
+    last = [e for e in events if e["passage"] == 5]
+    start = (report["passages"][4]["first_bar"] - 1) * 4
+    assert [(e["onset"] - start, e["duration"], e["lead"]) for e in last] == want
+    # the turn: P RI P RI, its last P a minor third above its start
+    turn = [s for s in report["statements"] if s["notes"] and events[s["notes"][0]]["passage"] == 4]
+    assert [s["form"] for s in turn] == ["P", "RI", "P", "RI"]
+    first = events[turn[0]["notes"][0]]["lead"]
+    assert (events[turn[2]["notes"][0]]["lead"] - first) % 12 == 3
+    assert abs(first - events[turn[0]["notes"][0] - 1]["lead"]) <= 12
+    # music21 reads the new key (Db major, five flats) on the double bar of the last A
+    score = converter.parse(str(out / "lantern-walk-soli.musicxml"))
+    lead = score.parts[0].toSoundingPitch()
+    changes = [(m.number, ks.sharps) for m in lead.getElementsByClass(stream.Measure)
+               for ks in m.getElementsByClass(key.KeySignature)]
+    assert changes == [(0, -2), (report["passages"][4]["first_bar"], -5)]
+    assert len(score.parts) == 9                                   # five saxophones, four trombones

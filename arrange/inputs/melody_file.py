@@ -127,17 +127,11 @@ def parse_score(data: bytes, path: Path, where: str, what: str = "melody file") 
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
-            if fmt == "midi" or suffix == ".mxl":
-                if suffix == ".mxl" and not data.startswith(b"PK"):
-                    raise ValueError("not a compressed MusicXML archive")
-                if suffix == ".mxl":
-                    from music21.musicxml.xmlToM21 import MusicXMLImporter
-
-                    score = MusicXMLImporter().scoreFromFile(_unzip_mxl(data))
-                else:
-                    score = converter.parseData(data, format=fmt)
+            if fmt == "midi":
+                score = converter.parseData(data, format="midi")
             else:
-                score = converter.parseData(data.decode("utf-8", errors="strict"), format=fmt)
+                text = _unzip_mxl(data) if suffix == ".mxl" else data
+                score = converter.parseData(text.decode("utf-8", errors="strict"), format=fmt)
     except ProjectError:
         raise
     except Exception as err:  # noqa: BLE001 - any parser fault is bad input here
@@ -151,28 +145,24 @@ def parse_score(data: bytes, path: Path, where: str, what: str = "melody file") 
     return score
 
 
-def _unzip_mxl(data: bytes) -> Any:
-    """The root MusicXML of a .mxl archive, as a temporary path music21 can read (entities
-    refused as for .musicxml)."""
+def _unzip_mxl(data: bytes) -> bytes:
+    """The root MusicXML of a .mxl archive (entities refused as for .musicxml)."""
     import io
-    import tempfile
     import zipfile
 
+    if not data.startswith(b"PK"):
+        raise ValueError("not a compressed MusicXML archive")
     with zipfile.ZipFile(io.BytesIO(data)) as z:
         names = [n for n in z.namelist() if n.lower().endswith((".xml", ".musicxml"))
                  and not n.startswith("META-INF")]
         if not names:
             raise ValueError("no MusicXML inside")
-        info = z.getinfo(names[0])
-        if info.file_size > 20 * MAX_BYTES:
+        if z.getinfo(names[0]).file_size > 4 * MAX_BYTES:
             raise ValueError("archive member too large")
         inner = z.read(names[0])
     if _ENTITY.search(inner):
         raise ValueError("XML entities declared")
-    tmp = tempfile.NamedTemporaryFile(suffix=".musicxml", delete=False)
-    with tmp:
-        tmp.write(inner)
-    return tmp.name
+    return inner
 
 
 def parts_with_notes(score: Any) -> list[Any]:
