@@ -243,7 +243,10 @@ def _melody(p: Any, path: Path, where: str, bars: tuple[int, int] | None) -> Mel
         keep_pickup = lo == 1
         notes = [(on - start, min(dur, stop - on), pt) for on, dur, pt in notes
                  if (start <= on < stop) or (keep_pickup and on < 0)]
+        sounding = [cs for on, cs in chords if on <= start]      # the chord already sounding at the first bar
         chords = [(on - start, cs) for on, cs in chords if start <= on < stop or (keep_pickup and on < 0)]
+        if sounding and not keep_pickup and not any(on == 0 for on, _cs in chords):
+            chords.insert(0, (Fraction(-1, _GRID), sounding[-1]))
         if not notes:
             raise ProjectError(f"bars = \"{lo}-{hi}\" of melody file {str(path)!r} hold no notes",
                                where=where, accepted="a range of bars with melody notes")
