@@ -209,9 +209,16 @@ def project_from_data(data: dict[str, object], where: str, path: Path | None = N
         from arrange.material import check_lead_range
 
         check_lead_range(melody, section, top.at("melody"))
+    move = top.raw("transpose", None)
     top.finish()
-    return Project(path, title, slugify(title), tempo, meter, key, chain, rhythm_opts,
-                   harmony_opts, section, voicing_opts, output, layers, style.strip(), melody, passages)
+    project = Project(path, title, slugify(title), tempo, meter, key, chain, rhythm_opts,
+                      harmony_opts, section, voicing_opts, output, layers, style.strip(), melody, passages)
+    if move is None:
+        return project
+    from arrange.transpose import parse_target
+
+    at = top.at("transpose")
+    return transpose_project(project, parse_target(move, where=at), where=at)
 
 
 def _meter(top: Table, file_meter: str | None, source: str) -> rhythm.Meter:
@@ -234,6 +241,28 @@ def _harmony(top: Table, melody: Melody | None, meter: rhythm.Meter, where: str)
     from arrange.material import melody_harmony
 
     return melody_harmony(top.sub("harmony"), melody, meter, f"{where} melody")
+
+
+def transpose_project(project: Project, target: int | harmony.Key, *, where: str) -> Project:
+    """``project`` moved by semitones, or to a key in the octave nearest to no move that
+    keeps the lead in its practical range (:mod:`arrange.transpose`)."""
+    from dataclasses import replace
+
+    from arrange.transpose import move
+
+    c = project.chain
+    if c is None:
+        raise ProjectError("transpose moves a project's chain, and this project has "
+                           + ("a melody" if project.melody is not None else "passages"), where=where,
+                           accepted="transpose with a [chain]; a passage's melody takes transpose = SEMITONES "
+                                    "in its [[passages]] entry")
+    lead = project.section.lead
+    moved = move(project.key, (c.motif, c.statements, c.overlap, c.lead_range), project.harmony,
+                 (lead.name, lead.instrument.practical), target, where=where)
+    if moved.shift == 0 and moved.key == project.key:
+        return project
+    return replace(project, key=moved.key, harmony=moved.harmony,
+                   chain=replace(c, motif=moved.motif, lead_range=moved.lead_range))
 
 
 def load_project(path: str | Path) -> Project:
