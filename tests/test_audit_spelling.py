@@ -214,6 +214,8 @@ def built(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Built]:
         folder = tmp_path_factory.mktemp(re.sub(r"\W", "_", name))
         proj = folder / "p.toml"
         proj.write_text(text, encoding="utf-8")
+        if name.startswith("demo-"):
+            proj = DEMOS / f"{name[5:]}.toml"       # in place: a demo may read files beside it
         r = run_cli("build", str(proj), "-o", str(folder / "out"), *(
             ["--formats", "musicxml,report"] if name.startswith("demo-") else []))
         assert r.exit_code == 0, (name, r.output)
@@ -222,12 +224,15 @@ def built(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Built]:
         stem = report_path.name[: -len(".report.json")]
         report = json.loads(report_path.read_text(encoding="utf-8"))
         score = converter.parse(str(o / f"{stem}.musicxml"))
+        parts = _score_parts(report)
+        for extra in list(score.parts)[len(parts):]:     # the rhythm section's parts: not voiced here
+            score.remove(extra)
         chords = [(float(cs.offset), cs) for cs in
                   score.parts[0].flatten().getElementsByClass(harmony.ChordSymbol)]
         b = Built(name, o, "concert_score = true" in text, report,
                   (o / f"{stem}.report.md").read_text(encoding="utf-8"), score,
-                  score.toSoundingPitch(inPlace=False), _score_parts(report),
-                  sorted(o.glob(f"{stem}.part*.musicxml")), keys, chords)
+                  score.toSoundingPitch(inPlace=False), parts,
+                  sorted(o.glob(f"{stem}.part*.musicxml"))[:len(parts)], keys, chords)
         for k, f in enumerate(b.part_files):
             w = converter.parse(str(f))
             b.files.append((f.name, k, w, w.toSoundingPitch(inPlace=False)))
@@ -278,8 +283,8 @@ def _concert_key_by_bar(b: Built) -> dict[int, str]:
     text, _keys = PROJECTS[b.name]
     data = tomllib.loads(text)
     out = {1: data["key"]}
-    if data.get("harmony", {}).get("modulate") == "by-statement":
-        # keys the chain's transposition reaches (the report names them): simplest spelling
+    if data.get("harmony", {}).get("modulate") == "by-statement" or data.get("passages"):
+        # keys the chain's transposition or a form's passages reach (the report names them)
         out.update({k["bar"]: k["key"] for k in b.report["keys"]})
     for k in data.get("harmony", {}).get("keys", []):
         m = re.match(r"(.*?)\s+from\s+bar\s+(\d+)", k)
@@ -612,3 +617,28 @@ def test_seven_alt_is_accepted_and_voiced_from_the_altered_scale(tmp_path: Path)
                 if start <= float(n.offset) < nxt:
                     assert (n.pitch.pitchClass - cs.root().pitchClass) % 12 in {0, 1, 3, 4, 6, 8, 10}, \
                         (cs.figure, n.pitch.nameWithOctave)
+
+
+# ---------------------------------------------------------------- the rule itself
+
+
+def test_written_key_is_music21s_moved_key_with_the_fewer_accidentals() -> None:
+    """``theory.keys.written_key`` against music21's ``Key.transpose`` by each instrument's
+    interval, folded to the enharmonic key with fewer accidentals past 6 (circle of fifths)."""
+    from arrange.theory.keys import parse_key, written_key
+
+    for text in [f"{t} major" for t in MAJORS] + [f"{t} minor" for t in MINORS] + list(MODE_KEYS[:-2]):
+        for inst in [*TRANSPOSING, "trombone"]:
+            want = expected_sharps(text, inst, False)
+            got = written_key(parse_key(text), int(INSTRUMENTS[inst]["transposition"]))
+            assert got.fifths == want, (text, inst, str(got))
+
+
+def test_agree_gives_one_spelling_while_notes_sound_together() -> None:
+    from fractions import Fraction as F
+
+    from arrange.theory.written import agree
+
+    # the earlier note decides while both sound; a later one alone keeps its own name
+    got = agree([(F(0), F(2), 61, "C#4"), (F(1), F(3), 73, "Db5"), (F(3), F(4), 61, "Db4")])
+    assert got == ("C#4", "C#5", "Db4")

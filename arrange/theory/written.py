@@ -18,6 +18,7 @@ Names are ours (``Eb4``, ``F##5``), octaves go with the letter (``Cb4`` is B3's 
 """
 from __future__ import annotations
 
+from bisect import bisect_left, bisect_right
 from collections.abc import Sequence
 from fractions import Fraction
 from functools import lru_cache
@@ -144,15 +145,27 @@ def agree(notes: Sequence[tuple[Fraction, Fraction, int, str]]) -> tuple[str, ..
     """One spelling per pitch class at one moment: ``notes`` are ``(onset, end, midi,
     name)`` in order of precedence (the lead section's parts first, then the layers); a
     note that sounds together with an earlier one of its pitch class spelled otherwise takes
-    that spelling.  A tied note is one entry, so a tie never changes its spelling."""
-    fixed: dict[int, list[tuple[Fraction, Fraction, str]]] = {}
+    that spelling.  A tied note is one entry, so a tie never changes its spelling.  Each
+    pitch class keeps its notes sorted by onset, so a note looks only at those that can
+    overlap it (n log n for a whole score)."""
+    onsets: dict[int, list[Fraction]] = {}
+    placed: dict[int, list[tuple[Fraction, Fraction, str]]] = {}
+    longest: dict[int, Fraction] = {}
     out = []
     for onset, end, midi, name in notes:
+        pc = midi % 12
         pc_name = split_name(name)[0]
-        for o, e, other in fixed.get(midi % 12, ()):
+        starts = onsets.setdefault(pc, [])
+        here = placed.setdefault(pc, [])
+        lo = bisect_right(starts, onset - longest.get(pc, Fraction(0)))
+        hi = bisect_left(starts, end)
+        for o, e, other in here[lo:hi]:
             if o < end and onset < e and other != pc_name:
                 pc_name = other
                 break
-        fixed.setdefault(midi % 12, []).append((onset, end, pc_name))
+        at = bisect_right(starts, onset)
+        starts.insert(at, onset)
+        here.insert(at, (onset, end, pc_name))
+        longest[pc] = max(longest.get(pc, Fraction(0)), end - onset)
         out.append(_with_octave(pc_name, midi))
     return tuple(out)
