@@ -42,7 +42,7 @@ VOCABULARY = (
     "C", "Cm", "Cdim", "Caug", "Csus2", "Csus4", "C6", "C6/9", "Cmaj7", "Cm7", "Cm6", "Cm6/9",
     "Cm(maj7)", "C7", "Cm7b5", "Cdim7", "C7sus4", "C9", "C11", "C13", "Cmaj9", "Cmaj13",
     "Cm9", "Cm11", "Cm13", "Cm(maj9)", "C9sus4", "C13sus4", "C7b5", "C7#5", "C7b9", "C7#9",
-    "C7#11", "C7b13", "C7b9#11", "C7#9b13", "C7alt", "C13#11", "C9#11", "Cmaj7#11", "Cmaj7#5",
+    "C7#11", "C7b13", "C7b9#11", "C7#9b13", "C13#11", "C9#11", "Cmaj7#11", "Cmaj7#5",
     "Cmaj9#11", "C7/E", "Cm7/Bb", "Ebm9", "F#m7b5", "Bb13", "Db7#9", "Abmaj7/C", "Gb6/9",
 )
 
