@@ -270,7 +270,7 @@ def _beam_problems(path: Path, meter_text: str) -> list[str]:
             rows.sort(key=lambda r: r[0])
             group_of = []          # beam group number per beamable note
             current = -1
-            for on, d, n in rows:
+            for _on, d, n in rows:
                 if not isinstance(n, note.Note) or d > Q(1, 2) or n.duration.isGrace:
                     group_of.append(None)
                     continue
@@ -287,7 +287,7 @@ def _beam_problems(path: Path, meter_text: str) -> list[str]:
             for (on, d, _), g in zip(rows, group_of, strict=True):
                 if g is not None:
                     spans.setdefault(g, []).extend([on, on + d])
-            for g, ts in spans.items():
+            for ts in spans.values():
                 lo, hi = min(ts), max(ts)
                 if any(lo < edge < hi for edge in groups):
                     bad.append(f"{where}: a beam crosses a beat group ({float(lo)}-{float(hi)})")
