@@ -502,3 +502,25 @@ def test_parts_include_the_layer_parts(demo, musicxml_schema) -> None:
         assert heard == expected
         assert flat.getElementsByClass(expressions.RehearsalMark)
         assert flat.getElementsByClass(tempo.MetronomeMark)
+
+
+def test_sounding_scan_by_bisection_equals_the_plain_scan() -> None:
+    """The layer stage finds the lead notes under a layer chord by bisection; a plain scan
+    of every lead note (the definition of overlap) is the reference, for spans that start
+    before, inside, between and after the notes of a demo."""
+    from arrange.build import run_pipeline
+    from arrange.project import load_project
+    from arrange.voicing.layers import _sounding, _sounding_index
+
+    voiced = run_pipeline(load_project(DEMOS / "copper-coast-transition.toml"))
+    index = _sounding_index(voiced)
+    last = max(ve.event.note.onset + ve.event.note.duration for ve in voiced.events)
+    spans = [(Fraction(a, 4), Fraction(d, 4)) for a in range(-4, int(last * 4) + 8, 3) for d in (1, 2, 5, 16)]
+    for onset, dur in spans:
+        plain = []
+        for i, ve in enumerate(voiced.events):
+            n = ve.event.note
+            lo, hi = max(onset, n.onset), min(onset + dur, n.onset + n.duration)
+            if hi > lo:
+                plain.append((i, float((hi - lo) / dur), ve.pitches))
+        assert _sounding(voiced, onset, dur, index) == plain, (onset, dur)

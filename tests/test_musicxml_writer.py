@@ -426,15 +426,18 @@ def test_mido_reads_notes_programs_tempo_meter_and_swing(built) -> None:
 
 
 def test_a_build_that_reads_no_input_file_never_imports_music21(tmp_path: Path) -> None:
-    """music21 stays the reader of motif files; writing is our own (sys.modules is the
-    interpreter's record of what was imported)."""
+    """music21 stays the reader of motif files; writing is our own, and the PNG comes
+    without cairosvg (sys.modules is the interpreter's record of what was imported)."""
     proj = write_project(tmp_path, BASIC + '\n[output]\nformats = ["musicxml", "midi", "report", "preview"]\n')
     code = ("import sys\nfrom arrange.cli import main\n"
             "try:\n    main(['build', sys.argv[1], '-o', sys.argv[2], '--parts'])\n"
             "except SystemExit as e:\n    assert not e.code, e.code\n"
-            "print('music21' in sys.modules)\n")
+            "print('music21' in sys.modules, 'cairosvg' in sys.modules)\n")
     r = subprocess.run([sys.executable, "-c", code, str(proj), str(tmp_path / "out")],
                        capture_output=True, text=True, cwd=ROOT, timeout=300)
     assert r.returncode == 0, r.stderr[-2000:]
-    assert r.stdout.strip().splitlines()[-1] == "False"
-    assert list((tmp_path / "out").glob("*.musicxml")) and list((tmp_path / "out").glob("*.mid"))
+    assert r.stdout.strip().splitlines()[-1] == "False False"
+    out = tmp_path / "out"
+    assert list(out.glob("*.musicxml")) and list(out.glob("*.mid"))
+    # the preview's PNG from a renderer that needs no system library (PNG signature, ISO/IEC 15948)
+    assert next(out.glob("*.png")).read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"

@@ -2,9 +2,11 @@
 
 verovio (a general-purpose engraving library) lays the MusicXML out on pages;
 every page goes into one tall SVG, stacked top to bottom, so the whole
-passage is in one file.  ``png_bytes`` rasterises that SVG through cairosvg
-when it is installed.  Both imports are lazy: without verovio the preview is
-refused with a message that says how to get it.
+passage is in one file.  ``png_bytes`` rasterises that SVG through resvg (the
+``resvg-py`` wheel: a compiled renderer with no system library to install, unlike
+cairosvg, which needs the system's Cairo and silently lost the PNG on a machine without
+it).  Both imports are lazy: without verovio the preview is refused with a message that
+says how to get it.
 """
 from __future__ import annotations
 
@@ -40,12 +42,21 @@ def pages(musicxml: bytes) -> list[str]:
     if not tk.loadData(_for_engraver(musicxml)):
         raise OutputError("verovio could not read the score it was given", where="preview",
                           accepted="a MusicXML score")
-    return [_plain_text_glyphs(tk.renderToSVG(i)) for i in range(1, tk.getPageCount() + 1)]
+    return [_fonts(_plain_text_glyphs(tk.renderToSVG(i))) for i in range(1, tk.getPageCount() + 1)]
+
+
+# verovio names "Times, serif" for its text; a renderer takes the first family it has, so
+# the usual serif faces of Windows, macOS and Linux stand before the generic name
+_SERIF = "Times, 'Times New Roman', 'Liberation Serif', 'DejaVu Serif', 'Noto Serif', serif"
+
+
+def _fonts(svg: str) -> str:
+    return svg.replace('font-family="Times, serif"', f'font-family="{_SERIF}"')
 
 
 # SMuFL metronome notes (SMuFL 1.4, "Metronome marks" range) and the plain Unicode
 # music symbols that ordinary fonts carry: verovio writes them in its own music font,
-# which an SVG viewer or cairosvg does not have, so the tempo would show a blank box.
+# which an SVG viewer or a PNG renderer does not have, so the tempo would show a blank box.
 # The same for the accidentals verovio writes inside chord symbols (its text-flat
 # U+EA64, text-natural U+EA65, text-sharp U+EA66; and the standard SMuFL U+E260-E262).
 _METRONOME_NOTES = {"\ueca5": "\u2669", "\ueca7": "\u266a", "\ueca6": "\u2669",
@@ -107,14 +118,14 @@ def svg_bytes(musicxml: bytes) -> bytes:
 
 def have_png() -> bool:
     try:
-        import cairosvg  # noqa: F401
-    except (ImportError, OSError):
+        import resvg_py  # noqa: F401
+    except ImportError:
         return False
     return True
 
 
 def png_bytes(svg: bytes) -> bytes:
-    import cairosvg
+    import resvg_py
 
-    data: bytes = cairosvg.svg2png(bytestring=svg, background_color="white")
-    return data
+    data = resvg_py.svg_to_bytes(svg_string=svg.decode("utf-8"), background="white")
+    return bytes(data)
