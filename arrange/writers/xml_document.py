@@ -113,6 +113,6 @@ def document(title: str, version: str, kind: str, staves: list[StaffPart],
         part.extend(sp.staff.measures(_transpose(sp.staff.transpose)))
     ET.indent(root, space=" ")
     return (b'<?xml version="1.0" encoding="UTF-8"?>\n' + _DOCTYPE
-            + ET.tostring(root, encoding="utf-8", xml_declaration=False) + b"\n")
+            + ET.tostring(root, encoding="unicode").encode("utf-8") + b"\n")
 
 

@@ -16,6 +16,7 @@ from __future__ import annotations
 import xml.etree.ElementTree as ET
 from dataclasses import dataclass, field
 from fractions import Fraction
+from functools import lru_cache
 from math import lcm
 
 from arrange.rhythm.meter import Meter
@@ -127,6 +128,13 @@ def sub(parent: ET.Element, tag: str, value: object = None, /, **attrib: str) ->
     return el
 
 
+@lru_cache(maxsize=4096)
+def _cut(onset: Fraction, duration: Fraction, meter: Meter, pickup: Fraction) -> tuple[Piece, ...]:
+    """The notation pieces of one note, shared by every part that plays it (each part of a
+    section and each layer part cut the same onsets)."""
+    return tuple(pieces(onset, duration, meter, pickup=pickup))
+
+
 @dataclass(slots=True)
 class _Note:
     offset: Fraction
@@ -153,9 +161,9 @@ class Staff:
         self.notes = [[] for _ in range(n)]
         self.marks = [[] for _ in range(n)]
 
-    def cut(self, onset: Fraction, duration: Fraction) -> list[Piece]:
+    def cut(self, onset: Fraction, duration: Fraction) -> tuple[Piece, ...]:
         line = self.line
-        return pieces(onset, duration, line.meter, pickup=line.pickup)   # type: ignore[attr-defined]
+        return _cut(onset, duration, line.meter, line.pickup)   # type: ignore[attr-defined]
 
     def add_note(self, name: str, onset: Fraction, duration: Fraction, articulation: str = "") -> Piece:
         """A sounding spelled note; returns its first piece (where marks attach)."""
