@@ -441,3 +441,67 @@ def test_a_build_that_reads_no_input_file_never_imports_music21(tmp_path: Path) 
     assert list(out.glob("*.musicxml")) and list(out.glob("*.mid"))
     # the preview's PNG from a renderer that needs no system library (PNG signature, ISO/IEC 15948)
     assert next(out.glob("*.png")).read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+# ---------------------------------------------------------------------------------------------
+# preview: key signatures per staff
+
+
+def _mei_keys(mei: str) -> dict[int, dict[str, int]]:
+    """Staff -> {measure n: fifths in force} as verovio's own MEI says (MEI 4: a scoreDef's
+    keySig holds for every staff, a staffDef's for its staff)."""
+    import xml.etree.ElementTree as ET
+
+    ns = "{http://www.music-encoding.org/ns/mei}"
+
+    def fifths(sig: str) -> int:
+        return 0 if sig in ("0", "") else int(sig[:-1]) * (1 if sig.endswith("s") else -1)
+
+    root = ET.fromstring(mei)
+    current: dict[int, int] = {}
+    staves: list[int] = []
+    out: dict[int, dict[str, int]] = {}
+    for el in root.iter():
+        if el.tag == ns + "scoreDef":
+            ks = el.find(ns + "keySig")
+            if ks is not None:
+                for n in staves or current:
+                    current[n] = fifths(ks.get("sig", "0"))
+            for sd in el.iter(ns + "staffDef"):
+                n = int(sd.get("n", "0"))
+                if n not in staves:
+                    staves.append(n)
+                k = sd.find(ns + "keySig")
+                if k is not None:
+                    current[n] = fifths(k.get("sig", "0"))
+                elif ks is not None or n not in current:
+                    current.setdefault(n, current.get(n, 0))
+        elif el.tag == ns + "measure":
+            for n in staves:
+                out.setdefault(n, {})[el.get("n", "")] = current.get(n, 0)
+    return out
+
+
+def test_the_preview_draws_every_staff_in_its_own_key(built) -> None:
+    """verovio (its MEI, after the preview's engraving input) against music21's reading of
+    the MusicXML: the key signature in force on every staff in every measure."""
+    from music21 import key, stream
+
+    from arrange.writers import preview
+
+    checked = 0
+    for slug, (folder, report) in built.items():
+        path = folder / f"{slug}.musicxml"
+        xml = path.read_bytes()
+        tk = preview.toolkit_for(xml)                     # what the preview draws from
+        got = _mei_keys(tk.getMEI())
+        score = _m21(path)                                # music21 as the reference reader
+        for n, part in enumerate(score.parts, start=1):
+            sharps = None
+            for m in part.getElementsByClass(stream.Measure):
+                for ks in m.getElementsByClass(key.KeySignature):
+                    sharps = ks.sharps
+                assert got[n][str(m.number)] == sharps, (slug, n, m.number)
+                checked += 1
+        del report
+    assert checked

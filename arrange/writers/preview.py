@@ -14,7 +14,7 @@ import re
 
 from arrange.errors import OutputError
 
-__all__ = ["svg_bytes", "png_bytes", "have_png", "PAGE_WIDTH"]
+__all__ = ["svg_bytes", "png_bytes", "have_png", "PAGE_WIDTH", "toolkit_for", "per_staff_keys", "staff_keys"]
 
 PAGE_WIDTH = 2100      # verovio units (tenths of a mm): an A4 page width
 PAGE_HEIGHT = 2970
@@ -36,12 +36,22 @@ def _toolkit():  # noqa: ANN202
     return tk
 
 
-def pages(musicxml: bytes) -> list[str]:
-    """Each page of the score as an SVG document (verovio's layout)."""
+def toolkit_for(musicxml: bytes):  # noqa: ANN201
+    """A verovio toolkit holding the score as the preview draws it: every staff keeps its
+    own key signature at every key change (:func:`per_staff_keys`)."""
     tk = _toolkit()
     if not tk.loadData(_for_engraver(musicxml)):
         raise OutputError("verovio could not read the score it was given", where="preview",
                           accepted="a MusicXML score")
+    keys = staff_keys(musicxml)
+    if any(len(k) > 1 for k in keys.values()):
+        tk.loadData(per_staff_keys(tk.getMEI(), keys))
+    return tk
+
+
+def pages(musicxml: bytes) -> list[str]:
+    """Each page of the score as an SVG document (verovio's layout)."""
+    tk = toolkit_for(musicxml)
     return [_fonts(_plain_text_glyphs(tk.renderToSVG(i))) for i in range(1, tk.getPageCount() + 1)]
 
 
@@ -63,6 +73,42 @@ _METRONOME_NOTES = {"\ueca5": "\u2669", "\ueca7": "\u266a", "\ueca6": "\u2669",
                     "\uea64": "\u266d", "\uea65": "\u266e", "\uea66": "\u266f",
                     "\ue260": "\u266d", "\ue261": "\u266e", "\ue262": "\u266f"}
 _SMUFL_TEXT = re.compile(r'<tspan font-family="Leipzig" font-size="(\d+)px">([^<]*)</tspan>')
+
+
+def staff_keys(musicxml: bytes) -> dict[int, dict[str, int]]:
+    """Staff number (1-based, in part order) -> {measure number: fifths} of every key
+    signature our MusicXML writes."""
+    import xml.etree.ElementTree as ET
+
+    text = musicxml.decode("utf-8")
+    root = ET.fromstring(text[text.index("<score-partwise"):])
+    out: dict[int, dict[str, int]] = {}
+    for n, part in enumerate(root.iter("part"), start=1):
+        out[n] = {m.get("number", ""): int(m.findtext("attributes/key/fifths") or 0)
+                  for m in part.iter("measure") if m.find("attributes/key") is not None}
+    return out
+
+
+_KEY_CHANGE = re.compile(r'<scoreDef [^>]*>\s*<keySig [^>]*?mode="([^"]*)"[^>]*/>\s*</scoreDef>(\s*<measure [^>]*\bn="([^"]+)")')
+
+
+def per_staff_keys(mei: str, keys: dict[int, dict[str, int]]) -> str:
+    """verovio's MusicXML importer turns a key change into one signature for every staff
+    (the first part's; an open upstream limitation), so transposing staves would be drawn
+    in the wrong key.  Its own MEI is handed back with each such change written per staff:
+    a ``<scoreDef>`` whose ``<staffDef n=..>`` each carry the staff's ``<keySig>`` from
+    our MusicXML (MEI's way to change a definition for some staves only)."""
+    def fix(m: re.Match[str]) -> str:
+        mode, number = m.group(1), m.group(3)
+        defs = []
+        for n, by_measure in sorted(keys.items()):
+            if number in by_measure:
+                f = by_measure[number]
+                sig = f"{f}s" if f > 0 else f"{-f}f" if f < 0 else "0"
+                defs.append(f'<staffDef n="{n}"><keySig mode="{mode}" sig="{sig}"/></staffDef>')
+        return "<scoreDef><staffGrp>" + "".join(defs) + "</staffGrp></scoreDef>" + m.group(2)
+
+    return _KEY_CHANGE.sub(fix, mei)
 
 
 _DEGREE = re.compile(r"<degree print-object=\"no\">.*?</degree>\s*", re.S)
