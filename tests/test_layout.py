@@ -15,7 +15,7 @@ import pytest
 PKG = Path(__file__).resolve().parent.parent / "arrange"
 STAGES = ("theory", "chain", "rhythm", "harmony", "voicing")
 # the MusicXML writer's own modules; the other formats are one module each
-FORMATS = {"musicxml": {"musicxml", "xml_score", "xml_layers", "xml_document", "symbols"},
+FORMATS = {"musicxml": {"musicxml", "xml_score", "xml_layers", "xml_document", "xml_notation", "symbols"},
            "midi": {"midi", "rhythm_section"}, "report": {"report"}, "preview": {"preview"},
            "audio": {"audio"}}
 

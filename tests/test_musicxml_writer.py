@@ -62,7 +62,8 @@ def _meter_project(folder: Path, name: str) -> Path:
             .replace('meter = "4/4"', meter)
             .replace("statements = 4", "statements = 6")
             .replace("[harmony]", f"[rhythm]\n{rhythm}\n\n[harmony]")
-            + '\n[output]\nformats = ["musicxml", "midi", "report"]\n')
+            + '\n[output]\nformats = ["musicxml", "midi", "report"' + (', "preview"' if "12-8" in name else "")
+            + ']\n')
     return write_project(folder, text, f"{name}.toml")
 
 
@@ -505,3 +506,98 @@ def test_the_preview_draws_every_staff_in_its_own_key(built) -> None:
                 checked += 1
         del report
     assert checked
+
+
+# ---------------------------------------------------------------------------------------------
+# marks a player needs (issue 16), read back with music21
+
+
+def test_rehearsal_letters_four_bars_apart_never_on_the_pickup_or_the_tempo_mark(built) -> None:
+    """Common practice: letters where a rehearsal restarts, at least four bars apart."""
+    from music21 import expressions, stream, tempo
+
+    for path, _, ks in _files(built):
+        part = _m21(path).parts[0]
+        bars = []
+        for m in part.getElementsByClass(stream.Measure):
+            if m.getElementsByClass(expressions.RehearsalMark):
+                assert m.number >= 1, path.name                  # never on a pickup (measure 0)
+                assert not m.getElementsByClass(tempo.MetronomeMark), path.name
+                bars.append(m.number)
+        assert all(b - a >= 4 for a, b in zip(bars, bars[1:], strict=False)), (path.name, bars)
+        del ks
+
+
+def test_no_dynamic_restated_without_a_change_or_a_rest_of_a_bar(built) -> None:
+    from music21 import dynamics, note
+
+    for path, report, _ in _files(built):
+        num, den = (int(x) for x in report["rhythm"]["written_meter"].split("/"))
+        bar = Q(4 * num, den)
+        for part in _m21(path).parts:
+            current, last_end = None, None
+            for el in part.flatten().getElementsByClass((note.Note, dynamics.Dynamic)):
+                on = Q(el.getOffsetInHierarchy(part)).limit_denominator(96)
+                if isinstance(el, dynamics.Dynamic):
+                    if el.value == current:
+                        assert last_end is not None and on - last_end >= bar, (path.name, part.id, float(on))
+                    current = el.value
+                else:
+                    last_end = on + Q(el.quarterLength).limit_denominator(96)
+
+
+def test_every_key_change_stands_after_a_double_bar(built) -> None:
+    from music21 import key, stream
+
+    changes = 0
+    for path, _, _ in _files(built):
+        for part in _m21(path).parts:
+            measures = list(part.getElementsByClass(stream.Measure))
+            for before, m in zip(measures, measures[1:], strict=False):
+                if m.getElementsByClass(key.KeySignature):
+                    changes += 1
+                    bl = before.rightBarline
+                    assert bl is not None and bl.type == "double", (path.name, part.id, m.number)
+    assert changes        # the demos modulate
+
+
+def test_analysis_labels_in_the_score_only(built) -> None:
+    """The analysis demo (an educator's copy) labels its statements in the score; its
+    players' parts carry none."""
+    from music21 import expressions
+
+    label = re.compile(r"\d+\. (P|RI) [+-]\d+")
+    with_labels = []
+    for path, _, ks in _files(built):
+        words = [t.content for p in _m21(path).parts
+                 for t in p.flatten().getElementsByClass(expressions.TextExpression)]
+        if any(label.fullmatch(w) for w in words):
+            with_labels.append(path.name)
+            assert len(ks) > 1 or ".part" not in path.name, path.name
+    assert with_labels and not any(".part" in n for n in with_labels)
+
+
+def test_the_dotted_beat_of_a_12_8_tempo_mark_in_plain_glyphs(built) -> None:
+    folder, _ = built["shuffle-12-8"]
+    svg = (folder / "shuffle-12-8.svg").read_text()
+    # verovio writes the metronome in SMuFL (U+ECA5 quarter, U+ECB7 augmentation dot), which
+    # viewers without its font draw as boxes; the preview shows the Unicode quarter note and a dot
+    assert "\u2669." in svg and "\uecb7" not in svg
+
+
+def test_a_concert_score_puts_low_transposing_parts_in_bass_clef(tmp_path: Path) -> None:
+    """At concert pitch tenor and baritone saxophone sound below the treble staff; their
+    staves take the bass clef when it needs fewer ledger lines (common practice)."""
+    from music21 import clef
+
+    text = ((DEMOS / "night-ferry-soli.toml").read_text().replace("[output]", "[output]\nconcert_score = true")
+            .replace('lead_range = ["E4", "G5"]', 'lead_range = ["Bb3", "D5"]'))      # a lower soli
+    proj = write_project(tmp_path, text, "nf.toml")
+    r = run_cli("build", str(proj), "-o", str(tmp_path / "o"), "--formats", "musicxml")
+    assert r.exit_code == 0, r.output
+    score = _m21(tmp_path / "o" / "night-ferry-soli.musicxml")
+    clefs = {p.partName: p.flatten().getElementsByClass(clef.Clef)[0] for p in score.parts}
+    assert isinstance(clefs["Baritone Sax"], clef.BassClef)
+    assert isinstance(clefs["Alto Sax 1"], clef.TrebleClef)
+    lows = [n.pitch.midi for n in score.parts[-1].flatten().notes]
+    assert sum(p < 60 for p in lows) > len(lows) / 2       # the baritone sounds mostly below middle C

@@ -15,7 +15,7 @@ from arrange.theory.dynamics import DYNAMICS
 from arrange.voicing.sections import Section
 from arrange.voicing.voicer import Voiced
 
-__all__ = ["DYNAMICS", "dynamic_of", "entrances", "rehearsal_letter", "rehearsal_bars", "statement_label",
+__all__ = ["DYNAMICS", "dynamic_of", "entrances", "rehearsal_letter", "rehearsal_plan", "REHEARSAL_GAP", "statement_label",
            "family", "part_groups", "words", "dynamic", "rehearsal", "metronome", "credits"]
 
 def dynamic_of(statement: int, dynamics: tuple[str, ...]) -> str:
@@ -24,35 +24,43 @@ def dynamic_of(statement: int, dynamics: tuple[str, ...]) -> str:
 
 
 def entrances(voiced: Voiced, dynamics: tuple[str, ...]) -> list[tuple[int, str]]:
-    """(event index, dynamic) wherever a dynamic is printed: the first note, every
-    note after a rest (an entrance), and every note where the dynamic changes."""
+    """(event index, dynamic) wherever a dynamic is printed: the first note, the first
+    note after a rest of a bar or more (an entrance a player counts in), and every note
+    where the level changes (common practice: a dynamic holds until a new one; a short
+    rest inside a phrase does not restate it)."""
+    bar = voiced.harmonized.line.meter.bar
     out: list[tuple[int, str]] = []
     prev_end: Fraction | None = None
     current = None
     for i, ve in enumerate(voiced.events):
         n = ve.event.note
         dyn = dynamic_of(n.statement, dynamics)
-        after_rest = prev_end is None or n.onset > prev_end
-        if after_rest or dyn != current:
+        entrance = prev_end is None or n.onset - prev_end >= bar
+        if entrance or dyn != current:
             out.append((i, dyn))
             current = dyn
         prev_end = n.onset + n.duration
     return out
 
 
-def rehearsal_bars(voiced: Voiced, measure_of: Any) -> dict[int, str]:
-    """Measure index -> letter: a rehearsal letter on the bar line of each bar where a
-    statement starts (common practice puts letters on bar lines; a statement that starts
-    mid-bar is named by the letter of its bar, its exact note by the analysis label).
-    ``measure_of(i)`` is the written measure where lead note ``i`` starts."""
-    starts = {st.start for st in voiced.harmonized.line.chain.statements}
+REHEARSAL_GAP = 4      # bars at least between two rehearsal letters (common practice)
+
+
+def rehearsal_plan(voiced: Voiced) -> dict[int, str]:
+    """Bar (1-based) -> letter.  A letter stands on the bar line of a bar where a
+    statement (a phrase of the chain) starts, never on the pickup nor on bar 1 under
+    the tempo mark, and at least ``REHEARSAL_GAP`` bars after the start or the last
+    letter (common practice: letters mark the places a rehearsal restarts from, not
+    every phrase).  Statement numbers belong to ``--analysis``."""
+    line = voiced.harmonized.line
+    starts = sorted({line.bar_of(voiced.events[st.start].event.note.onset)
+                     for st in line.chain.statements if st.start < len(voiced.events)})
     letters: dict[int, str] = {}
-    for i in sorted(starts):
-        if i >= len(voiced.events):
-            continue
-        m_i = measure_of(i)
-        if m_i not in letters:
-            letters[m_i] = rehearsal_letter(len(letters) + 1)
+    last = 1
+    for bar in starts:
+        if bar > 1 and bar - last >= REHEARSAL_GAP:
+            letters[bar] = rehearsal_letter(len(letters) + 1)
+            last = bar
     return letters
 
 

@@ -25,6 +25,7 @@ from arrange.writers.xml_score import (
     Interval,
     ScoreInfo,
     Staff,
+    concert_clef,
     interval_of,
     part_abbreviation,
     split_name,
@@ -66,7 +67,10 @@ def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, symbols_ivl:
     line = h.line
     part = voiced.section.parts[k]
     ivl = interval_of(part.instrument, info.concert)
-    staff = Staff(line, written_keys(h, ivl), part.instrument.clef, ivl)
+    clef = part.instrument.clef
+    if info.concert and part.instrument.transposition:
+        clef = concert_clef(clef, [ve.pitches[k] for ve in voiced.events])
+    staff = Staff(line, written_keys(h, ivl), clef, ivl)
     bar_len = line.meter.bar
     pitches = [ve.pitches[k] for ve in voiced.events]
     firsts = []
@@ -86,9 +90,10 @@ def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, symbols_ivl:
         staff.add_mark(firsts[i].measure, firsts[i].offset, 4, marks.dynamic(dyn))
     if lead:
         heading(staff, info, line)
-        for m_i, letter in marks.rehearsal_bars(voiced, lambda i: firsts[i].measure).items():
-            staff.add_mark(m_i, Fraction(0), 0, marks.rehearsal(letter))
-    if lead and info.analysis:
+        shift = 1 if line.pickup else 0
+        for bar, letter in marks.rehearsal_plan(voiced).items():
+            staff.add_mark(bar - 1 + shift, Fraction(0), 0, marks.rehearsal(letter))
+    if lead and info.analysis and info.only_part is None:     # analysis: the score only, never a part
         _analysis(staff, voiced, firsts)
     return staff
 

@@ -71,7 +71,8 @@ def _fonts(svg: str) -> str:
 # U+EA64, text-natural U+EA65, text-sharp U+EA66; and the standard SMuFL U+E260-E262).
 _METRONOME_NOTES = {"\ueca5": "\u2669", "\ueca7": "\u266a", "\ueca6": "\u2669",
                     "\uea64": "\u266d", "\uea65": "\u266e", "\uea66": "\u266f",
-                    "\ue260": "\u266d", "\ue261": "\u266e", "\ue262": "\u266f"}
+                    "\ue260": "\u266d", "\ue261": "\u266e", "\ue262": "\u266f",
+                    "\uecb7": ".", " ": ""}     # the metronome's augmentation dot (a dotted beat)
 _SMUFL_TEXT = re.compile(r'<tspan font-family="Leipzig" font-size="(\d+)px">([^<]*)</tspan>')
 
 

@@ -15,34 +15,37 @@ from arrange.voicing.layers import VoicedLayer
 from arrange.voicing.voicer import Voiced
 from arrange.writers import marks
 from arrange.writers.xml_document import StaffPart, document, heading, written_keys
-from arrange.writers.xml_score import ScoreInfo, Staff, interval_of
+from arrange.writers.xml_score import ScoreInfo, Staff, concert_clef, interval_of
 
 __all__ = ["layer_staves", "layer_part_bytes"]
 
 
 def _staff(voiced: Voiced, vl: VoicedLayer, k: int, info: ScoreInfo, concert: bool) -> Staff:
     """Layer part ``k``: notes spelled, key signatures changed and accidentals printed as
-    in the lead section's parts; a hit accented; the dynamic at every entrance."""
+    in the lead section's parts; a hit accented; the dynamic at the first note and after
+    every rest of a bar or more."""
     h = voiced.harmonized
     part = vl.layer.section.parts[k]
     ivl = interval_of(part.instrument, concert)
-    staff = Staff(h.line, written_keys(h, ivl), part.instrument.clef, ivl)
+    clef = part.instrument.clef
+    if concert and part.instrument.transposition:
+        clef = concert_clef(clef, [p for n in vl.notes if (p := n.pitches[k]) is not None])
+    staff = Staff(h.line, written_keys(h, ivl), clef, ivl)
     bar_len = h.line.meter.bar
     voice = [n.pitches[k] for n in vl.notes]
-    entered = False
+    last_end: Fraction | None = None
     for i, n in enumerate(vl.notes):
         here = voice[i]
         if here is None:             # the part rests through a thinned chord
-            entered = False
             continue
-        if i and vl.notes[i - 1].onset + vl.notes[i - 1].duration < n.onset:
-            entered = False          # a rest of the rhythm: the dynamic again at the re-entrance
+        # the dynamic at the first note and again after a rest of a bar or more (as the lead's)
+        entered = last_end is not None and n.onset - last_end < bar_len
+        last_end = n.onset + n.duration
         way = direction_of(voice[i - 1] if i else None, here, voice[i + 1] if i + 1 < len(voice) else None)
         name = spell_pitch(here, h.key_at(int(n.onset // bar_len) + 1), n.chord, way)
         first = staff.add_note(name, n.onset, n.duration, "accent" if vl.layer.role == "hits" else "")
         if not entered:
             staff.add_mark(first.measure, first.offset, 4, marks.dynamic(vl.layer.dynamics))
-            entered = True
     del info
     return staff
 
@@ -67,13 +70,8 @@ def layer_part_bytes(voiced: Voiced, info: ScoreInfo, layers: tuple[VoicedLayer,
     writes the lead section's: the part alone, with the tempo, style word and
     rehearsal letters a player needs, and its own name on the first page."""
     line = voiced.harmonized.line
-    starts = [ve.event.note for ve in voiced.events]
-
-    def measure_of(i: int) -> int:
-        n = starts[i]
-        return Staff(line, ((0, ""),) * line.measures, "treble").cut(n.onset, n.duration)[0].measure
-
-    letters = marks.rehearsal_bars(voiced, measure_of)
+    shift = 1 if line.pickup else 0
+    letters = {bar - 1 + shift: letter for bar, letter in marks.rehearsal_plan(voiced).items()}
     out = []
     index = len(voiced.section.parts)
     for vl in layers:

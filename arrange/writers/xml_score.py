@@ -21,9 +21,10 @@ from math import lcm
 
 from arrange.rhythm.meter import Meter
 from arrange.rhythm.notation import Piece, is_triplet, pieces
+from arrange.writers.xml_notation import TYPES, accidentals, beams, signature_alters, split_name, tuplets
 
 __all__ = ["ScoreInfo", "Staff", "Interval", "interval_of", "transpose_name", "split_name",
-           "signature_alters", "part_abbreviation", "sub", "_INTERVALS"]
+           "signature_alters", "part_abbreviation", "sub", "concert_clef", "_INTERVALS"]
 
 Q = Fraction
 _INTERVALS = {"unison": "P1", "major second": "M2", "minor third": "m3", "perfect fourth": "P4",
@@ -33,11 +34,6 @@ _INTERVALS = {"unison": "P1", "major second": "M2", "minor third": "m3", "perfec
               "minor tenth": "m10", "perfect twelfth": "P12"}
 _STEPS = "CDEFGAB"
 _NATURAL = {"C": 0, "D": 2, "E": 4, "F": 5, "G": 7, "A": 9, "B": 11}
-# note values (quarter notes) -> MusicXML <type> and dots (MusicXML 4.0 note-type-value)
-_TYPES = {Q(4): ("whole", 0), Q(2): ("half", 0), Q(1): ("quarter", 0), Q(1, 2): ("eighth", 0),
-          Q(1, 4): ("16th", 0), Q(1, 8): ("32nd", 0), Q(6): ("whole", 1), Q(3): ("half", 1),
-          Q(3, 2): ("quarter", 1), Q(3, 4): ("eighth", 1), Q(3, 8): ("16th", 1), Q(3, 16): ("32nd", 1)}
-_BEAMS = {"eighth": 1, "16th": 2, "32nd": 3}
 _ACCIDENTALS = {-2: "flat-flat", -1: "flat", 0: "natural", 1: "sharp", 2: "double-sharp"}
 _CLEFS = {"treble": ("G", 2, 0), "bass": ("F", 4, 0), "alto": ("C", 3, 0), "tenor": ("C", 4, 0),
           "treble8vb": ("G", 2, -1)}
@@ -80,15 +76,6 @@ def interval_of(instrument, concert: bool = False) -> Interval:  # noqa: ANN001
     return Interval(sign * (number - 1), instrument.transposition)
 
 
-def split_name(name: str) -> tuple[str, int, int]:
-    """``Eb4`` -> ("E", -1, 4); the octave goes with the letter (``Cb4`` is B3's key)."""
-    i, alter = 1, 0
-    while i < len(name) and name[i] in "b#":
-        alter += 1 if name[i] == "#" else -1
-        i += 1
-    return name[0], alter, int(name[i:]) if i < len(name) else 4
-
-
 def transpose_name(name: str, ivl: Interval) -> str:
     """A spelled name (with or without octave) moved by ``ivl``, keeping the letter
     distance: Bb3 up a major second is C4, F# up a major sixth is D#."""
@@ -102,12 +89,6 @@ def transpose_name(name: str, ivl: Interval) -> str:
     diff = midi - (12 * (new_octave + 1) + _NATURAL[new_step])
     acc = "#" * diff if diff > 0 else "b" * -diff
     return new_step + acc + (str(new_octave) if has_octave else "")
-
-
-def signature_alters(fifths: int) -> dict[str, int]:
-    """The alteration a key signature of ``fifths`` gives each letter (sharps F C G ...)."""
-    order = "FCGDAEB"
-    return {x: 1 for x in order[:fifths]} if fifths >= 0 else {x: -1 for x in order[::-1][:-fifths]}
 
 
 def part_abbreviation(part) -> str:  # noqa: ANN001
@@ -126,6 +107,25 @@ def sub(parent: ET.Element, tag: str, value: object = None, /, **attrib: str) ->
     if value is not None:
         el.text = str(value)
     return el
+
+
+def _ledger_steps(pitches: list[int], low: int, high: int) -> int:
+    """How far (in semitones) the notes stand outside a staff running ``low``..``high``
+    with one ledger line of grace either side: a proxy for the ledger lines a player reads."""
+    return sum(max(0, low - 3 - p) + max(0, p - high - 3) for p in pitches)
+
+
+def concert_clef(clef: str, pitches: list[int]) -> str:
+    """The clef of a transposing part in a concert score: written in treble for its
+    players, at concert pitch a low instrument (tenor and baritone saxophone, bass
+    clarinet) would sit under the treble staff; it takes the bass clef when its notes
+    need fewer ledger lines there (common practice of concert scores: each staff in
+    the clef its sounding range reads best in; staves E4-F5 treble, G2-A3 bass)."""
+    if clef != "treble" or not pitches:
+        return clef
+    treble = _ledger_steps(pitches, 64, 77)
+    bass = _ledger_steps(pitches, 43, 57)
+    return "bass" if bass < treble else clef
 
 
 @lru_cache(maxsize=4096)
@@ -169,6 +169,10 @@ class Staff:
         """A sounding spelled note; returns its first piece (where marks attach)."""
         written = transpose_name(name, self.transpose)
         cut = self.cut(onset, duration)
+        while cut[-1].measure >= len(self.notes):     # a note past the line's last bar
+            self.notes.append([])
+            self.marks.append([])
+            self.keys = (*self.keys, self.keys[-1])
         for j, pc in enumerate(cut):
             self.notes[pc.measure].append(_Note(pc.offset, pc.duration, written, pc.tie_start, pc.tie_stop,
                                                 articulation if j == 0 else ""))
@@ -220,9 +224,9 @@ class Staff:
                 self._key(sub(m, "attributes"), self.keys[m_i])
             notes.sort(key=lambda n: n.offset)
             start = meter.bar - pickup if shift and m_i == 0 else Q(0)   # bar position of offset 0
-            beams = _beams(notes, meter, start)
-            accidentals = _accidentals(notes, self.keys[m_i][0])
-            tuplets = _tuplets(notes)
+            beamed = beams(notes, meter, start)
+            shown = accidentals(notes, self.keys[m_i][0])
+            brackets = tuplets(notes)
             pending = sorted(self.marks[m_i], key=lambda x: (x[0], x[1]))
             for i, n in enumerate(notes):
                 while pending and pending[0][0] < n.offset + n.duration:
@@ -230,8 +234,11 @@ class Staff:
                     if off > n.offset:
                         _offset(el, (off - n.offset) * div)
                     m.append(el)
-                self._note(m, n, div, beams.get(i, ()), accidentals.get(i), tuplets.get(i))
+                self._note(m, n, div, beamed.get(i, ()), shown.get(i), brackets.get(i))
             m.extend(el for _, _, el in pending)
+            if m_i + 1 < len(self.notes) and self.keys[m_i + 1] != self.keys[m_i]:
+                # a new key signature follows a double bar line (common practice of engraving)
+                sub(sub(m, "barline", location="right"), "bar-style", "light-light")
             out.append(m)
         bl = sub(out[-1], "barline", location="right")
         sub(bl, "bar-style", "light-heavy")
@@ -282,7 +289,7 @@ class Staff:
             sub(el, "tie", type="start")
         triplet = is_triplet(n.duration)
         value = n.duration * 3 / 2 if triplet else n.duration
-        kind = _TYPES.get(value)
+        kind = TYPES.get(value)
         if kind is not None and not n.whole_bar:
             sub(el, "type", kind[0])
             for _ in range(kind[1]):
@@ -318,104 +325,3 @@ def _offset(el: ET.Element, divisions: Fraction) -> None:
             at = i
             break
     el.insert(at, off)
-
-
-def _accidentals(notes: list[_Note], fifths: int) -> dict[int, int]:
-    """Index -> printed accidental: only where the key signature and the measure so far
-    do not already give the note's alteration (common practice of engraving: an accidental
-    holds to the bar line for its line or space); a tied-over note never shows one."""
-    sig = signature_alters(fifths)
-    shown: dict[tuple[str, int], int] = {}
-    out = {}
-    for i, n in enumerate(notes):
-        if n.name is None:
-            continue
-        step, alter, octave = split_name(n.name)
-        if alter != shown.get((step, octave), sig.get(step, 0)) and not n.tie_stop:
-            out[i] = alter
-        shown[(step, octave)] = alter
-    return out
-
-
-def _tuplets(notes: list[_Note]) -> dict[int, str]:
-    """Bracket each run of triplet values that fills a beat division (3 in the time of 2)."""
-    out: dict[int, str] = {}
-    run: list[int] = []
-    total = Q(0)
-    for i, n in enumerate(notes):
-        if not is_triplet(n.duration):
-            run, total = [], Q(0)
-            continue
-        run.append(i)
-        total += n.duration
-        if total in (Q(1, 2), Q(1), Q(2)):
-            out[run[0]] = "start"
-            out[run[-1]] = "stop"
-            run, total = [], Q(0)
-    return out
-
-
-def beat_units(meter: Meter) -> list[Fraction]:
-    """Bar positions that end a beam: the meter's beats (common notation practice: beams
-    show the beat; 6/8 and 12/8 in dotted quarters, 7/8 as 2+2+3 eighths)."""
-    return [*meter.beats[1:], meter.bar]
-
-
-def _beams(notes: list[_Note], meter: Meter, start: Fraction) -> dict[int, tuple[tuple[int, str], ...]]:
-    """Index -> ((level, begin|continue|end|forward hook|backward hook), ...) for the
-    notes of one measure.  Beamable notes (eighths and shorter) that follow each other
-    inside one beat are beamed; in 4/4 a half bar of four plain eighths is one group
-    (common practice), never across the middle of the bar."""
-    units = beat_units(meter)
-    if str(meter) == "4/4":
-        halves = []
-        for lo, hi in ((Q(0), Q(2)), (Q(2), Q(4))):
-            inside = [n for n in notes if lo <= start + n.offset < hi]
-            if len(inside) == 4 and all(n.name is not None and n.duration == Q(1, 2) for n in inside):
-                halves.append(lo + 1)
-        units = [u for u in units if u not in halves]
-
-    def unit_of(pos: Fraction) -> int:
-        return next(k for k, u in enumerate(units) if pos < u)
-
-    groups: list[list[int]] = []
-    prev_unit = None
-    for i, n in enumerate(notes):
-        value = n.duration * 3 / 2 if is_triplet(n.duration) else n.duration
-        kind = _TYPES.get(value)
-        if n.name is None or kind is None or kind[0] not in _BEAMS:
-            prev_unit = None
-            continue
-        u = unit_of(start + n.offset)
-        end_u = unit_of(start + n.offset + n.duration - Q(1, 96))
-        if u != end_u:
-            prev_unit = None
-            continue
-        if prev_unit == u and groups and groups[-1][-1] == i - 1:
-            groups[-1].append(i)
-        else:
-            groups.append([i])
-        prev_unit = u
-    out: dict[int, tuple[tuple[int, str], ...]] = {}
-    for g in groups:
-        if len(g) < 2:
-            continue
-        counts = []
-        for i in g:
-            d = notes[i].duration
-            counts.append(_BEAMS[_TYPES[d * 3 / 2 if is_triplet(d) else d][0]])
-        for pos, i in enumerate(g):
-            levels = []
-            for level in range(1, counts[pos] + 1):
-                before = pos > 0 and counts[pos - 1] >= level
-                after = pos + 1 < len(g) and counts[pos + 1] >= level
-                if before and after:
-                    levels.append((level, "continue"))
-                elif after:
-                    levels.append((level, "begin"))
-                elif before:
-                    levels.append((level, "end"))
-                else:
-                    levels.append((level, "forward hook" if pos == 0 else "backward hook"))
-            out[i] = tuple(levels)
-    return out
