@@ -248,6 +248,8 @@ def test_music21_reads_the_chord_symbols_of_every_event(built) -> None:
         for e in report["events"]:
             on = (Q(e["onset"]).limit_denominator(96) + pickup) * _scale(report)
             last = [s for o, s in syms if o <= on]
+            if not last and e["onset"] < 0:
+                continue         # a pickup under bar 1's chord: the symbol stands over bar 1
             assert last and last[-1] == e["chord"], (path.name, e["index"], last[-1:], e["chord"])
 
 
@@ -346,7 +348,9 @@ def test_partitura_reads_the_same_written_notes(built) -> None:
                          for o, d, p in zip(na["onset_quarter"], na["duration_quarter"], na["pitch"], strict=True))
             # partitura gives written pitch: sounding + the instrument's transposition
             semis = info[k]["transposition"] if len(ks) == 1 or _transposed(path) else 0
-            want = [(o * _scale(report), d * _scale(report), p + semis) for o, d, p in _sounding_notes(report, k)]
+            # partitura counts time from bar 1's downbeat (a pickup at negative times), as the report
+            pickup = Q(report["rhythm"]["pickup"]).limit_denominator(96)
+            want = [(o - pickup, d, p + semis) for o, d, p in _sounding_notes(report, k)]
             assert got == want, (path.name, k)
 
 
@@ -516,16 +520,18 @@ def test_rehearsal_letters_four_bars_apart_never_on_the_pickup_or_the_tempo_mark
     """Common practice: letters where a rehearsal restarts, at least four bars apart."""
     from music21 import expressions, stream, tempo
 
-    for path, _, ks in _files(built):
+    for path, report, _ in _files(built):
+        form = bool(report.get("passages"))       # a form's sections each take their letter
         part = _m21(path).parts[0]
         bars = []
         for m in part.getElementsByClass(stream.Measure):
             if m.getElementsByClass(expressions.RehearsalMark):
                 assert m.number >= 1, path.name                  # never on a pickup (measure 0)
-                assert not m.getElementsByClass(tempo.MetronomeMark), path.name
+                assert form or not m.getElementsByClass(tempo.MetronomeMark), path.name
                 bars.append(m.number)
-        assert all(b - a >= 4 for a, b in zip(bars, bars[1:], strict=False)), (path.name, bars)
-        del ks
+        # a form's passages each take their letter however short (issue 17); letters of phrases
+        # four bars apart or more
+        assert form or all(b - a >= 4 for a, b in zip(bars, bars[1:], strict=False)), (path.name, bars)
 
 
 def test_no_dynamic_restated_without_a_change_or_a_rest_of_a_bar(built) -> None:

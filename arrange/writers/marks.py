@@ -51,10 +51,13 @@ def rehearsal_plan(voiced: Voiced) -> dict[int, str]:
     statement (a phrase of the chain) starts, never on the pickup nor on bar 1 under
     the tempo mark, and at least ``REHEARSAL_GAP`` bars after the start or the last
     letter (common practice: letters mark the places a rehearsal restarts from, not
-    every phrase).  Statement numbers belong to ``--analysis``."""
+    every phrase).  A form's passages are its sections: each takes a letter.  Statement
+    numbers belong to ``--analysis``."""
     line = voiced.harmonized.line
+    if line.passages:      # a form: a letter at each passage, on its first bar line (a section)
+        return {p.first_bar: rehearsal_letter(k) for k, p in enumerate(line.passages, start=1)}
     starts = sorted({line.bar_of(voiced.events[st.start].event.note.onset)
-                     for st in line.chain.statements if st.start < len(voiced.events)})
+                     for st in line.segments if st.start < len(voiced.events)})
     letters: dict[int, str] = {}
     last = 1
     for bar in starts:
@@ -70,7 +73,10 @@ def rehearsal_letter(k: int) -> str:
 
 
 def statement_label(st: Any) -> str:
-    """'2. RI +9': statement number, form and transposition from statement 1."""
+    """'2. RI +9': statement number, form and transposition from statement 1 ('3. melody'
+    for a melody)."""
+    if st.form == "melody":
+        return f"{st.index}. melody"
     return f"{st.index}. {st.form} {st.transposition:+d}"
 
 

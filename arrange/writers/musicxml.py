@@ -19,7 +19,7 @@ from arrange.theory.spelling import direction_of, spell_pitch
 from arrange.voicing.voicer import Voiced
 from arrange.writers import marks
 from arrange.writers.symbols import harmony_parts
-from arrange.writers.xml_document import StaffPart, document, heading, swing_ratio, written_keys  # noqa: F401
+from arrange.writers.xml_document import StaffPart, document, heading, passage_bars, swing_ratio, written_keys  # noqa: F401
 from arrange.writers.xml_layers import layer_staves
 from arrange.writers.xml_score import (
     Interval,
@@ -70,7 +70,7 @@ def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, symbols_ivl:
     clef = part.instrument.clef
     if info.concert and part.instrument.transposition:
         clef = concert_clef(clef, [ve.pitches[k] for ve in voiced.events])
-    staff = Staff(line, written_keys(h, ivl), clef, ivl)
+    staff = Staff(line, written_keys(h, ivl), clef, ivl, passage_bars(line))
     bar_len = line.meter.bar
     pitches = [ve.pitches[k] for ve in voiced.events]
     firsts = []
@@ -82,7 +82,11 @@ def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, symbols_ivl:
         name = spell_pitch(pitches[i], h.key_at(int(n.onset // bar_len) + 1), ve.event.chord, way)
         first = staff.add_note(name, n.onset, n.duration, n.articulation)
         firsts.append(first)
-        if lead and ve.event.chord.symbol != prev_chord:
+        # a pickup on the chord of bar 1 takes no symbol of its own: the symbol stands over
+        # bar 1, as lead sheets write it (common practice)
+        pickup_on_first = n.onset < 0 and ve.event.role == "framework" and \
+            bool(h.framework) and ve.event.chord == h.framework[0].chord
+        if lead and ve.event.chord.symbol != prev_chord and not pickup_on_first:
             staff.add_mark(first.measure, first.offset, 5,
                            harmony(ve.event.chord, ivl if symbols_ivl is None else symbols_ivl))
             prev_chord = ve.event.chord.symbol
@@ -101,7 +105,7 @@ def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, symbols_ivl:
 def _analysis(staff: Staff, voiced: Voiced, firsts: list) -> None:
     """Statement labels above the lead; the approach technique under each approach chord
     (once per chord, not again under a held one)."""
-    starts = {st.start: st for st in voiced.harmonized.line.chain.statements}
+    starts = {st.start: st for st in voiced.harmonized.line.segments}
     for i, ve in enumerate(voiced.events):
         at = firsts[i]
         if i in starts:

@@ -13,7 +13,7 @@ from arrange.writers import marks
 from arrange.writers.common import channel_for
 from arrange.writers.xml_score import Interval, ScoreInfo, Staff, sub
 
-__all__ = ["StaffPart", "swing_ratio", "written_keys", "heading", "document"]
+__all__ = ["StaffPart", "swing_ratio", "written_keys", "heading", "document", "passage_bars"]
 
 _DOCTYPE = (b'<!DOCTYPE score-partwise PUBLIC "-//Recordare//DTD MusicXML 4.0 Partwise//EN" '
             b'"http://www.musicxml.org/dtds/partwise.dtd">\n')
@@ -46,6 +46,12 @@ def written_keys(harmonized, ivl: Interval) -> tuple[tuple[int, str], ...]:  # n
         k = harmonized.key_at(max(1, m_i + 1 - shift))
         out.append((k.fifths + ivl.fifths, k.signature_mode))
     return tuple(out)
+
+
+def passage_bars(line) -> frozenset[int]:  # noqa: ANN001
+    """Written measures a form's later passages begin with (a double bar before each)."""
+    shift = 1 if line.pickup else 0
+    return frozenset(p.first_bar - 1 + shift for p in line.passages[1:])
 
 
 def heading(staff: Staff, info: ScoreInfo, line) -> None:  # noqa: ANN001

@@ -14,7 +14,7 @@ from arrange.theory.spelling import direction_of, spell_pitch
 from arrange.voicing.layers import VoicedLayer
 from arrange.voicing.voicer import Voiced
 from arrange.writers import marks
-from arrange.writers.xml_document import StaffPart, document, heading, written_keys
+from arrange.writers.xml_document import StaffPart, document, heading, passage_bars, written_keys
 from arrange.writers.xml_score import ScoreInfo, Staff, concert_clef, interval_of
 
 __all__ = ["layer_staves", "layer_part_bytes"]
@@ -30,7 +30,7 @@ def _staff(voiced: Voiced, vl: VoicedLayer, k: int, info: ScoreInfo, concert: bo
     clef = part.instrument.clef
     if concert and part.instrument.transposition:
         clef = concert_clef(clef, [p for n in vl.notes if (p := n.pitches[k]) is not None])
-    staff = Staff(h.line, written_keys(h, ivl), clef, ivl)
+    staff = Staff(h.line, written_keys(h, ivl), clef, ivl, passage_bars(h.line))
     bar_len = h.line.meter.bar
     voice = [n.pitches[k] for n in vl.notes]
     last_end: Fraction | None = None

@@ -153,6 +153,7 @@ class Staff:
     keys: tuple[tuple[int, str], ...]  # written key signature (fifths, mode) of each written measure
     clef: str
     transpose: Interval = Interval()
+    double_before: frozenset[int] = frozenset()   # measures a double bar line precedes (new sections)
     notes: list[list[_Note]] = field(default_factory=list)
     marks: list[list[tuple[Fraction, int, ET.Element]]] = field(default_factory=list)
 
@@ -236,8 +237,8 @@ class Staff:
                     m.append(el)
                 self._note(m, n, div, beamed.get(i, ()), shown.get(i), brackets.get(i))
             m.extend(el for _, _, el in pending)
-            if m_i + 1 < len(self.notes) and self.keys[m_i + 1] != self.keys[m_i]:
-                # a new key signature follows a double bar line (common practice of engraving)
+            if m_i + 1 < len(self.notes) and (self.keys[m_i + 1] != self.keys[m_i] or m_i + 1 in self.double_before):
+                # a new key signature or a new section follows a double bar line (common practice)
                 sub(sub(m, "barline", location="right"), "bar-style", "light-light")
             out.append(m)
         bl = sub(out[-1], "barline", location="right")
