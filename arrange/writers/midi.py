@@ -10,8 +10,9 @@ General MIDI program.  Notes sound at their performed times (``perf_onset``, ``p
 played, not written); velocities follow the dynamics of each statement, and the
 default (mf) keeps a mock-up from starting loud.  Nothing is random unless
 ``humanize`` is asked for, and then a seeded generator makes it repeatable.
-With ``rhythm_section`` a bass track (framework roots) and a drum track on the
-General MIDI percussion channel (channel 10) are added (see :mod:`.rhythm_section`).
+With a :class:`~arrange.rhythm_section.RhythmSection` its parts follow as tracks
+(guitar, piano, bass on their own channels, drums on the General MIDI percussion
+channel 10), playing the written parts' values (see :mod:`.rhythm_section`).
 """
 from __future__ import annotations
 
@@ -20,6 +21,7 @@ from dataclasses import dataclass
 from fractions import Fraction
 from typing import Any
 
+from arrange.rhythm_section.values import RhythmSection
 from arrange.voicing.layers import VoicedLayer
 from arrange.voicing.voicer import Voiced
 from arrange.writers.common import channel_for
@@ -39,7 +41,6 @@ class MidiOptions:
     dynamics: tuple[str, ...] = ("mf",)
     humanize: float = 0.0        # milliseconds of timing spread, 0 = none
     seed: int = 1
-    rhythm_section: bool = False
 
 
 def track_head(name: str, channel: int, program: int) -> list[tuple[int, int, Any]]:
@@ -77,7 +78,7 @@ def track_from(events: list[tuple[int, int, Any]]) -> Any:
 
 
 def midi_bytes(voiced: Voiced, tempo: float, options: MidiOptions | None = None,
-               layers: tuple = ()) -> bytes:
+               layers: tuple = (), rhythm: RhythmSection | None = None) -> bytes:
     import io
 
     import mido
@@ -119,22 +120,26 @@ def midi_bytes(voiced: Voiced, tempo: float, options: MidiOptions | None = None,
             _note(evs, ch, pitch, on, off, velocity)
             prev_end[pitch] = off
         mf.tracks.append(track_from(evs))
-    if opts.rhythm_section:
-        from arrange.writers.rhythm_section import bass_notes, drum_notes
+    rhythm_count = 0
+    if rhythm is not None:
+        from arrange.writers.rhythm_section import DRUM_CHANNEL, rhythm_tracks
 
         n_parts = len(voiced.section.parts)
         velocity = VELOCITY[opts.dynamics[0]]
-        for track_name, channel, program, notes in (
-                ("Bass", channel_for(n_parts), 33, bass_notes(voiced)),
-                ("Drums", 9, 0, drum_notes(voiced))):
-            evs = track_head(track_name, channel, program) if program else \
-                [(0, 0, mido.MetaMessage("track_name", name=track_name))]
+        for track_name, program, notes in rhythm_tracks(rhythm, line):
+            channel = DRUM_CHANNEL if program is None else channel_for(n_parts + rhythm_count)
+            if program is not None:
+                rhythm_count += 1
+                evs = track_head(track_name, channel, program)
+            else:
+                evs = [(0, 0, mido.MetaMessage("track_name", name=track_name))]
             for start, length, pitch, accent in notes:
                 on = _tick(start)
-                _note(evs, channel, pitch, on, max(on + 1, _tick(start + length) - 1), min(127, velocity + accent))
+                _note(evs, channel, pitch, on, max(on + 1, _tick(start + length) - 1),
+                      min(127, max(1, velocity + accent)))
             mf.tracks.append(track_from(evs))
     if layers:   # after the rhythm section's bass channel, when there is one
-        first = len(voiced.section.parts) + (1 if opts.rhythm_section else 0)
+        first = len(voiced.section.parts) + rhythm_count
         mf.tracks.extend(layer_tracks(layers, first, lead_in))
     buf = io.BytesIO()
     mf.save(file=buf)
