@@ -1,3 +1,3 @@
-from .cli import main
+from arrange.cli import main
 
 main()

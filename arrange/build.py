@@ -7,14 +7,14 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 
-from . import __version__
-from .chain import build_chain, chain_length
-from .errors import ArrangeError, LimitError
-from .harmony import harmonize
-from .layers import VoicedLayer, build_layers
-from .project import Project
-from .rhythm import lay_rhythm
-from .voicing import Voiced, voice
+from arrange import __version__
+from arrange.chain.core import build_chain, chain_length
+from arrange.errors import ArrangeError, LimitError
+from arrange.harmony.harmonizer import harmonize
+from arrange.project import Project
+from arrange.rhythm.line import lay_rhythm
+from arrange.voicing.layers import VoicedLayer, build_layers
+from arrange.voicing.voicer import Voiced, voice
 
 __all__ = ["run_pipeline", "run_layers", "render_outputs", "render_project", "write_outputs", "BuildResult"]
 
@@ -87,7 +87,7 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
     out = project.output
     info = None
     if "musicxml" in formats or "preview" in formats or out.parts:
-        from .writers.musicxml import ScoreInfo, musicxml_bytes
+        from arrange.writers.musicxml import ScoreInfo, musicxml_bytes
 
         info = ScoreInfo(project.title, project.tempo, _style(project), dynamics=out.dynamics,
                          analysis=out.analysis, concert=out.concert_score, version=__version__)
@@ -96,7 +96,7 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
         if "musicxml" in formats:
             files[f"{slug}.musicxml"] = xml
         if "preview" in formats:
-            from .writers.preview import have_png, png_bytes, svg_bytes
+            from arrange.writers.preview import have_png, png_bytes, svg_bytes
 
             svg = svg_bytes(xml)
             files[f"{slug}.svg"] = svg
@@ -105,21 +105,21 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
             elif notes is not None:
                 notes.append("preview: PNG skipped, cairosvg is not installed (pip install cairosvg)")
     if out.parts and info is not None:
-        from .project import slugify
-        from .writers.musicxml import part_bytes
+        from arrange.project import slugify
+        from arrange.writers.musicxml import part_bytes
 
         for k, part_xml in part_bytes(voiced, info).items():
             name = voiced.section.parts[k].name
             files[f"{slug}.part{k + 1:02d}-{slugify(name)}.musicxml"] = part_xml
         if layers:
-            from .writers.layers import layer_part_bytes
+            from arrange.writers.xml_layers import layer_part_bytes
 
             first = len(voiced.section.parts)
             for j, (name, part_xml) in enumerate(layer_part_bytes(voiced, info, layers)):
                 files[f"{slug}.part{first + j + 1:02d}-{slugify(name)}.musicxml"] = part_xml
     midi = None
     if "midi" in formats or out.audio:
-        from .writers.midi import MidiOptions, midi_bytes
+        from arrange.writers.midi import MidiOptions, midi_bytes
 
         midi = midi_bytes(voiced, project.tempo,
                           MidiOptions(out.dynamics, out.humanize, out.seed, out.rhythm_section),
@@ -127,7 +127,7 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
         if "midi" in formats:
             files[f"{slug}.mid"] = midi
     if out.audio and midi is not None:
-        from .writers.audio import missing_message, wav_bytes
+        from arrange.writers.audio import missing_message, wav_bytes
 
         wav = wav_bytes(midi)
         if wav is not None:
@@ -135,12 +135,12 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
         elif notes is not None:
             notes.append(missing_message() or "audio skipped")
     if "report" in formats:
-        from .writers.report import report_data, report_json, report_markdown
+        from arrange.writers.report import report_data, report_json, report_markdown
 
         data = report_data(voiced, title=project.title, tempo=project.tempo, version=__version__,
                            dynamics=out.dynamics)
         if layers:
-            from .writers.layers import layer_warnings, layers_data
+            from arrange.writers.report import layer_warnings, layers_data
 
             data["layers"] = layers_data(layers)
             data["warnings"] = list(data["warnings"]) + layer_warnings(layers, data["events"])
@@ -188,7 +188,7 @@ def render_project(project: Project, formats: tuple[str, ...] | None = None,
 def write_outputs(project: Project, out_dir: Path, formats: tuple[str, ...] | None = None,
                   notes: list[str] | None = None,
                   progress: Callable[[str], None] | None = None) -> BuildResult:
-    from .writers.files import write_batch
+    from arrange.writers.files import write_batch
 
     voiced, layers, files = render_project(project, formats, notes, progress)
     paths = write_batch(out_dir, files)

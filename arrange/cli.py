@@ -14,8 +14,8 @@ from typing import Any, TypeVar
 
 import click
 
-from . import __version__
-from .errors import ArrangeError
+from arrange import __version__
+from arrange.errors import ArrangeError
 
 F = TypeVar("F", bound=Callable[..., Any])
 
@@ -72,7 +72,7 @@ def _overlaps(text: str | None) -> tuple[int, ...] | None:
     out = []
     for i, tok in enumerate(text.replace(" ", "").split(","), start=1):
         if not tok.lstrip("-").isdigit():
-            from .errors import ChainError
+            from arrange.errors import ChainError
             raise ChainError(f"{tok!r} (value {i} of --overlaps) is not a whole number",
                              where="--overlaps", accepted="whole numbers separated by commas, e.g. 2,3,2")
         out.append(int(tok))
@@ -92,9 +92,9 @@ def _overlaps(text: str | None) -> tuple[int, ...] | None:
 def chain(motif: str, statements: int, overlap: int | None, overlaps: str | None,
           lead_range: tuple[str, str] | None, as_json: bool) -> None:
     """Grow MOTIF (e.g. "C4 E4 D4 G4" or "60 64 62 67") into an RI chain."""
-    from .chain import build_chain
-    from .errors import ChainError
-    from .pitch import parse_pitch, parse_pitches
+    from arrange.chain.core import build_chain
+    from arrange.errors import ChainError
+    from arrange.theory.pitch import parse_pitch, parse_pitches
 
     notes = parse_pitches(motif, where="MOTIF")
     if overlap is not None and overlaps is not None:
@@ -117,7 +117,7 @@ def chain(motif: str, statements: int, overlap: int | None, overlaps: str | None
 
 
 def _chain_table(c: Any) -> str:
-    from .pitch import pitch_name
+    from arrange.theory.pitch import pitch_name
 
     lines = [f"motif      {' '.join(pitch_name(p) for p in c.motif)}",
              f"overlaps   {', '.join(map(str, c.overlaps)) or '-'}",
@@ -158,12 +158,12 @@ def _chain_table(c: Any) -> str:
 def build(project: Path, out_dir: Path, formats: str | None, parts: bool | None,
           analysis: bool | None, audio: bool | None, vary: tuple[str, ...] = ()) -> None:
     """Build PROJECT.toml into score, MIDI and report files in the output folder."""
-    from .project import load_project
+    from arrange.project import load_project
 
     proj = _with_flags(load_project(project), parts, analysis, audio)
     fmts = _formats(formats)
     if vary:
-        from .variants import build_variants
+        from arrange.variants import build_variants
 
         click.echo(f"{proj.title}: every combination of {len(vary)} varied keys ...", err=True)
         for p in build_variants(project, vary, out_dir, fmts,
@@ -174,8 +174,8 @@ def build(project: Path, out_dir: Path, formats: str | None, parts: bool | None,
 
 
 def _formats(formats: str | None) -> tuple[str, ...] | None:
-    from .errors import OutputError
-    from .project import FORMATS
+    from arrange.errors import OutputError
+    from arrange.project import FORMATS
 
     if formats is None:
         return None
@@ -198,7 +198,7 @@ def _with_flags(proj: Any, parts: bool | None, analysis: bool | None, audio: boo
 
 def _build_one(proj: Any, out_dir: Path, fmts: tuple[str, ...] | None, *, label: str) -> None:
     """Run the pipeline and the writers, saying on stderr what is being done."""
-    from .build import write_outputs
+    from arrange.build import write_outputs
 
     err = sys.stderr.isatty()
 
@@ -219,7 +219,7 @@ def _build_one(proj: Any, out_dir: Path, fmts: tuple[str, ...] | None, *, label:
 
 
 def demo_dir() -> Path:
-    from .sections import _find
+    from arrange.voicing.sections import _find
 
     return _find("demo_projects")
 
@@ -233,7 +233,7 @@ def demo_dir() -> Path:
 @guarded
 def demo(out_dir: Path, parts: bool | None, analysis: bool | None, audio: bool | None) -> None:
     """Build every bundled demo project into the output folder."""
-    from .project import load_project
+    from arrange.project import load_project
 
     projects = sorted(demo_dir().glob("*.toml"))
     for i, path in enumerate(projects, start=1):
@@ -246,8 +246,8 @@ def demo(out_dir: Path, parts: bool | None, analysis: bool | None, audio: bool |
 @guarded
 def sections(as_json: bool) -> None:
     """List the sections in voicing_rules/ with their parts and ranges."""
-    from .pitch import pitch_name
-    from .sections import sections as all_sections
+    from arrange.theory.pitch import pitch_name
+    from arrange.voicing.sections import sections as all_sections
 
     table = all_sections()
     if as_json:
@@ -270,7 +270,7 @@ def sections(as_json: bool) -> None:
 
 
 def starter_text(name: str) -> str:
-    from .starter import STARTER
+    from arrange.starter import STARTER
 
     return STARTER.format(name=name)
 
@@ -280,8 +280,8 @@ def starter_text(name: str) -> str:
 @guarded
 def new(project: Path) -> None:
     """Write a commented starter PROJECT.toml (never over an existing file)."""
-    from .errors import OutputError
-    from .writers.files import write_batch
+    from arrange.errors import OutputError
+    from arrange.writers.files import write_batch
 
     if project.exists():
         raise OutputError(f"{str(project)!r} already exists", where="PROJECT",
@@ -352,10 +352,10 @@ def design(length: int, statements: int, overlap: int, start: str | None, max_st
            to_key: str | None, top: int, count_only: bool, as_json: bool, force: bool,
            write_project: Path | None) -> None:
     """Search every motif of --length notes for RI chains with the properties asked."""
-    from .design_spec import make_spec, parse_steps
-    from .errors import DesignError, OutputError
-    from .harmony import parse_key
-    from .pitch import parse_pitch
+    from arrange.chain.spec import make_spec, parse_steps
+    from arrange.errors import DesignError, OutputError
+    from arrange.theory.keys import parse_key
+    from arrange.theory.pitch import parse_pitch
 
     if not 1 <= top <= 1000:
         raise DesignError(f"--top {top} is out of range", where="--top", accepted="1..1000")
@@ -375,7 +375,7 @@ def design(length: int, statements: int, overlap: int, start: str | None, max_st
         diatonic=diatonic, chromatic_notes=chromatic_notes,
         from_key=parse_key(from_key, where="--from-key") if from_key is not None else None,
         to_key=parse_key(to_key, where="--to-key") if to_key is not None else None)
-    from .design import check_space, search
+    from arrange.chain.design import check_space, search
 
     total = check_space(spec, force)
     click.echo(f"searching {total:,} motifs ({len(spec.steps)} allowed steps ^ {length - 1}) ...", err=True)
@@ -387,8 +387,8 @@ def design(length: int, statements: int, overlap: int, start: str | None, max_st
     for note in found.relaxed:
         click.echo(f"arrange: relaxed {note}", err=True)
     if write_project is not None:
-        from .design_project import project_text
-        from .writers.files import write_batch
+        from arrange.design_project import project_text
+        from arrange.writers.files import write_batch
 
         if not found.results:
             raise DesignError("no motif meets the constraints, so there is no project to write",

@@ -9,10 +9,10 @@ from __future__ import annotations
 
 import json
 
-from .chain import Chain
-from .design_spec import DesignSpec
-from .harmony import Key
-from .pitch import pitch_name
+from arrange.chain.core import Chain
+from arrange.chain.spec import DesignSpec
+from arrange.theory.keys import Key
+from arrange.theory.pitch import pitch_name
 
 __all__ = ["project_text", "tonic_symbol", "dominant_symbol"]
 
@@ -49,8 +49,8 @@ def _framework(first: str, dominant: str, last: str, bars: int) -> str:
 
 def _bars(chain: Chain) -> int:
     """Bars of the line under the default rhythm in 4/4, as the build will lay it."""
-    from .rhythm import lay_rhythm, parse_meter, read_options
-    from .tables import Table
+    from arrange.rhythm.line import lay_rhythm, parse_meter, read_options
+    from arrange.tables import Table
 
     line = lay_rhythm(chain, parse_meter("4/4"), read_options(Table({}, "design [rhythm]")))
     return max(1, line.bars)
@@ -60,7 +60,7 @@ def project_text(spec: DesignSpec, chain: Chain, why: str) -> str:
     start_key = spec.from_key or spec.key
     end_key = spec.to_key or start_key
     key_text = str(start_key) if start_key is not None else "C major"
-    from .harmony import parse_key
+    from arrange.theory.keys import parse_key
 
     k1 = start_key or parse_key("C major")
     k2 = end_key or k1

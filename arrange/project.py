@@ -11,12 +11,14 @@ import tomllib
 from dataclasses import dataclass
 from pathlib import Path
 
-from . import harmony, rhythm, voicing
-from .errors import ArrangeError, ProjectError
-from .layers import Layer, read_layers
-from .pitch import parse_pitch, parse_pitches
-from .sections import Section, section_from_table
-from .tables import Table
+from arrange.errors import ArrangeError, ProjectError
+from arrange.harmony import harmonizer as harmony
+from arrange.rhythm import line as rhythm
+from arrange.tables import Table
+from arrange.theory.pitch import parse_pitch, parse_pitches
+from arrange.voicing import voicer as voicing
+from arrange.voicing.layers import Layer, read_layers
+from arrange.voicing.sections import Section, section_from_table
 
 __all__ = ["Project", "ChainSpec", "OutputSpec", "load_project", "project_from_data", "slugify",
            "FORMATS"]
@@ -74,7 +76,7 @@ def slugify(title: str) -> str:
 def _chain(t: Table, base: Path | None = None) -> ChainSpec:
     motif_raw = t.raw("motif")
     if isinstance(motif_raw, str) and motif_raw.strip().startswith("file:"):
-        from .motif_file import read_motif_file
+        from arrange.inputs.motif_file import read_motif_file
 
         count = t.integer("motif_length", 4, low=2, high=64)
         name = motif_raw.strip()[5:].strip()
@@ -127,7 +129,7 @@ def _output(t: Table) -> OutputSpec:
     for f in raw:
         if f not in FORMATS:
             raise t.error("formats", f"format {f!r} is not known", ", ".join(FORMATS))
-    from .writers.marks import DYNAMICS
+    from arrange.theory.dynamics import DYNAMICS
 
     dyn = t.raw("dynamics", "mf")
     dyn_list = [dyn] if isinstance(dyn, str) else dyn

@@ -8,7 +8,7 @@ from __future__ import annotations
 from collections.abc import Iterable
 from typing import Any
 
-from .errors import ProjectError
+from arrange.errors import ProjectError
 
 __all__ = ["Table", "MISSING"]
 

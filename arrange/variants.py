@@ -19,10 +19,10 @@ from itertools import product
 from pathlib import Path
 from typing import Any
 
-from .errors import ArrangeError, ProjectError
-from .groove import GROOVE_ONLY
-from .pitch import pitch_name
-from .project import Project, load_project, project_from_data, slugify
+from arrange.errors import ArrangeError, ProjectError
+from arrange.project import Project, load_project, project_from_data, slugify
+from arrange.rhythm.groove import GROOVE_ONLY
+from arrange.theory.pitch import pitch_name
 
 __all__ = ["SHORT", "Vary", "parse_vary", "expand", "Variant", "build_variants", "variants_markdown",
            "MAX_VARIANTS"]
@@ -164,8 +164,8 @@ def build_variants(project_path: Path, specs: tuple[str, ...], out_dir: Path,
                    formats: tuple[str, ...] | None = None,
                    adjust: Callable[[Project], Project] | None = None) -> list[Path]:
     """Build every combination into ``out_dir/<folder>/`` and write ``variants.md``."""
-    from .build import render_project
-    from .writers.files import write_batch
+    from arrange.build import render_project
+    from arrange.writers.files import write_batch
 
     varies = [parse_vary(s) for s in specs]
     load_project(project_path)                 # the file itself is sound before anything is varied

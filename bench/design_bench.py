@@ -4,7 +4,7 @@ The space: every 6-note motif from C4 whose steps are 1..12 semitones either
 way (24^5 = 7,962,624 candidates), screened for one constraint set (a
 transition from F major to Ab major over 4 statements, the chain within 24
 semitones).  The vectorised search walks the whole space; the plain-Python
-loop (arrange.chain.build_chain plus arrange.design.meets, one motif at a
+loop (arrange.chain.core.build_chain plus arrange.chain.design.meets, one motif at a
 time) walks a random sample of the same space, and the two are checked to
 agree on that sample.  Prints candidates per second for both and the ratio.
 
@@ -24,10 +24,11 @@ sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
 import numpy as np  # noqa: E402
 
-from arrange import design, design_kernel  # noqa: E402
-from arrange.chain import build_chain  # noqa: E402
+from arrange.chain import design
+from arrange.chain import kernel as design_kernel  # noqa: E402
+from arrange.chain.core import build_chain  # noqa: E402
 from arrange.errors import ChainError  # noqa: E402
-from arrange.harmony import parse_key  # noqa: E402
+from arrange.harmony.harmonizer import parse_key  # noqa: E402
 
 FLOOR_SECONDS = 10.0
 FLOOR_RATIO = 100.0

@@ -12,10 +12,11 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-from arrange import build, shapes  # noqa: E402
+from arrange import build
 from arrange.build import run_pipeline  # noqa: E402
 from arrange.project import project_from_data  # noqa: E402
-from arrange.voicing import voice  # noqa: E402
+from arrange.voicing import shapes  # noqa: E402
+from arrange.voicing.voicer import voice  # noqa: E402
 
 MOTIF = "C4 E4 D4 G4 F4 A4 B4 G4 E4 F4 D4 E4"   # 12 notes; overlap 2 adds 10 a statement
 

@@ -49,8 +49,10 @@ def run_cli(*args: str, cwd: Path | None = None):
 
 
 def run_subprocess(*args: str, cwd: Path | None = None) -> subprocess.CompletedProcess[str]:
+    # the checkout under test first on the path, whatever the folder the child runs in
+    env = {**os.environ, "PYTHONPATH": os.pathsep.join(filter(None, [str(ROOT), os.environ.get("PYTHONPATH")]))}
     return subprocess.run([sys.executable, "-m", "arrange", *args], capture_output=True,
-                          text=True, cwd=cwd, timeout=300)
+                          text=True, cwd=cwd, timeout=300, env=env)
 
 
 def write_project(folder: Path, text: str, name: str = "p.toml") -> Path:

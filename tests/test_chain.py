@@ -10,7 +10,7 @@ import pytest
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
-from arrange.chain import build_chain, place_in_range, working_overlaps
+from arrange.chain.core import build_chain, place_in_range, working_overlaps
 from arrange.errors import ChainError
 
 motifs = st.lists(st.integers(min_value=48, max_value=84), min_size=2, max_size=8)

@@ -12,8 +12,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from arrange.chords import VOCABULARY, parse_chord
 from arrange.errors import ArrangeError, HarmonyError
+from arrange.theory.chords import VOCABULARY, parse_chord
 
 # music21 rejects these spellings or reads them differently; each row is an equivalent
 # spelling music21 accepts (checked by hand against the chord's definition):

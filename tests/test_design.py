@@ -19,7 +19,7 @@ from pathlib import Path
 import pytest
 from conftest import run_cli
 
-from arrange.chain import build_chain
+from arrange.chain.core import build_chain
 from arrange.errors import ChainError
 
 # --------------------------------------------------------------- references
@@ -102,7 +102,7 @@ def test_every_result_rebuilt_meets_every_constraint(args: list[str]) -> None:
     steps_text = _opt(args, "--steps")
     max_step = int(_opt(args, "--max-step") or 12)
     from_key, to_key = _opt(args, "--from-key"), _opt(args, "--to-key")
-    from arrange.pitch import parse_pitch
+    from arrange.theory.pitch import parse_pitch
     start = parse_pitch(_opt(args, "--start")) if _opt(args, "--start") else 60
     if from_key and not _opt(args, "--start"):
         from music21 import pitch  # a transition starts on the first key's tonic, octave 4
@@ -330,7 +330,7 @@ def test_contradictions_name_the_options() -> None:
 
 
 def test_force_lifts_the_size_limit() -> None:
-    from arrange.design import check_space, make_spec
+    from arrange.chain.design import check_space, make_spec
 
     spec = make_spec(8)
     assert check_space(spec, force=True) == 24 ** 7

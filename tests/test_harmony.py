@@ -15,12 +15,12 @@ from pathlib import Path
 import pytest
 from conftest import BASIC, run_cli, snapshot, write_project
 
-from arrange.approach import classify
-from arrange.chords import parse_chord
 from arrange.errors import ArrangeError, HarmonyError
-from arrange.harmony import PRESETS, HarmonyOptions, harmonize, parse_framework
-from arrange.keys import MODES, parse_key
-from arrange.rhythm import Line, Note, parse_meter
+from arrange.harmony.approach import classify
+from arrange.harmony.harmonizer import PRESETS, HarmonyOptions, harmonize, parse_framework
+from arrange.rhythm.line import Line, Note, parse_meter
+from arrange.theory.chords import parse_chord
+from arrange.theory.keys import MODES, parse_key
 
 
 def _weight(onset: Fraction, bar: Fraction, beat: Fraction) -> int:

@@ -37,7 +37,7 @@ def demo(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, dict]:
 
 
 def _m21_figure(symbol: str) -> str:
-    from arrange.writers.musicxml import m21_figure
+    from arrange.writers.symbols import m21_figure
 
     return m21_figure(symbol)
 
@@ -209,7 +209,7 @@ def test_constructed_minor_ninth_is_reported(tmp_path: Path) -> None:
     trombone pad: every pad note lies a minor ninth or compound below one of them."""
     from arrange.build import run_layers, run_pipeline
     from arrange.project import project_from_data
-    from arrange.voicing import VoicedEvent
+    from arrange.voicing.voicer import VoicedEvent
 
     section = 'name = "violins"\nparts = [' + ", ".join(['"violin"'] * 12) + ']\nvoicing = "unison"'
     data = tomllib.loads(BASIC.replace('name = "trombones-4"\nvoicing = "close"', section)
@@ -241,7 +241,7 @@ def test_constructed_minor_ninth_is_reported(tmp_path: Path) -> None:
 
 
 def pitch_name_of(p: int) -> str:
-    from arrange.pitch import pitch_name
+    from arrange.theory.pitch import pitch_name
 
     return pitch_name(p)
 
@@ -454,7 +454,7 @@ def test_clash_free_voicing_is_found(tmp_path: Path) -> None:
 
     from arrange.build import run_layers, run_pipeline
     from arrange.project import project_from_data
-    from arrange.voicing import VoicedEvent
+    from arrange.voicing.voicer import VoicedEvent
 
     section = 'name = "violins"\nparts = [' + ", ".join(['"violin"'] * 12) + ']\nvoicing = "unison"'
     data = tomllib.loads(BASIC.replace('name = "trombones-4"\nvoicing = "close"', section)

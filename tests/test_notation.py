@@ -11,8 +11,8 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
-from arrange.meter import METERS, metric_weight, parse_meter
-from arrange.notation import pieces, readable
+from arrange.rhythm.meter import METERS, metric_weight, parse_meter
+from arrange.rhythm.notation import pieces, readable
 
 
 def _cut(meter: str, onset, duration, **kw) -> list[tuple[F, F]]:

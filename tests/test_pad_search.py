@@ -15,9 +15,9 @@ import numpy as np
 import pytest
 from conftest import BASIC, run_cli, write_project
 
-from arrange import layers, pads
-from arrange.chords import parse_chord
-from arrange.sections import get_section
+from arrange.theory.chords import parse_chord
+from arrange.voicing import layers, pads
+from arrange.voicing.sections import get_section
 
 
 def _reference_shapes(pcs: tuple[int, ...], lo: int, hi: int, n: int) -> list[tuple[int, ...]]:

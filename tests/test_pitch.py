@@ -7,7 +7,7 @@ from hypothesis import given
 from hypothesis import strategies as st
 
 from arrange.errors import ArrangeError, PitchError
-from arrange.pitch import parse_pitch, parse_pitches, pitch_name
+from arrange.theory.pitch import parse_pitch, parse_pitches, pitch_name
 
 SPELLINGS = ["C4", "Eb4", "E-4", "B♭3", "F#5", "G♯2", "Cx4", "Dbb4", "B#3", "Cb4", "A0", "C-1",
              "G9", "E--3", "F##2"]

@@ -16,11 +16,11 @@ from conftest import BASIC, run_cli, snapshot, write_project
 from hypothesis import given
 from hypothesis import strategies as st
 
-from arrange.cells import parse_cell
-from arrange.chain import build_chain
+from arrange.chain.core import build_chain
 from arrange.errors import ArrangeError
-from arrange.meter import METERS, parse_meter
-from arrange.rhythm import RhythmOptions, lay_rhythm
+from arrange.rhythm.cells import parse_cell
+from arrange.rhythm.line import RhythmOptions, lay_rhythm
+from arrange.rhythm.meter import METERS, parse_meter
 
 TICKS = 480
 

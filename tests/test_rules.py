@@ -13,9 +13,9 @@ import numpy as np
 import pytest
 from conftest import BASIC, run_cli, snapshot, write_project
 
-from arrange.chords import parse_chord
-from arrange.rules import context, low_interval_limits, masks
-from arrange.sections import get_section
+from arrange.theory.chords import parse_chord
+from arrange.voicing.rules import context, low_interval_limits, masks
+from arrange.voicing.sections import get_section
 
 
 def _marks(pitches: list[int], symbol: str, vtype: str = "close", section: str = "trombones-4"):

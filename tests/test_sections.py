@@ -11,7 +11,7 @@ import json
 import pytest
 from conftest import run_cli
 
-from arrange.sections import instruments, sections
+from arrange.voicing.sections import instruments, sections
 
 # our key -> the music21 instrument class for the same instrument
 M21 = {"soprano-sax": "SopranoSaxophone", "alto-sax": "AltoSaxophone", "tenor-sax": "TenorSaxophone",
@@ -62,7 +62,7 @@ def test_practical_low_note_is_music21_lowest_written(key: str) -> None:
 def test_interval_names_agree_with_semitones() -> None:
     from music21 import interval
 
-    from arrange.writers.musicxml import _INTERVALS
+    from arrange.writers.xml_score import _INTERVALS
 
     for inst in instruments().values():
         # music21 interval names as reference for the written-minus-sounding distance

@@ -14,9 +14,9 @@ from pathlib import Path
 import pytest
 from conftest import BASIC, run_cli, write_project
 
-from arrange.chords import VOCABULARY, parse_chord
-from arrange.keys import MODES, parse_key
-from arrange.spelling import direction_of, m21_name, spell_chord, spell_pc, spell_pitch
+from arrange.theory.chords import VOCABULARY, parse_chord
+from arrange.theory.keys import MODES, parse_key
+from arrange.theory.spelling import direction_of, m21_name, spell_chord, spell_pc, spell_pitch
 
 FLAT_TONICS = ("F", "Bb", "Eb", "Ab", "Db", "Gb", "C", "G", "D", "A", "E", "B")
 

@@ -12,7 +12,7 @@ from pathlib import Path
 import pytest
 from conftest import BASIC, run_cli, snapshot, write_project
 
-from arrange.pitch import pitch_name
+from arrange.theory.pitch import pitch_name
 
 
 def _rows(md: str) -> list[list[str]]:

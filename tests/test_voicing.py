@@ -14,9 +14,9 @@ import numpy as np
 import pytest
 from conftest import BASIC, run_cli, write_project
 
-from arrange.chords import parse_chord
-from arrange.shapes import close_under, drop, recipes, shapes, structures
-from arrange.voicing import path_cost, solve
+from arrange.theory.chords import parse_chord
+from arrange.voicing.shapes import close_under, drop, recipes, shapes, structures
+from arrange.voicing.voicer import path_cost, solve
 
 TYPES = ("close", "drop2", "drop2-4", "drop3", "spread", "unison")
 
@@ -95,7 +95,7 @@ def test_five_voice_close_doubles_the_lead(tmp_path: Path) -> None:
 def test_every_voice_is_chord_tone_or_tension(tmp_path: Path) -> None:
     from music21 import harmony
 
-    from arrange.writers.musicxml import m21_figure
+    from arrange.writers.symbols import m21_figure
 
     for section, vtype in (("saxes-5", "close"), ("brass-8", "spread"), ("strings-5", "drop2-4"),
                            ("trumpets-4", "drop3"), ("brass-6", "drop2")):

@@ -16,10 +16,10 @@ import pytest
 from conftest import run_cli, write_project
 from test_harmony import make_line, opts
 
-from arrange.approach import TECHNIQUES
-from arrange.harmony import harmonize
-from arrange.keys import parse_key
-from arrange.spelling import direction_of, m21_name, spell_pc
+from arrange.harmony.approach import TECHNIQUES
+from arrange.harmony.harmonizer import harmonize
+from arrange.theory.keys import parse_key
+from arrange.theory.spelling import direction_of, m21_name, spell_pc
 
 DEMOS = sorted((Path(__file__).resolve().parents[1] / "demo_projects").glob("*.toml"))
 
@@ -167,7 +167,7 @@ def test_demo_spelling_agrees_in_report_why_and_score(tmp_path: Path, demo: Path
 ])
 def test_spelling_follows_the_line(prev, pitch, nxt, chord, key, want) -> None:
     # common practice of engraving: chromatic passing notes by direction, others by degree
-    from arrange.chords import parse_chord
+    from arrange.theory.chords import parse_chord
 
     way = direction_of(prev, pitch, nxt)
     assert spell_pc(pitch, parse_key(key), parse_chord(chord) if chord else None, way) == want

@@ -18,7 +18,7 @@ import tempfile
 import wave
 from pathlib import Path
 
-from ..errors import OutputError
+from arrange.errors import OutputError
 
 __all__ = ["find_fluidsynth", "find_soundfont", "missing_message", "wav_bytes", "normalise",
            "PEAK_DBFS"]

@@ -7,7 +7,7 @@ import os
 import tempfile
 from pathlib import Path
 
-from ..errors import OutputError
+from arrange.errors import OutputError
 
 __all__ = ["write_batch", "safe_name"]
 

@@ -9,15 +9,14 @@ from __future__ import annotations
 from fractions import Fraction
 from typing import Any
 
-from ..notation import pieces
-from ..sections import Section
-from ..voicing import Voiced
+from arrange.rhythm.notation import pieces
+from arrange.theory.dynamics import DYNAMICS
+from arrange.voicing.sections import Section
+from arrange.voicing.voicer import Voiced
 
 __all__ = ["DYNAMICS", "dynamic_of", "entrances", "page_credits", "style_word", "add_rehearsal", "rehearsal_letter", "add_dynamics", "add_analysis",
            "add_part_groups", "family", "concert_symbols"]
 
-# the dynamics a project may name, softest first (common practice)
-DYNAMICS = ("ppp", "pp", "p", "mp", "mf", "f", "ff", "fff")
 
 
 def dynamic_of(statement: int, dynamics: tuple[str, ...]) -> str:

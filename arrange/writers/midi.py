@@ -15,8 +15,10 @@ import random
 from dataclasses import dataclass
 from fractions import Fraction
 
-from ..voicing import Voiced
-from .marks import dynamic_of
+from arrange.voicing.layers import VoicedLayer
+from arrange.voicing.voicer import Voiced
+from arrange.writers.common import channel_for
+from arrange.writers.marks import dynamic_of
 
 __all__ = ["midi_bytes", "MidiOptions", "TICKS", "channel_for", "VELOCITY"]
 
@@ -45,12 +47,6 @@ def track_head(name: str, channel: int, program: int) -> list:  # noqa: ANN001
     pc = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.PROGRAM_CHANGE, channel=channel)
     pc.data = program - 1
     return [(0, 0, nm), (0, 1, pc)]
-
-
-def channel_for(part_index: int) -> int:
-    """0-based MIDI channel of a part, skipping the percussion channel (9)."""
-    ch = part_index if part_index < 9 else part_index + 1
-    return ch % 16
 
 
 def _tick(q: Fraction) -> int:
@@ -130,7 +126,7 @@ def midi_bytes(voiced: Voiced, tempo: float, options: MidiOptions | None = None,
             prev_end[pitch] = off
         mf.tracks.append(track_from(evs, k + 1))
     if opts.rhythm_section:
-        from .rhythm_section import bass_notes, drum_notes
+        from arrange.writers.rhythm_section import bass_notes, drum_notes
 
         n_parts = len(voiced.section.parts)
         velocity = VELOCITY[opts.dynamics[0]]
@@ -158,9 +154,37 @@ def midi_bytes(voiced: Voiced, tempo: float, options: MidiOptions | None = None,
                     evs.append((tick, order, ev))
             mf.tracks.append(track_from(evs, n_parts + 1 + j))
     if layers:   # after the rhythm section's bass channel, when there is one
-        from .layers import layer_tracks
-
         first = len(voiced.section.parts) + (1 if opts.rhythm_section else 0)
         mf.tracks.extend(layer_tracks(layers, first, lead_in, track_from, _tick))
     data: bytes = mf.writestr()
     return data
+
+
+def layer_tracks(layers: tuple[VoicedLayer, ...], first_index: int, lead_in: Fraction,
+                 track_from, tick) -> list:  # noqa: ANN001
+    """MIDI tracks of the layers' parts (track numbers after the lead section's),
+    with ``track_from`` and ``tick`` the MIDI writer's own helpers."""
+    from music21 import midi
+
+    tracks = []
+    index = first_index
+    for vl in layers:
+        vel = vl.layer.velocity
+        for k, part in enumerate(vl.layer.section.parts):
+            ch = channel_for(index) + 1
+            evs: list[tuple[int, int, midi.MidiEvent]] = track_head(part.name, ch,
+                                                                    part.instrument.program)
+            for n in vl.notes:
+                if n.pitches[k] is None:
+                    continue
+                on = tick(n.onset + lead_in)
+                off = max(on + 1, tick(n.onset + n.duration + lead_in) - 1)
+                non = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.NOTE_ON, channel=ch)
+                non.pitch, non.velocity = n.pitches[k], vel
+                noff = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.NOTE_OFF, channel=ch)
+                noff.pitch, noff.velocity = n.pitches[k], 0
+                evs.append((on, 3, non))
+                evs.append((off, 2, noff))
+            tracks.append(track_from(evs, index + 1))
+            index += 1
+    return tracks

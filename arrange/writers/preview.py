@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import re
 
-from ..errors import OutputError
+from arrange.errors import OutputError
 
 __all__ = ["svg_bytes", "png_bytes", "have_png", "PAGE_WIDTH"]
 

@@ -5,24 +5,17 @@ import json
 from fractions import Fraction
 from typing import Any
 
-from ..voicing import Voiced
+from arrange.theory.pitch import pitch_name
+from arrange.voicing.layers import VoicedLayer
+from arrange.voicing.voicer import Voiced
+from arrange.writers.common import bar_of_event, json_number
 
 __all__ = ["json_number", "bar_of_event", "report_data", "report_json", "report_markdown"]
 
 
-def json_number(q: Fraction) -> float | int:
-    """A time in quarter notes as a JSON number: whole values as integers."""
-    return int(q) if q.denominator == 1 else float(q)
-
-
-def bar_of_event(events: list[dict[str, Any]], ev: int | None) -> Any:
-    """The bar of report event ``ev`` (None for a finding about the whole passage)."""
-    return events[ev]["bar"] if ev is not None and 0 <= ev < len(events) else None
-
-
 def _statement_table(voiced: Voiced, dynamics: tuple[str, ...]) -> list[dict[str, Any]]:
     """Per statement: its first bar, rehearsal letter, dynamic, and the voicing of its notes."""
-    from .marks import dynamic_of, rehearsal_letter
+    from arrange.writers.marks import dynamic_of, rehearsal_letter
 
     line = voiced.harmonized.line
     letters: dict[int, str] = {}
@@ -46,7 +39,7 @@ def _statement_table(voiced: Voiced, dynamics: tuple[str, ...]) -> list[dict[str
 def _lead_names(voiced: Voiced) -> list[str]:
     """The lead as the harmonizer spelled it (key, sounding chord, direction), with its
     octave: the same name the why and the score use."""
-    from ..spelling import with_octave
+    from arrange.theory.spelling import with_octave
 
     return [with_octave(ve.event.lead_name, ve.event.note.pitch) for ve in voiced.events]
 
@@ -117,7 +110,7 @@ def _cell(text: object) -> str:
 
 
 def report_markdown(data: dict[str, Any]) -> bytes:
-    from ..pitch import pitch_name
+    from arrange.theory.pitch import pitch_name
 
     ch = data["chain"]
     parts = data["section"]["parts"]
@@ -152,8 +145,6 @@ def report_markdown(data: dict[str, Any]) -> bytes:
         span = f"{notes[0] + 1}-{notes[-1] + 1}" if notes else "(overlap only)"
         out.append(f"| {st['statement']} | {st['bar'] or ''} | {', '.join(st['voicings']) or '-'} | "
                    f"{span} | {' '.join(pitch_name(p) for p in first)} |")
-    from .layers import layers_markdown
-
     out += layers_markdown(data)
     out += ["", "## Warnings", ""]
     if not data["warnings"]:
@@ -164,3 +155,49 @@ def report_markdown(data: dict[str, Any]) -> bytes:
         who = f", {w['part']}" if w["part"] else ", all parts"
         out.append(f"- {w['severity']}: {w['kind']} ({where}{who}): {w['message']}")
     return ("\n".join(out) + "\n").encode("utf-8")
+
+
+def layers_data(layers: tuple[VoicedLayer, ...]) -> list[dict[str, Any]]:
+    """``report.json`` ``layers``: section, role, parts (as the lead section's), notes."""
+    out = []
+    for vl in layers:
+        la = vl.layer
+        out.append({
+            "index": la.index, "section": la.section.name, "role": la.role,
+            "rhythm": la.rhythm_text, "dynamics": la.dynamics, "velocity": la.velocity,
+            "parts": [{"name": p.name, "instrument": p.instrument.key,
+                       "transposition": p.instrument.transposition,
+                       "range": list(p.instrument.practical),
+                       "extreme": list(p.instrument.extreme)} for p in la.section.parts],
+            "notes": [{"onset": json_number(n.onset), "duration": json_number(n.duration), "chord": n.chord.symbol,
+                       "pitches": list(n.pitches), "why": n.why} for n in vl.notes],
+        })
+    return out
+
+
+def layer_warnings(layers: tuple[VoicedLayer, ...], events: list[dict[str, Any]]) -> list[dict[str, Any]]:
+    """The layers' findings as report warnings (``events``: the report's, for the bar);
+    ``other_part`` is the lead-section part of a clash."""
+    return [{"kind": f.kind, "event": f.event, "bar": bar_of_event(events, f.event), "part": f.part,
+             "message": f.message, "severity": f.severity, "layer": vl.layer.index,
+             "layer_note": f.note, "other_part": f.other_part} for vl in layers for f in vl.findings]
+
+
+def layers_markdown(data: dict[str, Any]) -> list[str]:
+    """The report's ``## Layers`` section (empty when there are none)."""
+    layers = data.get("layers") or []
+    if not layers:
+        return []
+    out = ["", "## Layers", ""]
+    for la in layers:
+        names = ", ".join(p["name"] for p in la["parts"])
+        out += [f"### Layer {la['index']}: {la['role']}, {la['section']}", "",
+                f"Parts {names}; rhythm `{la['rhythm']}`; dynamic {la['dynamics']}.", "",
+                "| chord | onset | duration | pitches (top to bottom) | why |",
+                "| --- | --- | --- | --- | --- |"]
+        for n in la["notes"]:
+            out.append(f"| {n['chord']} | {n['onset']:g} | {n['duration']:g} | "
+                       f"{' '.join('rest' if p is None else pitch_name(p) for p in n['pitches'])} | "
+                       f"{n.get('why', '')} |")
+        out.append("")
+    return out[:-1]

@@ -12,7 +12,7 @@ from __future__ import annotations
 
 from fractions import Fraction
 
-from ..voicing import Voiced
+from arrange.voicing.voicer import Voiced
 
 __all__ = ["bass_notes", "drum_notes", "BASS_LOW"]
 

@@ -2,7 +2,7 @@
 and read back (music21's own parser) to the same tones."""
 from __future__ import annotations
 
-from ..chords import Chord, parse_chord
+from arrange.theory.chords import Chord, parse_chord
 
 __all__ = ["m21_figure", "chord_symbol"]
 
@@ -18,7 +18,7 @@ def m21_figure(chord: Chord | str) -> str:
     (triad, sixth, seventh) as one of music21's kinds, every extension as ``add``
     with its alteration (music21 rejects spellings such as ``Ebm9`` or ``Cmaj9``,
     and reads ``C13`` with an 11), flats as ``-``."""
-    from ..spelling import m21_name
+    from arrange.theory.spelling import m21_name
 
     ch = parse_chord(chord) if isinstance(chord, str) else chord
     core = tuple(sorted(ch.core))

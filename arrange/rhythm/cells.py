@@ -11,7 +11,7 @@ import re
 from dataclasses import dataclass
 from fractions import Fraction
 
-from .errors import RhythmError
+from arrange.errors import RhythmError
 
 __all__ = ["Token", "parse_cell", "parse_value", "parse_length", "VALUES_HELP"]
 

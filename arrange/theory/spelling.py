@@ -21,8 +21,8 @@ Names are ours (``Eb4``, ``F#5``); :func:`m21_name` turns one into music21's
 """
 from __future__ import annotations
 
-from .chords import ROOT_NAMES, Chord, interval_name, parse_chord, spell_name
-from .keys import LETTERS, Key
+from arrange.theory.chords import ROOT_NAMES, Chord, interval_name, parse_chord, spell_name
+from arrange.theory.keys import LETTERS, Key
 
 __all__ = ["nonchord_degree", "spell_pc", "spell_pitch", "spell_chord", "with_octave", "m21_name", "root_spelling",
            "direction_of"]

@@ -26,7 +26,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from fractions import Fraction
 
-from .meter import Meter
+from arrange.rhythm.meter import Meter
 
 __all__ = ["Piece", "pieces", "READABLE", "readable", "is_triplet"]
 

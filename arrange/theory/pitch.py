@@ -11,7 +11,7 @@ from __future__ import annotations
 import re
 from collections.abc import Iterable, Sequence
 
-from .errors import PitchError
+from arrange.errors import PitchError
 
 __all__ = ["parse_pitch", "parse_pitches", "pitch_name", "ACCEPTED"]
 

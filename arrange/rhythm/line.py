@@ -15,10 +15,10 @@ from __future__ import annotations
 from dataclasses import dataclass
 from fractions import Fraction
 
-from .cells import Token, parse_cell, parse_length
-from .chain import Chain
-from .errors import LimitError, RhythmError
-from .groove import (
+from arrange.chain.core import Chain
+from arrange.errors import LimitError, RhythmError
+from arrange.rhythm.cells import Token, parse_cell, parse_length
+from arrange.rhythm.groove import (
     ARTICULATIONS,
     DEFAULT_CELL,
     DEFAULT_COMPOUND_CELL,
@@ -28,8 +28,8 @@ from .groove import (
     groove_articulation,
     warp,
 )
-from .meter import METERS, Meter, metric_weight, parse_meter
-from .tables import Table
+from arrange.rhythm.meter import METERS, Meter, metric_weight, parse_meter
+from arrange.tables import Table
 
 __all__ = ["Meter", "Note", "Line", "StatementSpan", "RhythmOptions", "parse_meter",
            "read_options", "lay_rhythm", "metric_weight", "METERS", "GROOVES"]

@@ -24,11 +24,11 @@ from itertools import combinations, combinations_with_replacement, permutations,
 
 import numpy as np
 
-from . import rules
-from .chords import Chord
-from .errors import VoicingError
-from .sections import Section, read_rules
-from .shapes import fifth_pc, recipes
+from arrange.errors import VoicingError
+from arrange.theory.chords import Chord
+from arrange.voicing import rules
+from arrange.voicing.sections import Section, read_rules
+from arrange.voicing.shapes import fifth_pc, recipes
 
 __all__ = ["LayerRules", "layer_rules", "tone_order", "pc_sets", "safe_pcs", "rubs", "thinned_sets",
            "candidates", "cross_costs", "clash_pairs", "velocity"]

@@ -14,14 +14,15 @@ import re
 from dataclasses import dataclass, replace
 from fractions import Fraction
 
-from .approach import TECHNIQUES, function_name
-from .chords import Chord, parse_chord
-from .errors import ArrangeError, HarmonyError, ProjectError
-from .keys import MODES, Key, parse_key, parse_key_change
-from .rhythm import Line, Note
-from .spelling import root_spelling, spell_pc
-from .tables import Table
-from .walk import walk
+from arrange.errors import ArrangeError, HarmonyError, ProjectError
+from arrange.harmony.approach import TECHNIQUES, function_name
+from arrange.harmony.events import Event, FrameworkChord, Harmonized
+from arrange.harmony.walk import walk
+from arrange.rhythm.line import Line
+from arrange.tables import Table
+from arrange.theory.chords import Chord, parse_chord
+from arrange.theory.keys import MODES, Key, parse_key, parse_key_change
+from arrange.theory.spelling import root_spelling, spell_pc
 
 __all__ = ["Key", "parse_key", "FrameworkChord", "Event", "Harmonized", "HarmonyOptions",
            "read_options", "harmonize", "parse_framework", "MODES", "PRESETS", "TECHNIQUES",
@@ -38,45 +39,6 @@ _VAMP = {"dorian": 4, "mixolydian": 7, "lydian": 2, "phrygian": 2, "locrian": 2,
          "minor": 6, "harmonic minor": 4, "melodic minor": 4, "major": 4, "ionian": 4}
 _TOKEN = re.compile(r"^(.+?)(?::(\d+))?$")
 MODULATE = ("none", "by-statement")
-
-
-@dataclass(frozen=True, slots=True)
-class FrameworkChord:
-    bar: int             # 1-based
-    onset: Fraction      # quarter notes
-    duration: Fraction
-    chord: Chord
-
-
-@dataclass(frozen=True, slots=True)
-class Event:
-    note: Note
-    chord: Chord
-    role: str            # "framework" or "approach"
-    technique: str | None   # an approach technique, "diatonic substitute", or None
-    lead_function: str   # "1", "3", "b9" ...
-    why: str
-    lead_class: str = "chord tone"   # the lead against its framework chord
-    lead_name: str = ""              # the lead's spelled pitch class, e.g. "Bb"
-    target: Chord | None = None      # for an approach: the chord it resolves to
-
-
-@dataclass(frozen=True, slots=True)
-class Harmonized:
-    line: Line
-    key: Key
-    framework: tuple[FrameworkChord, ...]
-    events: tuple[Event, ...]
-    warnings: tuple[tuple[str, int | None, str], ...]   # (kind, event index, message)
-    keys: tuple[tuple[int, Key], ...] = ()              # (first bar, key), bar 1 first
-
-    def key_at(self, bar: int) -> Key:
-        """The key in force in ``bar`` (1-based)."""
-        current = self.key
-        for first, k in self.keys:
-            if first <= bar:
-                current = k
-        return current
 
 
 @dataclass(frozen=True, slots=True)

@@ -19,10 +19,11 @@ import re
 from dataclasses import dataclass
 from functools import lru_cache
 
-from .errors import HarmonyError
+from arrange.errors import HarmonyError
+from arrange.theory.scales import CHORD_SCALES, chord_scale_name, tensions_in_scale
 
 __all__ = ["Chord", "parse_chord", "format_chord", "VOCABULARY", "ROOT_NAMES",
-           "interval_name", "spell_name"]
+           "interval_name", "spell_name", "chord_scale_for"]
 
 ROOT_NAMES = {"C": 0, "D": 2, "E": 4, "F": 5, "G": 7, "A": 9, "B": 11}
 _LETTERS = "CDEFGAB"
@@ -322,6 +323,11 @@ def format_chord(chord: Chord) -> str:
 @lru_cache(maxsize=4096)
 def _tensions(chord: Chord) -> tuple[int, ...]:
     """Cached: the voicing and layer searches ask for every candidate."""
-    from .keys import chord_scale_for, tensions_in_scale
-
     return tensions_in_scale(chord.intervals, chord_scale_for(chord)[1], chord.is_dominant)
+
+
+def chord_scale_for(chord: Chord) -> tuple[str, tuple[int, ...]]:
+    """The usual chord scale of a chord out of key context (common jazz practice):
+    its name and its intervals, the chord's own tones included."""
+    name = chord_scale_name(chord.intervals, chord.quality)
+    return name, tuple(sorted(set(CHORD_SCALES[name]) | set(chord.intervals)))

@@ -15,9 +15,9 @@ An approach chord must hold the lead as a chord tone or available tension
 """
 from __future__ import annotations
 
-from .chords import Chord
-from .keys import Key, chord_scale_for, chord_scale_in_key, tensions_in_scale
-from .spelling import nonchord_degree, root_spelling, spell_pc
+from arrange.theory.chords import Chord
+from arrange.theory.keys import Key, chord_scale_for, chord_scale_in_key, tensions_in_scale
+from arrange.theory.spelling import nonchord_degree, root_spelling, spell_pc
 
 __all__ = ["TECHNIQUES", "classify", "function_name", "find_approach", "find_substitute"]
 

@@ -9,9 +9,9 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from .errors import DesignError
-from .harmony import Key
-from .pitch import pitch_name
+from arrange.errors import DesignError
+from arrange.theory.keys import Key
+from arrange.theory.pitch import pitch_name
 
 __all__ = ["DesignSpec", "make_spec", "parse_steps", "tonic_chord", "chain_length",
            "LENGTHS", "MAX_STATEMENTS", "MAX_STEP", "MAX_SPACE"]

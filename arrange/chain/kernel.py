@@ -19,7 +19,7 @@ from typing import Any
 
 import numpy as np
 
-from .design_spec import DesignSpec, chain_length, tonic_chord
+from arrange.chain.spec import DesignSpec, chain_length, tonic_chord
 
 __all__ = ["screen", "scores", "plan", "MEMORY_BUDGET"]
 

@@ -23,8 +23,8 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass
 
-from .errors import ChainError, LimitError
-from .pitch import pitch_name
+from arrange.errors import ChainError, LimitError
+from arrange.theory.pitch import pitch_name
 
 __all__ = [
     "Statement",

@@ -11,9 +11,9 @@ from functools import lru_cache
 from pathlib import Path
 from typing import Any
 
-from .errors import ProjectError, VoicingError
-from .pitch import parse_pitch, pitch_name
-from .tables import Table
+from arrange.errors import ProjectError, VoicingError
+from arrange.tables import Table
+from arrange.theory.pitch import parse_pitch, pitch_name
 
 __all__ = ["Instrument", "Part", "Section", "data_dir", "instruments", "sections", "get_section",
            "section_from_table", "read_rules", "describe_range", "MAX_PARTS"]
@@ -55,7 +55,7 @@ class Section:
 
 def _find(folder: str) -> Path:
     here = Path(__file__).resolve().parent
-    for cand in (here.parent / folder, here / folder):
+    for cand in (here.parent.parent / folder, here.parent / folder):
         if cand.is_dir():
             return cand
     raise FileNotFoundError(f"{folder}/ not found beside or inside {here}")

@@ -18,13 +18,13 @@ from fractions import Fraction
 
 import numpy as np
 
-from . import rules
-from .errors import VoicingError
-from .harmony import Event, Harmonized
-from .pitch import pitch_name
-from .sections import Section
-from .shapes import VOICINGS, recipes, shapes
-from .tables import Table
+from arrange.errors import VoicingError
+from arrange.harmony.events import Event, Harmonized
+from arrange.tables import Table
+from arrange.theory.pitch import pitch_name
+from arrange.voicing import rules
+from arrange.voicing.sections import Section
+from arrange.voicing.shapes import VOICINGS, recipes, shapes
 
 __all__ = ["Finding", "VoicedEvent", "Voiced", "VoicingOptions", "read_options", "voice", "VOICINGS",
            "PLANS", "plan", "candidates", "solve", "path_cost"]

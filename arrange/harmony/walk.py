@@ -15,16 +15,13 @@ lead notes keep their chord.
 from __future__ import annotations
 
 from fractions import Fraction
-from typing import TYPE_CHECKING
 
-from .approach import classify, find_approach, find_substitute, function_name
-from .chords import Chord
-from .spelling import direction_of, spell_pc
-
-if TYPE_CHECKING:
-    from .harmony import Event, FrameworkChord
-    from .keys import Key
-    from .rhythm import Line, Note
+from arrange.harmony.approach import classify, find_approach, find_substitute, function_name
+from arrange.harmony.events import Event, FrameworkChord
+from arrange.rhythm.line import Line, Note
+from arrange.theory.chords import Chord
+from arrange.theory.keys import Key
+from arrange.theory.spelling import direction_of, spell_pc
 
 __all__ = ["strong_points", "strength", "walk", "holds"]
 
@@ -61,7 +58,6 @@ def holds(chord: Chord, pitch: int, key: Key) -> bool:
 
 def walk(line: Line, fw: tuple[FrameworkChord, ...], idx: list[int], keys: list[Key],
          techniques: tuple[str, ...]) -> tuple[list[Event], list[tuple[str, int | None, str]]]:
-    from .harmony import Event
 
     notes = line.notes
     n = len(notes)

@@ -1,25 +1,18 @@
-"""Background layers in every output: score parts, MIDI tracks, report entries.
-
-Kept apart from the lead section's writers so each stays one job:
+"""Background layers in the MusicXML files: score parts and printable part files.
 
 * :func:`add_layer_parts` -- one music21 part per layer part, after the lead
   section's parts, each section grouped and bracketed (MusicXML ``<part-group>``);
-* :func:`layer_tracks` -- one MIDI track per layer part, at the layer's dynamic;
-* :func:`layers_data`, :func:`layer_warnings`, :func:`layers_markdown` -- the
-  ``layers`` of ``report.json``, its warnings, and the report's section.
+* :func:`layer_part_bytes` -- one printable file per layer part.
+
+(The layers' MIDI tracks are written by :mod:`.midi`, their report entries by :mod:`.report`.)
 """
 from __future__ import annotations
 
-from fractions import Fraction
-from typing import Any
+from arrange.rhythm.notation import pieces
+from arrange.voicing.layers import VoicedLayer
+from arrange.voicing.voicer import Voiced
 
-from ..layers import VoicedLayer
-from ..notation import pieces
-from ..pitch import pitch_name
-from ..voicing import Voiced
-from .report import bar_of_event, json_number
-
-__all__ = ["add_layer_parts", "layer_sounds", "layer_tracks", "layers_data", "layer_warnings", "layers_markdown"]
+__all__ = ["add_layer_parts", "layer_sounds", "layer_part_bytes"]
 
 
 def _bracket(score, parts) -> None:  # noqa: ANN001
@@ -37,9 +30,9 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
     changed and accidentals printed as in the lead section's parts."""
     from music21 import dynamics, instrument, layout
 
-    from ..spelling import direction_of, m21_name, spell_pitch
-    from .midi import channel_for
-    from .musicxml import (
+    from arrange.theory.spelling import direction_of, m21_name, spell_pitch
+    from arrange.writers.common import channel_for
+    from arrange.writers.xml_score import (
         _accidental,
         _articulation,
         _offset,
@@ -100,88 +93,10 @@ def add_layer_parts(score, voiced: Voiced, layers: tuple[VoicedLayer, ...], info
 def layer_sounds(data: bytes, voiced: Voiced, layers: tuple[VoicedLayer, ...]) -> bytes:
     """``<instrument-sound>`` (MusicXML 4.0 sound ids) for the layers' parts, which
     music21 leaves out, as ``xmlfinish`` does for the lead section's."""
-    from .xmlfinish import add_sounds
+    from arrange.writers.xmlfinish import add_sounds
 
     extra = [p for vl in layers for p in vl.layer.section.parts]
     return add_sounds(data, extra, first=len(voiced.section.parts))
-
-
-def layer_tracks(layers: tuple[VoicedLayer, ...], first_index: int, lead_in: Fraction,
-                 track_from, tick) -> list:  # noqa: ANN001
-    """MIDI tracks of the layers' parts (track numbers after the lead section's),
-    with ``track_from`` and ``tick`` the MIDI writer's own helpers."""
-    from music21 import midi
-
-    from .midi import channel_for, track_head
-
-    tracks = []
-    index = first_index
-    for vl in layers:
-        vel = vl.layer.velocity
-        for k, part in enumerate(vl.layer.section.parts):
-            ch = channel_for(index) + 1
-            evs: list[tuple[int, int, midi.MidiEvent]] = track_head(part.name, ch,
-                                                                    part.instrument.program)
-            for n in vl.notes:
-                if n.pitches[k] is None:
-                    continue
-                on = tick(n.onset + lead_in)
-                off = max(on + 1, tick(n.onset + n.duration + lead_in) - 1)
-                non = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.NOTE_ON, channel=ch)
-                non.pitch, non.velocity = n.pitches[k], vel
-                noff = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.NOTE_OFF, channel=ch)
-                noff.pitch, noff.velocity = n.pitches[k], 0
-                evs.append((on, 3, non))
-                evs.append((off, 2, noff))
-            tracks.append(track_from(evs, index + 1))
-            index += 1
-    return tracks
-
-
-def layers_data(layers: tuple[VoicedLayer, ...]) -> list[dict[str, Any]]:
-    """``report.json`` ``layers``: section, role, parts (as the lead section's), notes."""
-    out = []
-    for vl in layers:
-        la = vl.layer
-        out.append({
-            "index": la.index, "section": la.section.name, "role": la.role,
-            "rhythm": la.rhythm_text, "dynamics": la.dynamics, "velocity": la.velocity,
-            "parts": [{"name": p.name, "instrument": p.instrument.key,
-                       "transposition": p.instrument.transposition,
-                       "range": list(p.instrument.practical),
-                       "extreme": list(p.instrument.extreme)} for p in la.section.parts],
-            "notes": [{"onset": json_number(n.onset), "duration": json_number(n.duration), "chord": n.chord.symbol,
-                       "pitches": list(n.pitches), "why": n.why} for n in vl.notes],
-        })
-    return out
-
-
-def layer_warnings(layers: tuple[VoicedLayer, ...], events: list[dict[str, Any]]) -> list[dict[str, Any]]:
-    """The layers' findings as report warnings (``events``: the report's, for the bar);
-    ``other_part`` is the lead-section part of a clash."""
-    return [{"kind": f.kind, "event": f.event, "bar": bar_of_event(events, f.event), "part": f.part,
-             "message": f.message, "severity": f.severity, "layer": vl.layer.index,
-             "layer_note": f.note, "other_part": f.other_part} for vl in layers for f in vl.findings]
-
-
-def layers_markdown(data: dict[str, Any]) -> list[str]:
-    """The report's ``## Layers`` section (empty when there are none)."""
-    layers = data.get("layers") or []
-    if not layers:
-        return []
-    out = ["", "## Layers", ""]
-    for la in layers:
-        names = ", ".join(p["name"] for p in la["parts"])
-        out += [f"### Layer {la['index']}: {la['role']}, {la['section']}", "",
-                f"Parts {names}; rhythm `{la['rhythm']}`; dynamic {la['dynamics']}.", "",
-                "| chord | onset | duration | pitches (top to bottom) | why |",
-                "| --- | --- | --- | --- | --- |"]
-        for n in la["notes"]:
-            out.append(f"| {n['chord']} | {n['onset']:g} | {n['duration']:g} | "
-                       f"{' '.join('rest' if p is None else pitch_name(p) for p in n['pitches'])} | "
-                       f"{n.get('why', '')} |")
-        out.append("")
-    return out[:-1]
 
 
 def layer_part_bytes(voiced: Voiced, info, layers: tuple[VoicedLayer, ...]) -> list[tuple[str, bytes]]:  # noqa: ANN001
@@ -194,8 +109,8 @@ def layer_part_bytes(voiced: Voiced, info, layers: tuple[VoicedLayer, ...]) -> l
     from music21 import expressions, stream, tempo
     from music21.musicxml.m21ToXml import GeneralObjectExporter
 
-    from . import marks
-    from .musicxml import build_score, finish_xml
+    from arrange.writers import marks
+    from arrange.writers.xml_score import build_score, finish_xml
 
     names = [p.name for vl in layers for p in vl.layer.section.parts]
     one = replace(info, only_part=None, concert=False)

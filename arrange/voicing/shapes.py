@@ -20,9 +20,9 @@ from dataclasses import dataclass
 from functools import lru_cache
 from itertools import combinations, combinations_with_replacement
 
-from .chords import Chord
-from .errors import VoicingError
-from .sections import read_rules
+from arrange.errors import VoicingError
+from arrange.theory.chords import Chord
+from arrange.voicing.sections import read_rules
 
 __all__ = ["VOICINGS", "Recipes", "recipes", "four_note_form", "chord_forms", "close_under",
            "drop", "structures", "shapes", "fifth_pc"]

@@ -11,7 +11,7 @@ import re
 from dataclasses import dataclass
 from fractions import Fraction
 
-from .errors import RhythmError
+from arrange.errors import RhythmError
 
 __all__ = ["Meter", "parse_meter", "METERS", "metric_weight", "WEIGHTS"]
 

@@ -15,56 +15,21 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass
-from typing import TYPE_CHECKING
 
-from .errors import HarmonyError
-
-if TYPE_CHECKING:
-    from .chords import Chord
+from arrange.errors import HarmonyError
+from arrange.theory.chords import Chord, chord_scale_for, parse_chord
+from arrange.theory.scales import CHORD_SCALES, MODES, tensions_in_scale
 
 __all__ = ["Key", "parse_key", "parse_key_change", "MODES", "CHORD_SCALES", "chord_scale_for",
            "chord_scale_in_key", "tensions_in_scale", "LETTERS"]
 
 LETTERS = "CDEFGAB"
 _PC = {"C": 0, "D": 2, "E": 4, "F": 5, "G": 7, "A": 9, "B": 11}
-_MAJOR = (0, 2, 4, 5, 7, 9, 11)
-
-MODES: dict[str, tuple[int, ...]] = {
-    "major": _MAJOR,
-    "minor": (0, 2, 3, 5, 7, 8, 10),
-    "harmonic minor": (0, 2, 3, 5, 7, 8, 11),
-    "melodic minor": (0, 2, 3, 5, 7, 9, 11),
-    "ionian": _MAJOR,
-    "dorian": (0, 2, 3, 5, 7, 9, 10),
-    "phrygian": (0, 1, 3, 5, 7, 8, 10),
-    "lydian": (0, 2, 4, 6, 7, 9, 11),
-    "mixolydian": (0, 2, 4, 5, 7, 9, 10),
-    "aeolian": (0, 2, 3, 5, 7, 8, 10),
-    "locrian": (0, 1, 3, 5, 6, 8, 10),
-}
 _ALIASES = {"natural minor": "minor"}
 # degree of the parent major scale on which each mode starts (for the key signature)
 _PARENT = {"major": 0, "ionian": 0, "dorian": 1, "phrygian": 2, "lydian": 3, "mixolydian": 4,
            "aeolian": 5, "minor": 5, "harmonic minor": 5, "melodic minor": 5, "locrian": 6}
 _CHURCH = ("ionian", "dorian", "phrygian", "lydian", "mixolydian", "aeolian", "locrian")
-
-# chord scales, intervals above the chord root (common jazz practice)
-CHORD_SCALES: dict[str, tuple[int, ...]] = {
-    "ionian": _MAJOR, "dorian": MODES["dorian"], "phrygian": MODES["phrygian"],
-    "lydian": MODES["lydian"], "mixolydian": MODES["mixolydian"], "aeolian": MODES["aeolian"],
-    "locrian": MODES["locrian"],
-    "locrian #2": (0, 2, 3, 5, 6, 8, 10),
-    "melodic minor": MODES["melodic minor"],
-    "lydian dominant": (0, 2, 4, 6, 7, 9, 10),
-    "mixolydian b13": (0, 2, 4, 5, 7, 8, 10),
-    "phrygian dominant": (0, 1, 4, 5, 7, 8, 10),
-    "altered": (0, 1, 3, 4, 6, 8, 10),
-    "half-whole diminished": (0, 1, 3, 4, 6, 7, 9, 10),
-    "whole-half diminished": (0, 2, 3, 5, 6, 8, 9, 11),
-    "whole tone": (0, 2, 4, 6, 8, 10),
-    "lydian augmented": (0, 2, 4, 6, 8, 9, 11),
-}
-
 
 @dataclass(frozen=True, slots=True)
 class Key:
@@ -103,8 +68,6 @@ class Key:
 
     def diatonic_sevenths(self) -> tuple[Chord, ...]:
         """The seventh chord on every degree, stacked in thirds from the scale."""
-        from .chords import parse_chord
-
         sc, names = MODES[self.mode], self.names
         out = []
         for d in range(7):
@@ -114,8 +77,6 @@ class Key:
 
     def degree_chord(self, degree: int, suffix: str | None = None) -> Chord:
         """The diatonic seventh chord on ``degree`` (1..7), or its root with ``suffix``."""
-        from .chords import parse_chord
-
         if suffix is None:
             return self.diatonic_sevenths()[degree - 1]
         return parse_chord(self.names[degree - 1] + suffix)
@@ -168,46 +129,6 @@ def parse_key_change(text: object, *, where: str) -> tuple[int, Key]:
     return int(m.group(2)), parse_key(m.group(1), where=where)
 
 
-def chord_scale_for(chord: Chord) -> tuple[str, tuple[int, ...]]:
-    """The usual chord scale of a chord out of key context (common jazz practice)."""
-    iv = set(chord.intervals)
-    minor3, major3 = 3 in iv and 4 not in iv, 4 in iv
-    b7, maj7 = 10 in iv, 11 in iv
-    if chord.quality == "aug":
-        name = "whole tone"
-    elif chord.quality.startswith("dim"):
-        name = "whole-half diminished"
-    elif minor3 and 6 in iv and b7:
-        name = "locrian #2"
-    elif minor3 and maj7:
-        name = "melodic minor"
-    elif minor3:
-        name = "aeolian" if 8 in iv else "dorian"
-    elif not major3:            # sus chords
-        name = "ionian" if 2 in iv and 5 not in iv else "mixolydian"
-    elif maj7 or not b7:
-        name = "lydian augmented" if 8 in iv and 7 not in iv else \
-            ("lydian" if 6 in iv else "ionian")
-    else:                       # dominant
-        alts = {a for a in ("b5", "#5", "b9", "#9", "#11", "b13") if a in chord.quality}
-        if "#9" in alts or ("b9" in alts and "#5" in alts):
-            name = "altered"
-        elif "b9" in alts and "b13" in alts:
-            name = "phrygian dominant"
-        elif "b9" in alts:
-            name = "half-whole diminished"
-        elif "#5" in alts:
-            name = "whole tone"
-        elif "b13" in alts:
-            name = "mixolydian b13"
-        elif alts & {"#11", "b5"}:
-            name = "lydian dominant"
-        else:
-            name = "mixolydian"
-    scale = tuple(sorted(set(CHORD_SCALES[name]) | iv))
-    return name, scale
-
-
 def chord_scale_in_key(chord: Chord, key: Key) -> tuple[str, tuple[int, ...]]:
     """A chord whose tones all lie in the key takes the key's scale from its root
     (ii in F major: G dorian); any other chord takes its usual chord scale."""
@@ -223,30 +144,3 @@ def chord_scale_in_key(chord: Chord, key: Key) -> tuple[str, tuple[int, ...]]:
             name = f"mode {k + 1} of {key.mode}"
         return name, rot
     return chord_scale_for(chord)
-
-
-def tensions_in_scale(intervals: tuple[int, ...], scale: tuple[int, ...], dominant: bool) -> tuple[int, ...]:
-    """Available tensions of a chord in a chord scale, as intervals above the root.
-
-    9 11 13 and their alterations are available unless a half step above a chord
-    tone (the avoid notes), except b9 and b13 on a dominant; an unaltered dominant
-    takes every tension but the 11; a major sixth chord takes the major seventh.  A chord without
-    sixth or seventh also takes the scale's sixth and seventh (C -> C6, Cmaj7)."""
-    chord = set(intervals)
-    if dominant and not chord & {1, 3, 6, 8} and 7 in chord:
-        # an unaltered dominant takes any tension but the 11 (common jazz practice)
-        return tuple(sorted({1, 2, 3, 6, 8, 9} - chord))
-    has_67 = bool(chord & {9, 10, 11})
-    candidates = {1, 2, 3, 5, 6, 8, 9} | (set() if has_67 else {10, 11})
-    if 9 in chord and 4 in chord and not chord & {10, 11}:
-        candidates.add(11)      # a major sixth chord takes the major seventh (C6 -> Cmaj7)
-    if chord == {0, 3, 6, 9}:
-        candidates.add(11)      # dim7: a whole step above each chord tone
-    out = []
-    for t in sorted(scale):
-        if t in chord or t not in candidates:
-            continue
-        if (t - 1) % 12 in chord and not (dominant and t in (1, 8)):
-            continue
-        out.append(t)
-    return tuple(out)

@@ -25,10 +25,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import design_kernel
-from .chain import Chain, build_chain
-from .design_spec import DesignSpec, make_spec, parse_steps, tonic_chord
-from .pitch import pitch_name
+from arrange.chain import kernel as design_kernel
+from arrange.chain.core import Chain, build_chain
+from arrange.chain.spec import DesignSpec, make_spec, parse_steps, tonic_chord
+from arrange.theory.pitch import pitch_name
 
 __all__ = ["DesignSpec", "make_spec", "parse_steps", "Found", "Design", "search", "meets",
            "score_of", "space_size", "motif_at", "check_space", "why"]
@@ -241,8 +241,8 @@ def search(spec: DesignSpec, top: int = 10, *, count_only: bool = False,
 
 def check_space(spec: DesignSpec, force: bool) -> int:
     """The space size; raise if it passes 10^9 candidates and ``force`` is not given."""
-    from .design_spec import MAX_SPACE
-    from .errors import DesignError
+    from arrange.chain.spec import MAX_SPACE
+    from arrange.errors import DesignError
 
     total = space_size(spec)
     if total > MAX_SPACE and not force:

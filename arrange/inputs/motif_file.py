@@ -12,7 +12,7 @@ from __future__ import annotations
 import re
 from pathlib import Path
 
-from .errors import ProjectError
+from arrange.errors import ProjectError
 
 __all__ = ["read_motif_file", "SUFFIXES", "MAX_BYTES"]
 

@@ -29,10 +29,10 @@ from functools import lru_cache
 
 import numpy as np
 
-from .chords import Chord
-from .errors import VoicingError
-from .pitch import parse_pitch, pitch_name
-from .sections import Section, read_rules
+from arrange.errors import VoicingError
+from arrange.theory.chords import Chord
+from arrange.theory.pitch import parse_pitch, pitch_name
+from arrange.voicing.sections import Section, read_rules
 
 __all__ = ["KINDS", "Context", "context", "masks", "penalties", "low_interval_limits", "findings",
            "INTERVAL_NAMES"]

@@ -28,16 +28,16 @@ from fractions import Fraction
 
 import numpy as np
 
-from . import rules
-from .chords import Chord
-from .errors import ProjectError
-from .harmony import FrameworkChord, Harmonized
-from .pads import candidates, clash_pairs, cross_costs, layer_rules, rubs, tone_order, velocity
-from .pitch import pitch_name
-from .sections import Section, section_from_table
-from .shapes import recipes
-from .tables import Table
-from .voicing import Voiced
+from arrange.errors import ProjectError
+from arrange.harmony.events import FrameworkChord, Harmonized
+from arrange.tables import Table
+from arrange.theory.chords import Chord
+from arrange.theory.pitch import pitch_name
+from arrange.voicing import rules
+from arrange.voicing.pads import candidates, clash_pairs, cross_costs, layer_rules, rubs, tone_order, velocity
+from arrange.voicing.sections import Section, section_from_table
+from arrange.voicing.shapes import recipes
+from arrange.voicing.voicer import Voiced
 
 __all__ = ["Layer", "LayerNote", "LayerFinding", "VoicedLayer", "ROLES", "DYNAMICS", "read_layers",
            "parse_values", "build_layers", "accents", "layer_times"]

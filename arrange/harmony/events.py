@@ -1,0 +1,54 @@
+"""The harmony stage's values: framework chords, one event per lead note, the result.
+
+Shared by the harmonizer, the walk that chooses approach chords, and every later
+stage that reads a :class:`Harmonized`.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from fractions import Fraction
+
+from arrange.rhythm.line import Line, Note
+from arrange.theory.chords import Chord
+from arrange.theory.keys import Key
+
+__all__ = ["FrameworkChord", "Event", "Harmonized"]
+
+
+@dataclass(frozen=True, slots=True)
+class FrameworkChord:
+    bar: int             # 1-based
+    onset: Fraction      # quarter notes
+    duration: Fraction
+    chord: Chord
+
+
+@dataclass(frozen=True, slots=True)
+class Event:
+    note: Note
+    chord: Chord
+    role: str            # "framework" or "approach"
+    technique: str | None   # an approach technique, "diatonic substitute", or None
+    lead_function: str   # "1", "3", "b9" ...
+    why: str
+    lead_class: str = "chord tone"   # the lead against its framework chord
+    lead_name: str = ""              # the lead's spelled pitch class, e.g. "Bb"
+    target: Chord | None = None      # for an approach: the chord it resolves to
+
+
+@dataclass(frozen=True, slots=True)
+class Harmonized:
+    line: Line
+    key: Key
+    framework: tuple[FrameworkChord, ...]
+    events: tuple[Event, ...]
+    warnings: tuple[tuple[str, int | None, str], ...]   # (kind, event index, message)
+    keys: tuple[tuple[int, Key], ...] = ()              # (first bar, key), bar 1 first
+
+    def key_at(self, bar: int) -> Key:
+        """The key in force in ``bar`` (1-based)."""
+        current = self.key
+        for first, k in self.keys:
+            if first <= bar:
+                current = k
+        return current
