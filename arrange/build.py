@@ -16,7 +16,7 @@ from arrange.rhythm.line import lay_rhythm
 from arrange.voicing.layers import VoicedLayer, build_layers
 from arrange.voicing.voicer import Voiced, voice
 
-__all__ = ["run_pipeline", "run_layers", "render_outputs", "render_project", "write_outputs", "BuildResult"]
+__all__ = ["check_size", "written_notes", "MAX_SCORE_NOTES", "run_pipeline", "run_layers", "render_outputs", "render_project", "write_outputs", "BuildResult"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -35,18 +35,48 @@ class BuildResult:
 MAX_SCORE_NOTES = 40_000
 
 
-def check_size(project: Project) -> None:
-    """Refuse, before any work starts, a passage too big to write in reasonable time."""
+def written_notes(project: Project) -> tuple[int, int]:
+    """(lead notes, written notes) of a project, known before the slow stages run:
+    the lead section writes one note per lead note and part; a layer writes at most
+    one chord per rhythm value (its shortest) and chord change, per part (pad), or
+    one per lead note (hits).  The rhythm stage, which is quick, gives the length."""
     c = project.chain
     notes = chain_length(len(c.motif), c.statements, c.overlap)
-    parts = len(project.section.parts) + sum(len(la.section.parts) for la in project.layers)
-    if notes * parts > MAX_SCORE_NOTES:
+    written = notes * len(project.section.parts)
+    if not project.layers or written > MAX_SCORE_NOTES:
+        return notes, written
+    try:
+        line = lay_rhythm(build_chain(c.motif, c.statements, c.overlap, None), project.meter, project.rhythm)
+    except ArrangeError:
+        return notes, written                      # the pipeline reports it where it belongs
+    beats = max(1, len(project.meter.beats))
+    changes = (line.bars + 1) * beats              # at most one framework chord per beat
+    for la in project.layers:
+        if la.role == "pad":
+            shortest = min(v for v, rest in la.rhythm if not rest)
+            per_part = int(line.total / shortest) + 1 + changes
+        else:
+            per_part = notes
+        written += per_part * len(la.section.parts)
+    return notes, written
+
+
+def check_size(project: Project, *, where: str | None = None, already: int = 0) -> int:
+    """Refuse, before any work starts, a passage too big to write in reasonable time;
+    ``already`` counts the notes of the other combinations of a ``--vary`` build."""
+    notes, written = written_notes(project)
+    if written + already > MAX_SCORE_NOTES:
         name = project.path.name if project.path else "project"
-        raise LimitError(
-            f"{notes} lead notes for {parts} parts make {notes * parts} written notes",
-            where=f"{name}, key 'chain.statements'",
-            accepted=f"at most {MAX_SCORE_NOTES} written notes (lead notes x parts): fewer "
-                     "statements or a smaller section")
+        parts = len(project.section.parts) + sum(len(la.section.parts) for la in project.layers)
+        what = (f"{notes} lead notes for {parts} parts"
+                + (" (layers included)" if project.layers else "") + f" make {written:,} written notes")
+        if already:
+            what += f", {written + already:,} with the combinations before it"
+        raise LimitError(what, where=where or f"{name}, key 'chain.statements'",
+                         accepted=f"at most {MAX_SCORE_NOTES:,} written notes in one build (lead notes x "
+                         "parts, layers and --vary combinations included): fewer statements, "
+                         "combinations or parts, or longer layer rhythms")
+    return written
 
 
 def run_pipeline(project: Project) -> Voiced:

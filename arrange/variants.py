@@ -175,6 +175,11 @@ def build_variants(project_path: Path, specs: tuple[str, ...], out_dir: Path,
     variants = expand(data, varies, p.name, p.resolve())
     if adjust is not None:                     # the command line's own flags (--parts, ...)
         variants = [Variant(v.name, v.folder, adjust(v.project)) for v in variants]
+    from arrange.build import check_size
+
+    counted = 0
+    for var in variants:                       # every combination counts toward the limits
+        counted += check_size(var.project, where=f"--vary {var.name}", already=counted)
     rendered = []
     for var in variants:                       # everything in memory before a file is written
         try:
