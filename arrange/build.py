@@ -30,6 +30,19 @@ class BuildResult:
         return (len(self.voiced.findings) + len(self.voiced.harmonized.warnings)
                 + sum(len(v.findings) for v in self.layers))
 
+    @property
+    def severities(self) -> tuple[int, int]:
+        """(errors, warnings) as the report counts them: harmony warnings are warnings,
+        voicing and layer findings carry their own severity."""
+        sev = [f.severity for f in self.voiced.findings]
+        sev += [f.severity for v in self.layers for f in v.findings]
+        errors = sev.count("error")
+        return errors, len(sev) - errors + len(self.voiced.harmonized.warnings)
+
+    def report_path(self) -> Path | None:
+        """The Markdown report among the written files (None when not asked)."""
+        return next((p for p in self.files if p.name.endswith(".report.md")), None)
+
 
 # the writers take about 2 ms per written note on a laptop; past this a build takes minutes
 MAX_SCORE_NOTES = 40_000

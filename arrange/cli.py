@@ -85,11 +85,13 @@ def _overlaps(text: str | None) -> tuple[int, ...] | None:
     return tuple(out)
 
 
-@main.command()
+# Short options mean one thing in every command: -o is the output folder (build, demo),
+# -k the statements, -n the motif's length.  --overlap has no short form: -o was taken.
+@main.command(short_help="Grow a motif into an RI chain and print it.")
 @click.argument("motif")
 @click.option("--statements", "-k", default=4, show_default=True, type=int,
               help="How many statements (1..1000).")
-@click.option("--overlap", "-o", default=None, type=int, help="Notes shared by each link (default 2).")
+@click.option("--overlap", default=None, type=int, help="Notes shared by each link (default 2).")
 @click.option("--overlaps", default=None, help="One overlap per link, e.g. 2,3,2.")
 @click.option("--lead-range", nargs=2, default=None, metavar="LOW HIGH",
               help="Concert range to place the line in, e.g. F4 D5.")
@@ -147,7 +149,7 @@ def _chain_table(c: Any) -> str:
     return "\n".join(lines)
 
 
-@main.command()
+@main.command(short_help="Build a project into score, MIDI, report and preview.")
 @click.argument("project", type=click.Path(dir_okay=False, path_type=Path))
 @click.option("-o", "--out", "out_dir", default="out", show_default=True,
               type=click.Path(file_okay=False, path_type=Path), help="Output folder.")
@@ -160,20 +162,31 @@ def _chain_table(c: Any) -> str:
 @click.option("--vary", "vary", multiple=True, metavar="KEY=V1,V2",
               help="Build every combination into its own folder, with DIR/variants.md "
               "(e.g. voicing=close,drop2; repeatable).")
+@click.option("--transpose", "move", default=None, metavar="SEMITONES|KEY",
+              help='Move the whole project: by semitones (-3, +5), or to a key ("Ab major", '
+              "in the octave that keeps the lead in range).")
 @guarded
 def build(project: Path, out_dir: Path, formats: str | None, parts: bool | None,
-          analysis: bool | None, audio: bool | None, vary: tuple[str, ...] = ()) -> None:
+          analysis: bool | None, audio: bool | None, vary: tuple[str, ...] = (),
+          move: str | None = None) -> None:
     """Build PROJECT.toml into score, MIDI and report files in the output folder."""
     from arrange.project import load_project
 
-    proj = _with_flags(load_project(project), parts, analysis, audio)
+    def adjust(pr: Any) -> Any:
+        if move is not None:
+            from arrange.project import transpose_project
+            from arrange.transpose import parse_target
+
+            pr = transpose_project(pr, parse_target(move, where="--transpose"), where="--transpose")
+        return _with_flags(pr, parts, analysis, audio)
+
+    proj = adjust(load_project(project))
     fmts = _formats(formats)
     if vary:
         from arrange.variants import build_variants
 
         click.echo(f"{proj.title}: every combination of {len(vary)} varied keys ...", err=True)
-        for p in build_variants(project, vary, out_dir, fmts,
-                                adjust=lambda pr: _with_flags(pr, parts, analysis, audio)):
+        for p in build_variants(project, vary, out_dir, fmts, adjust=adjust):
             click.echo(str(p))
         return
     _build_one(proj, out_dir, fmts, label=proj.title)
@@ -214,14 +227,24 @@ def _build_one(proj: Any, out_dir: Path, fmts: tuple[str, ...] | None, *, label:
 
     notes: list[str] = []
     result = write_outputs(proj, out_dir, fmts, notes, progress=say)
-    click.echo(("\r" if err else "") + f"{label}: {len(result.files)} files" + " " * 8, err=True)
+    if err:
+        click.echo("\r" + " " * 60 + "\r", err=True, nl=False)   # clear the progress line
     for p in result.files:
         click.echo(str(p))
     for note in notes:
         click.echo(f"arrange: {note}", err=True)
-    n = result.warnings
-    if n:
-        click.echo(f"{label}: {n} warning{'s' if n != 1 else ''}: see the report", err=True)
+    click.echo(f"{label}: {summary_line(result, out_dir)}", err=True)
+
+
+def summary_line(result: Any, out_dir: Path) -> str:
+    """``6 files in out; 0 errors, 2 warnings; report: out/cue.report.md``."""
+    errors, warnings = result.severities
+    n = len(result.files)
+    report = result.report_path()
+    where = f"report: {report}" if report is not None else "no report written (--formats report)"
+    return (f"{n} file{'s' if n != 1 else ''} in {out_dir}; "
+            f"{errors} error{'s' if errors != 1 else ''}, {warnings} warning{'s' if warnings != 1 else ''}; "
+            f"{where}")
 
 
 def demo_dir() -> Path:
@@ -230,7 +253,7 @@ def demo_dir() -> Path:
     return _find("demo_projects")
 
 
-@main.command()
+@main.command(short_help="Build every bundled demo project.")
 @click.option("-o", "--out", "out_dir", default="out", show_default=True,
               type=click.Path(file_okay=False, path_type=Path), help="Output folder.")
 @click.option("--parts/--no-parts", default=None, help="Also write one MusicXML file per part.")
@@ -247,7 +270,7 @@ def demo(out_dir: Path, parts: bool | None, analysis: bool | None, audio: bool |
         _build_one(proj, out_dir, None, label=f"[{i}/{len(projects)}] {path.stem}")
 
 
-@main.command()
+@main.command(short_help="List the sections you can voice for, with their ranges.")
 @click.option("--json", "as_json", is_flag=True, help="Print JSON.")
 @guarded
 def sections(as_json: bool) -> None:
@@ -281,7 +304,7 @@ def starter_text(name: str) -> str:
     return STARTER.format(name=name)
 
 
-@main.command()
+@main.command(short_help="Write a commented starter project to build first.")
 @click.argument("project", type=click.Path(dir_okay=False, path_type=Path))
 @guarded
 def new(project: Path) -> None:
@@ -325,10 +348,10 @@ class _Progress:
             click.echo("", err=True)
 
 
-@main.command()
+@main.command(short_help="Search every motif for RI chains with the properties asked.")
 @click.option("--length", "-n", required=True, type=int, help="Notes in the motif (2..8).")
 @click.option("--statements", "-k", default=4, show_default=True, type=int, help="Statements (1..64).")
-@click.option("--overlap", "-o", default=2, show_default=True, type=int, help="Notes shared by each link.")
+@click.option("--overlap", default=2, show_default=True, type=int, help="Notes shared by each link.")
 @click.option("--start", default=None, help="First note (default C4; a transition's first tonic).")
 @click.option("--max-step", default=None, type=int, help="Largest melodic step in semitones (default 12).")
 @click.option("--steps", default=None, help="Allowed step sizes, e.g. 1,2,5 (both ways) or +3,-4.")

@@ -178,9 +178,33 @@ def project_from_data(data: dict[str, object], where: str, path: Path | None = N
     sec_table.finish()
     output = _output(top.sub("output"))
     layers = read_layers(top.raw("layers", None), where)
+    move = top.raw("transpose", None)
     top.finish()
-    return Project(path, title, slugify(title), tempo, meter, key, chain, rhythm_opts,
-                   harmony_opts, section, voicing_opts, output, layers, style.strip())
+    project = Project(path, title, slugify(title), tempo, meter, key, chain, rhythm_opts,
+                      harmony_opts, section, voicing_opts, output, layers, style.strip())
+    if move is None:
+        return project
+    from arrange.transpose import parse_target
+
+    at = top.at("transpose")
+    return transpose_project(project, parse_target(move, where=at), where=at)
+
+
+def transpose_project(project: Project, target: int | harmony.Key, *, where: str) -> Project:
+    """``project`` moved by semitones, or to a key in the octave nearest to no move that
+    keeps the lead in its practical range (:mod:`arrange.transpose`)."""
+    from dataclasses import replace
+
+    from arrange.transpose import move
+
+    c = project.chain
+    lead = project.section.lead
+    moved = move(project.key, (c.motif, c.statements, c.overlap, c.lead_range), project.harmony,
+                 (lead.name, lead.instrument.practical), target, where=where)
+    if moved.shift == 0 and moved.key == project.key:
+        return project
+    return replace(project, key=moved.key, harmony=moved.harmony,
+                   chain=replace(c, motif=moved.motif, lead_range=moved.lead_range))
 
 
 def _long_number(text: str) -> str:

@@ -33,8 +33,13 @@ SHORT = {
     "voicing": "section.voicing", "section": "section.name", "groove": "rhythm.groove",
     "swing": "rhythm.swing", "cell": "rhythm.cell", "framework": "harmony.framework",
     "approach": "harmony.approach", "motif": "chain.motif", "statements": "chain.statements",
-    "overlap": "chain.overlap",
+    "overlap": "chain.overlap", "transpose": "transpose",
+    # a varied key moves the whole project there (motif, framework, key changes), not
+    # only its signature: see arrange.transpose
+    "key": "transpose",
 }
+# keys whose value is a list: a plain word stands for a list of one (approach=dominant)
+LISTS = frozenset({"harmony.approach", "output.formats"})
 MAX_VARIANTS = 64
 
 
@@ -99,7 +104,8 @@ def _set(data: dict[str, Any], vary: Vary, text: str) -> None:
             raise ProjectError(f"key {vary.key!r}: {'.'.join(parts[:depth])!r} is not a table",
                                where=where, accepted=_accepted_keys())
         if last:
-            node[seg] = _typed(text, node.get(seg))
+            value = _typed(text, node.get(seg))
+            node[seg] = [value] if vary.key in LISTS and not isinstance(value, list) else value
             if vary.key == "rhythm.groove":
                 _drop_groove_options(node, node[seg])
             return
