@@ -141,7 +141,7 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
         if "preview" in formats:
             from arrange.writers.preview import have_png, png_bytes, svg_bytes
 
-            svg = svg_bytes(xml)
+            svg = svg_bytes(xml, notes)
             files[f"{slug}.svg"] = svg
             if have_png():
                 files[f"{slug}.png"] = png_bytes(svg)
