@@ -54,20 +54,39 @@ def written_notes(project: Project) -> tuple[int, int]:
     one chord per rhythm value (its shortest) and chord change, per part (pad), or
     one per lead note (hits).  The rhythm stage, which is quick, gives the length."""
     c = project.chain
-    notes = chain_length(len(c.motif), c.statements, c.overlap)
+    line = None
+    if c is not None:
+        notes = chain_length(len(c.motif), c.statements, c.overlap)
+    elif project.melody is not None:
+        notes = len(project.melody.notes)
+    else:
+        from arrange.form import lead_notes_estimate
+
+        notes = lead_notes_estimate(project.passages)
     written = notes * len(project.section.parts)
     if not project.layers or written > MAX_SCORE_NOTES:
         return notes, written
     try:
-        line = lay_rhythm(build_chain(c.motif, c.statements, c.overlap, None), project.meter, project.rhythm)
+        if c is not None:
+            line = lay_rhythm(build_chain(c.motif, c.statements, c.overlap, None), project.meter,
+                              project.rhythm)
+        elif project.melody is not None:
+            from arrange.rhythm.melody import lay_melody
+
+            line = lay_melody(project.melody, project.meter, project.rhythm, where="melody")
     except ArrangeError:
-        return notes, written                      # the pipeline reports it where it belongs
+        pass                                       # the pipeline reports it where it belongs
     beats = max(1, len(project.meter.beats))
-    changes = (line.bars + 1) * beats              # at most one framework chord per beat
+    if line is not None:
+        length, bars = line.total, line.bars
+    else:                                          # passages: a lead note a beat, as a rough guide
+        length = notes * project.meter.bar / beats
+        bars = int(length / project.meter.bar) + 1
+    changes = (bars + 1) * beats                   # at most one framework chord per beat
     for la in project.layers:
         if la.role == "pad":
             shortest = min(v for v, rest in la.rhythm if not rest)
-            per_part = int(line.total / shortest) + 1 + changes
+            per_part = int(length / shortest) + 1 + changes
         else:
             per_part = notes
         written += per_part * len(la.section.parts)
@@ -94,7 +113,22 @@ def check_size(project: Project, *, where: str | None = None, already: int = 0) 
 
 def run_pipeline(project: Project) -> Voiced:
     check_size(project)
+    where = f"{project.path.name if project.path else 'project'} [harmony]"
+    if project.passages:
+        from arrange.form import run_form
+
+        harmonized, voicing_options = run_form(project)
+        return voice(harmonized, project.section, voicing_options)
+    if project.melody is not None:
+        from arrange.rhythm.melody import lay_melody
+
+        name = project.path.name if project.path else "project"
+        melody_line = lay_melody(project.melody, project.meter, project.rhythm,
+                                 where=f"{name}, key 'melody'")
+        return voice(harmonize(melody_line, project.key, project.harmony, where=where),
+                     project.section, project.voicing)
     c = project.chain
+    assert c is not None
     # no lead_range given: the chain is placed into the lead instrument's practical range
     lead_range = c.lead_range or project.section.lead.instrument.practical
     try:
@@ -102,8 +136,7 @@ def run_pipeline(project: Project) -> Voiced:
     except ArrangeError as err:
         raise _in_project(err, project, "chain") from None
     line = lay_rhythm(chain, project.meter, project.rhythm)
-    harmonized = harmonize(line, project.key, project.harmony,
-                           where=f"{project.path.name if project.path else 'project'} [harmony]")
+    harmonized = harmonize(line, project.key, project.harmony, where=where)
     return voice(harmonized, project.section, project.voicing)
 
 

@@ -123,25 +123,19 @@ def _top_part_pitches(data: bytes, path: Path, where: str, accepted: str) -> lis
     except Exception as err:  # noqa: BLE001 - any parser fault is bad input here
         raise ProjectError(f"motif file {str(path)[:80]!r} cannot be read as MusicXML: "
                            f"{type(err).__name__}", where=where, accepted=accepted) from None
+    from arrange.inputs.melody_file import lead_notes
+
+    # chord symbols, grace notes and rests are no motif notes; a chord gives its top note
+    # (one definition of a lead note, shared with the melody reader)
     parts = list(score.parts) if isinstance(score, stream.Score) else [score]
-    top = None
-    for p in parts:
-        if p.flatten().notes:
-            top = p
-            break
+    top = next((p for p in parts if lead_notes(p)), None)
     if top is None:
         return []
     top = top.toSoundingPitch()
-    out: list[int] = []
-    for n in top.flatten().notes:
-        if n.tie is not None and n.tie.type in ("stop", "continue"):
-            continue
-        numbers = [round(p.ps) for p in n.pitches]
-        if any(not 0 <= x <= 127 for x in numbers):
-            bad = next(p for p in n.pitches if not 0 <= round(p.ps) <= 127)
+    for n in top.flatten().notes:                  # music21's .midi would move them into range
+        bad = next((p for p in getattr(n, "pitches", ()) if not 0 <= round(p.ps) <= 127), None)
+        if bad is not None:
             raise ProjectError(f"motif file {str(path)[:80]!r}: the note {bad.nameWithOctave} "
                                f"(MIDI {round(bad.ps)}) is outside MIDI 0..127", where=where,
                                accepted="notes from C-1 (0) to G9 (127)")
-        if numbers:
-            out.append(max(numbers))      # the top note of a chord carries the line
-    return out
+    return [pitch for _on, _dur, pitch in lead_notes(top)]
