@@ -13,10 +13,12 @@ from arrange.errors import ArrangeError, LimitError
 from arrange.harmony.harmonizer import harmonize
 from arrange.project import Project
 from arrange.rhythm.line import lay_rhythm
+from arrange.rhythm_section import RhythmSection, build_rhythm_section
 from arrange.voicing.layers import VoicedLayer, build_layers
 from arrange.voicing.voicer import Voiced, voice
 
-__all__ = ["check_size", "written_notes", "MAX_SCORE_NOTES", "run_pipeline", "run_layers", "render_outputs", "render_project", "write_outputs", "BuildResult"]
+__all__ = ["check_size", "written_notes", "MAX_SCORE_NOTES", "run_pipeline", "run_layers",
+           "run_rhythm_section", "render_outputs", "render_project", "write_outputs", "BuildResult"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -140,9 +142,19 @@ def run_pipeline(project: Project) -> Voiced:
     return voice(harmonized, project.section, project.voicing)
 
 
+def run_rhythm_section(project: Project, voiced: Voiced) -> RhythmSection | None:
+    """The project's written rhythm section ([rhythm_section] parts), or None."""
+    return build_rhythm_section(voiced.harmonized, project.rhythm_section)
+
+
 def run_layers(project: Project, voiced: Voiced) -> tuple[VoicedLayer, ...]:
     """The project's [[layers]], voiced under the lead section."""
-    return build_layers(voiced.harmonized, voiced, project.layers)
+    layers = build_layers(voiced.harmonized, voiced, project.layers)
+    if project.passages and layers:
+        from arrange.form import mute_layers
+
+        layers = mute_layers(layers, voiced.harmonized, project.passages)
+    return layers
 
 
 def _in_project(err: ArrangeError, project: Project, table: str) -> ArrangeError:
@@ -155,7 +167,8 @@ def _in_project(err: ArrangeError, project: Project, table: str) -> ArrangeError
 
 def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
                    notes: list[str] | None = None,
-                   layers: tuple[VoicedLayer, ...] = ()) -> dict[str, bytes]:
+                   layers: tuple[VoicedLayer, ...] = (),
+                   rhythm: RhythmSection | None = None) -> dict[str, bytes]:
     """Every asked file as bytes, in memory, before anything is written.  One-line
     notices (audio skipped, say) are appended to ``notes``."""
     files: dict[str, bytes] = {}
@@ -169,6 +182,10 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
                          analysis=out.analysis, concert=out.concert_score, version=__version__)
     if info is not None and ("musicxml" in formats or "preview" in formats):
         xml = musicxml_bytes(voiced, info, layers)   # the full score only when it is written or drawn
+        if rhythm is not None:
+            from arrange.writers.xml_rhythm import add_rhythm_parts
+
+            xml = add_rhythm_parts(xml, rhythm, voiced.harmonized, len(voiced.section.parts))
         if "musicxml" in formats:
             files[f"{slug}.musicxml"] = xml
         if "preview" in formats:
@@ -193,13 +210,19 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
             first = len(voiced.section.parts)
             for j, (name, part_xml) in enumerate(layer_part_bytes(voiced, info, layers)):
                 files[f"{slug}.part{first + j + 1:02d}-{slugify(name)}.musicxml"] = part_xml
+        if rhythm is not None:
+            from arrange.writers.xml_rhythm import rhythm_part_files
+
+            first = len(voiced.section.parts) + sum(len(vl.layer.section.parts) for vl in layers)
+            for j, (name, part_xml) in enumerate(rhythm_part_files(
+                    rhythm, voiced.harmonized, project.title, project.tempo, _style(project), __version__)):
+                files[f"{slug}.part{first + j + 1:02d}-{slugify(name)}.musicxml"] = part_xml
     midi = None
     if "midi" in formats or out.audio:
         from arrange.writers.midi import MidiOptions, midi_bytes
 
         midi = midi_bytes(voiced, project.tempo,
-                          MidiOptions(out.dynamics, out.humanize, out.seed, out.rhythm_section),
-                          layers)
+                          MidiOptions(out.dynamics, out.humanize, out.seed), layers, rhythm)
         if "midi" in formats:
             files[f"{slug}.mid"] = midi
     if out.audio and midi is not None:
@@ -220,9 +243,21 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
 
             data["layers"] = layers_data(layers)
             data["warnings"] = list(data["warnings"]) + layer_warnings(layers, data["events"])
+        if rhythm is not None:
+            data["rhythm_section"] = rhythm_data(rhythm)
         files[f"{slug}.report.json"] = report_json(data)
         files[f"{slug}.report.md"] = report_markdown(data)
     return files
+
+
+def rhythm_data(rhythm: RhythmSection) -> dict[str, object]:
+    """The report's ``rhythm_section``: its parts (names as the score writes them), the
+    bass style and instrument, and the drum part's fill bars."""
+    names = {"guitar": "Guitar", "piano": "Piano", "bass": "Bass", "drums": "Drums"}
+    return {"parts": [{"name": names[p], "role": p} for p in rhythm.parts],
+            "bass_style": rhythm.bass_style, "bass_instrument": rhythm.bass_instrument,
+            "bass_notes": len(rhythm.bass), "slashes": sum(1 for s in rhythm.comping if not s.rest),
+            "fills": list(rhythm.drums.fills) if rhythm.drums is not None else []}
 
 
 def _style(project: Project) -> str:
@@ -255,9 +290,10 @@ def render_project(project: Project, formats: tuple[str, ...] | None = None,
         progress("voicing")
     voiced = run_pipeline(project)
     layers = run_layers(project, voiced)
+    rhythm = run_rhythm_section(project, voiced)
     if progress is not None:
         progress("writing")
-    files = render_outputs(project, voiced, formats or project.output.formats, notes, layers)
+    files = render_outputs(project, voiced, formats or project.output.formats, notes, layers, rhythm)
     return voiced, layers, files
 
 

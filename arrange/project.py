@@ -17,6 +17,8 @@ from arrange.harmony import harmonizer as harmony
 from arrange.inputs.checked import MAX_DEPTH, bad_character, check_data, read_regular
 from arrange.inputs.melody_file import Melody
 from arrange.rhythm import line as rhythm
+from arrange.rhythm_section.options import RhythmSectionOptions
+from arrange.rhythm_section.options import read_options as read_rhythm_section
 from arrange.tables import Table
 from arrange.theory.pitch import parse_pitch, parse_pitches
 from arrange.voicing import voicer as voicing
@@ -46,7 +48,7 @@ class OutputSpec:
     analysis: bool = False                # statement labels, approach techniques
     parts: bool = False                   # one MusicXML per part as well
     concert_score: bool = False           # the score at concert pitch (parts stay transposed)
-    rhythm_section: bool = False          # MIDI bass and drums mock-up
+    rhythm_section: bool = False          # the old switch: bass and drums ([rhythm_section] now)
     humanize: float = 0.0                 # milliseconds of seeded timing spread (0 = none)
     seed: int = 1
     audio: bool = False                   # a WAV through fluidsynth when installed
@@ -70,6 +72,7 @@ class Project:
     style: str = ""                    # the style word over the metronome mark ("" = from groove and tempo)
     melody: Melody | None = None       # melody = "file:..." or compact text, instead of [chain]
     passages: tuple[Any, ...] = ()     # [[passages]]: a form (arrange.form.Passage values)
+    rhythm_section: RhythmSectionOptions = RhythmSectionOptions()   # written piano, guitar, bass, drums
 
 
 def slugify(title: str) -> str:
@@ -196,13 +199,21 @@ def project_from_data(data: dict[str, object], where: str, path: Path | None = N
     sec_table.finish()
     output = _output(top.sub("output"))
     layers = read_layers(top.raw("layers", None), where)
+    rs_table = top.sub("rhythm_section")
+    if output.rhythm_section and rs_table.has("parts"):
+        raise ProjectError("both output.rhythm_section and rhythm_section.parts are given",
+                           where=f"{where}, key 'output.rhythm_section'",
+                           accepted="only [rhythm_section] parts = [...] (output.rhythm_section = true "
+                                    "is the old spelling of parts = [\"bass\", \"drums\"])")
+    rhythm_section = read_rhythm_section(rs_table, legacy=output.rhythm_section)
     passages: tuple[Any, ...] = ()
     if kinds == ["passages"]:
         from dataclasses import replace
 
         from arrange.form import form_dynamics, read_passages
 
-        passages = read_passages(top, where, base, meter, key, section, output.dynamics, _chain)
+        passages = read_passages(top, where, base, meter, key, section, output.dynamics, _chain,
+                                 len(layers))
         output = replace(output, dynamics=form_dynamics(passages))
         harmony_opts = harmony.HarmonyOptions()        # each passage has its own
     else:
@@ -214,7 +225,8 @@ def project_from_data(data: dict[str, object], where: str, path: Path | None = N
     move = top.raw("transpose", None)
     top.finish()
     project = Project(path, title, slugify(title), tempo, meter, key, chain, rhythm_opts,
-                      harmony_opts, section, voicing_opts, output, layers, style.strip(), melody, passages)
+                      harmony_opts, section, voicing_opts, output, layers, style.strip(), melody, passages,
+                      rhythm_section=rhythm_section)
     if move is None:
         return project
     from arrange.transpose import parse_target

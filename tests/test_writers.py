@@ -18,10 +18,10 @@ from conftest import BASIC, write_project
 
 from arrange.build import run_pipeline
 from arrange.project import load_project
+from arrange.rhythm_section import RhythmSectionOptions, build_rhythm_section
 from arrange.writers import marks
 from arrange.writers.audio import missing_message, normalise
 from arrange.writers.files import write_batch
-from arrange.writers.rhythm_section import bass_notes, drum_notes
 
 
 @pytest.fixture
@@ -102,19 +102,27 @@ def test_rehearsal_letters() -> None:
     assert [marks.rehearsal_letter(k) for k in (1, 2, 26, 27)] == ["A", "B", "Z", "AA"]
 
 
+def _rhythm(voiced):  # noqa: ANN001, ANN202
+    opts = RhythmSectionOptions(parts=("bass", "drums"))
+    return build_rhythm_section(voiced.harmonized, opts)
+
+
 def test_bass_plays_framework_roots_in_bass_register(voiced) -> None:
-    notes = bass_notes(voiced)
-    assert notes and all(28 <= p <= 39 for _, _, p, _ in notes)   # E1..Eb2 (from memory: 4-string bass)
+    notes = _rhythm(voiced).bass
+    # E1..D3: a 4-string bass's low register (from memory)
+    assert notes and all(28 <= n.pitch <= 50 for n in notes)
     for fc in voiced.harmonized.framework:
-        at = [p for s, _, p, _ in notes if s == fc.onset]
+        at = [n.pitch for n in notes if n.onset == fc.onset]
         assert at and at[0] % 12 == fc.chord.root % 12
 
 
 def test_drums_use_general_midi_keys(voiced) -> None:
-    keys = {p for _, _, p, _ in drum_notes(voiced)}
-    # GM 1 percussion map: 36 bass drum 1, 38 acoustic snare, 42 closed hi-hat
-    assert keys == {36, 38, 42}
-    assert max(s for s, _, _, _ in drum_notes(voiced)) < voiced.harmonized.line.total
+    hits = _rhythm(voiced).drums.hits
+    keys = {h.key for h in hits}
+    # GM 1 percussion map: 36 bass drum 1, 38 acoustic snare, 42 closed hi-hat, 45/48/50 toms,
+    # 49 crash cymbal 1 (the fills where statements end)
+    assert {36, 38, 42} <= keys <= {36, 38, 42, 45, 48, 49, 50}
+    assert max(h.onset for h in hits) < voiced.harmonized.line.total
 
 
 def _wav(samples: list[int]) -> bytes:

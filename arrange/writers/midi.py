@@ -6,8 +6,9 @@ General MIDI program.  Notes sound at their performed times (``perf_onset``, ``p
 played, not written); velocities follow the dynamics of each statement, and the
 default (mf) keeps a mock-up from starting loud.  Nothing is random unless
 ``humanize`` is asked for, and then a seeded generator makes it repeatable.
-With ``rhythm_section`` a bass track (framework roots) and a drum track on the
-General MIDI percussion channel (channel 10) are added (see :mod:`.rhythm_section`).
+With a :class:`~arrange.rhythm_section.RhythmSection` its parts follow as tracks
+(guitar, piano, bass on their own channels, drums on the General MIDI percussion
+channel 10), playing the written parts' values (see :mod:`.rhythm_section`).
 """
 from __future__ import annotations
 
@@ -15,6 +16,7 @@ import random
 from dataclasses import dataclass
 from fractions import Fraction
 
+from arrange.rhythm_section.values import RhythmSection
 from arrange.voicing.layers import VoicedLayer
 from arrange.voicing.voicer import Voiced
 from arrange.writers.common import channel_for
@@ -34,7 +36,6 @@ class MidiOptions:
     dynamics: tuple[str, ...] = ("mf",)
     humanize: float = 0.0        # milliseconds of timing spread, 0 = none
     seed: int = 1
-    rhythm_section: bool = False
 
 
 def track_head(name: str, channel: int, program: int) -> list:  # noqa: ANN001
@@ -54,7 +55,7 @@ def _tick(q: Fraction) -> int:
 
 
 def midi_bytes(voiced: Voiced, tempo: float, options: MidiOptions | None = None,
-               layers: tuple = ()) -> bytes:
+               layers: tuple = (), rhythm: RhythmSection | None = None) -> bytes:
     from music21 import midi
 
     opts = options or MidiOptions()
@@ -125,19 +126,20 @@ def midi_bytes(voiced: Voiced, tempo: float, options: MidiOptions | None = None,
             evs.append((off, 2, noff))
             prev_end[pitch] = off
         mf.tracks.append(track_from(evs, k + 1))
-    if opts.rhythm_section:
-        from arrange.writers.rhythm_section import bass_notes, drum_notes
+    rhythm_count = 0
+    if rhythm is not None:
+        from arrange.writers.rhythm_section import DRUM_CHANNEL, rhythm_tracks
 
         n_parts = len(voiced.section.parts)
         velocity = VELOCITY[opts.dynamics[0]]
-        for j, (track_name, channel, program, notes) in enumerate((
-                ("Bass", channel_for(n_parts), 33, bass_notes(voiced)),
-                ("Drums", 9, None, drum_notes(voiced)))):
+        for track_name, program, notes in rhythm_tracks(rhythm, line):
+            channel = DRUM_CHANNEL if program is None else channel_for(n_parts + rhythm_count)
             evs = []
             nm = midi.MidiEvent(None, type=midi.MetaEvents.SEQUENCE_TRACK_NAME)
             nm.data = track_name.encode("utf-8")
             evs.append((0, 0, nm))
             if program is not None:
+                rhythm_count += 1
                 pc = midi.MidiEvent(None, type=midi.ChannelVoiceMessages.PROGRAM_CHANGE,
                                     channel=channel + 1)
                 pc.data = program - 1
@@ -146,15 +148,15 @@ def midi_bytes(voiced: Voiced, tempo: float, options: MidiOptions | None = None,
                 on = _tick(start)
                 off = max(on + 1, _tick(start + length) - 1)
                 for kind, tick, vel, order in ((midi.ChannelVoiceMessages.NOTE_ON, on,
-                                                min(127, velocity + accent), 3),
+                                                min(127, max(1, velocity + accent)), 3),
                                                (midi.ChannelVoiceMessages.NOTE_OFF, off, 0, 2)):
                     ev = midi.MidiEvent(None, type=kind, channel=channel + 1)
                     ev.pitch = pitch
                     ev.velocity = vel
                     evs.append((tick, order, ev))
-            mf.tracks.append(track_from(evs, n_parts + 1 + j))
+            mf.tracks.append(track_from(evs, len(mf.tracks)))
     if layers:   # after the rhythm section's bass channel, when there is one
-        first = len(voiced.section.parts) + (1 if opts.rhythm_section else 0)
+        first = len(voiced.section.parts) + rhythm_count
         mf.tracks.extend(layer_tracks(layers, first, lead_in, track_from, _tick))
     data: bytes = mf.writestr()
     return data
