@@ -14,12 +14,16 @@ import re
 
 from arrange.errors import OutputError
 
-__all__ = ["svg_bytes", "png_bytes", "have_png", "PAGE_WIDTH", "toolkit_for", "per_staff_keys", "staff_keys"]
+__all__ = ["svg_bytes", "png_bytes", "have_png", "PAGE_WIDTH", "MAX_PAGES", "toolkit_for", "per_staff_keys",
+           "staff_keys"]
 
 PAGE_WIDTH = 2100      # verovio units (tenths of a mm): an A4 page width
 PAGE_HEIGHT = 2970
 _SCALE = 40            # percent: a legible picture of a whole A4 page
 _PIXELS = 1.5          # picture pixels per SVG unit: about 1260 pixels across
+# the picture holds at most this many pages (6 A4 pages at 1.5 pixels a unit stay under
+# cairo's 32,767-pixel image limit; a longer score is drawn from its first pages)
+MAX_PAGES = 6
 
 
 def _toolkit():  # noqa: ANN202
@@ -49,10 +53,13 @@ def toolkit_for(musicxml: bytes):  # noqa: ANN201
     return tk
 
 
-def pages(musicxml: bytes) -> list[str]:
-    """Each page of the score as an SVG document (verovio's layout)."""
+def pages(musicxml: bytes, limit: int | None = None) -> tuple[list[str], int]:
+    """The first ``limit`` pages (all by default) of the score as SVG documents
+    (verovio's layout), and how many pages the score has."""
     tk = toolkit_for(musicxml)
-    return [_fonts(_plain_text_glyphs(tk.renderToSVG(i))) for i in range(1, tk.getPageCount() + 1)]
+    total = tk.getPageCount()
+    drawn = total if limit is None else min(total, limit)
+    return [_fonts(_plain_text_glyphs(tk.renderToSVG(i))) for i in range(1, drawn + 1)], total
 
 
 # verovio names "Times, serif" for its text; a renderer takes the first family it has, so
@@ -138,9 +145,13 @@ def _plain_text_glyphs(svg: str) -> str:
 _VIEWBOX = re.compile(r'viewBox="0 0 ([\d.]+) ([\d.]+)"')
 
 
-def svg_bytes(musicxml: bytes) -> bytes:
-    """All pages in one SVG, stacked, on a white ground."""
-    docs = pages(musicxml)
+def svg_bytes(musicxml: bytes, notes: list[str] | None = None) -> bytes:
+    """The pages (at most :data:`MAX_PAGES`) in one SVG, stacked, on a white ground;
+    a one-line notice goes to ``notes`` when the score has more."""
+    docs, total = pages(musicxml, MAX_PAGES)
+    if total > len(docs) and notes is not None:
+        notes.append(f"preview: the first {len(docs)} of {total} pages are drawn (the picture holds "
+                     f"at most {MAX_PAGES}); the MusicXML score holds them all")
     sizes = []
     for d in docs:
         m = _VIEWBOX.search(d)

@@ -10,7 +10,7 @@ from arrange.voicing.layers import VoicedLayer
 from arrange.voicing.voicer import Voiced
 from arrange.writers.common import bar_of_event, json_number
 
-__all__ = ["json_number", "bar_of_event", "report_data", "report_json", "report_markdown"]
+__all__ = ["json_number", "bar_of_event", "report_data", "report_json", "report_markdown", "md_text"]
 
 
 def _statement_table(voiced: Voiced, dynamics: tuple[str, ...]) -> list[dict[str, Any]]:
@@ -134,15 +134,24 @@ def _cell(text: object) -> str:
     return str(text if text is not None else "").replace("|", "\\|").replace("\n", " ")
 
 
+_MD_SPECIAL = set("\\`*_[]<>#!|~&")
+
+
+def md_text(text: object) -> str:
+    """User text shown as text in CommonMark: every punctuation character that could
+    start markup is backslash-escaped (CommonMark 0.31, "Backslash escapes")."""
+    return "".join("\\" + c if c in _MD_SPECIAL else c for c in str(text))
+
+
 def report_markdown(data: dict[str, Any]) -> bytes:
     from arrange.theory.pitch import pitch_name
 
     ch = data["chain"]
     parts = data["section"]["parts"]
-    out = [f"# {data['title']}", "",
+    out = [f"# {md_text(data['title'])}", "",
            f"Key {data['key']}, meter {data['meter']}, tempo {data['tempo']:g}, "
-           f"groove {data['groove']}, {data['bars']} bars, section {data['section']['name']} "
-           f"({', '.join(p['name'] for p in parts)}).", ""]
+           f"groove {data['groove']}, {data['bars']} bars, section {md_text(data['section']['name'])} "
+           f"({', '.join(md_text(p['name']) for p in parts)}).", ""]
     out += _passages_markdown(data)
     if ch is not None:
         out += ["## Chain", "",
