@@ -196,7 +196,7 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
             if have_png():
                 files[f"{slug}.png"] = png_bytes(svg)
             elif notes is not None:
-                notes.append("preview: PNG skipped, cairosvg is not installed (pip install cairosvg)")
+                notes.append("preview: PNG skipped, resvg-py is not installed (pip install resvg-py)")
     if out.parts and info is not None:
         from arrange.project import slugify
         from arrange.writers.musicxml import part_bytes

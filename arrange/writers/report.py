@@ -15,21 +15,17 @@ __all__ = ["json_number", "bar_of_event", "report_data", "report_json", "report_
 
 def _statement_table(voiced: Voiced, dynamics: tuple[str, ...]) -> list[dict[str, Any]]:
     """Per statement: its first bar, rehearsal letter, dynamic, and the voicing of its notes."""
-    from arrange.writers.marks import dynamic_of, rehearsal_letter
+    from arrange.writers.marks import dynamic_of, rehearsal_plan
 
     line = voiced.harmonized.line
-    letters: dict[int, str] = {}
+    letters = rehearsal_plan(voiced)
     out = []
     for st in line.segments:
         own = [i for i, ve in enumerate(voiced.events) if ve.event.note.statement == st.index]
         first_bar = None
-        if line.passages and not letters:    # a form: one letter per passage, on its first bar
-            letters = {p.first_bar: rehearsal_letter(k) for k, p in enumerate(line.passages, start=1)}
         if st.start < len(voiced.events):
             n = voiced.events[st.start].event.note
             first_bar = line.bar_of(n.onset)
-            if first_bar not in letters and not line.passages:
-                letters[first_bar] = rehearsal_letter(len(letters) + 1)
         voicings = list(dict.fromkeys(voiced.events[i].voicing for i in own))
         out.append({"statement": st.index, "form": st.form, "transposition": st.transposition,
                     "bar": first_bar, "rehearsal": letters.get(first_bar) if first_bar is not None else None,
