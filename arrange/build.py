@@ -19,7 +19,8 @@ from arrange.voicing.layers import VoicedLayer, build_layers
 from arrange.voicing.sections import Section
 from arrange.voicing.voicer import Voiced, VoicingOptions, voice
 
-__all__ = ["run_pipeline", "run_layers", "run_rhythm_section", "render_outputs", "render_project", "write_outputs", "BuildResult"]
+__all__ = ["check_size", "written_notes", "MAX_SCORE_NOTES", "run_pipeline", "run_layers",
+           "run_rhythm_section", "render_outputs", "render_project", "write_outputs", "BuildResult"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -51,9 +52,13 @@ class BuildResult:
 MAX_SCORE_NOTES = 40_000
 
 
-def check_size(project: Project) -> None:
-    """Refuse, before any work starts, a passage too big to write in reasonable time."""
+def written_notes(project: Project) -> tuple[int, int]:
+    """(lead notes, written notes) of a project, known before the slow stages run:
+    the lead section writes one note per lead note and part; a layer writes at most
+    one chord per rhythm value (its shortest) and chord change, per part (pad), or
+    one per lead note (hits).  The rhythm stage, which is quick, gives the length."""
     c = project.chain
+    line = None
     if c is not None:
         notes = chain_length(len(c.motif), c.statements, c.overlap)
     elif project.melody is not None:
@@ -62,14 +67,52 @@ def check_size(project: Project) -> None:
         from arrange.form import lead_notes_estimate
 
         notes = lead_notes_estimate(project.passages)
-    parts = len(project.section.parts) + sum(len(la.section.parts) for la in project.layers)
-    if notes * parts > MAX_SCORE_NOTES:
+    written = notes * len(project.section.parts)
+    if not project.layers or written > MAX_SCORE_NOTES:
+        return notes, written
+    try:
+        if c is not None:
+            line = lay_rhythm(build_chain(c.motif, c.statements, c.overlap, None), project.meter,
+                              project.rhythm)
+        elif project.melody is not None:
+            from arrange.rhythm.melody import lay_melody
+
+            line = lay_melody(project.melody, project.meter, project.rhythm, where="melody")
+    except ArrangeError:
+        pass                                       # the pipeline reports it where it belongs
+    beats = max(1, len(project.meter.beats))
+    if line is not None:
+        length, bars = line.total, line.bars
+    else:                                          # passages: a lead note a beat, as a rough guide
+        length = notes * project.meter.bar / beats
+        bars = int(length / project.meter.bar) + 1
+    changes = (bars + 1) * beats                   # at most one framework chord per beat
+    for la in project.layers:
+        if la.role == "pad":
+            shortest = min(v for v, rest in la.rhythm if not rest)
+            per_part = int(length / shortest) + 1 + changes
+        else:
+            per_part = notes
+        written += per_part * len(la.section.parts)
+    return notes, written
+
+
+def check_size(project: Project, *, where: str | None = None, already: int = 0) -> int:
+    """Refuse, before any work starts, a passage too big to write in reasonable time;
+    ``already`` counts the notes of the other combinations of a ``--vary`` build."""
+    notes, written = written_notes(project)
+    if written + already > MAX_SCORE_NOTES:
         name = project.path.name if project.path else "project"
-        raise LimitError(
-            f"{notes} lead notes for {parts} parts make {notes * parts} written notes",
-            where=f"{name}, key 'chain.statements'",
-            accepted=f"at most {MAX_SCORE_NOTES} written notes (lead notes x parts): fewer "
-                     "statements or a smaller section")
+        parts = len(project.section.parts) + sum(len(la.section.parts) for la in project.layers)
+        what = (f"{notes} lead notes for {parts} parts"
+                + (" (layers included)" if project.layers else "") + f" make {written:,} written notes")
+        if already:
+            what += f", {written + already:,} with the combinations before it"
+        raise LimitError(what, where=where or f"{name}, key 'chain.statements'",
+                         accepted=f"at most {MAX_SCORE_NOTES:,} written notes in one build (lead notes x "
+                         "parts, layers and --vary combinations included): fewer statements, "
+                         "combinations or parts, or longer layer rhythms")
+    return written
 
 
 def run_pipeline(project: Project) -> Voiced:
@@ -160,12 +203,12 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
         if "preview" in formats:
             from arrange.writers.preview import have_png, png_bytes, svg_bytes
 
-            svg = svg_bytes(xml)
+            svg = svg_bytes(xml, notes)
             files[f"{slug}.svg"] = svg
             if have_png():
                 files[f"{slug}.png"] = png_bytes(svg)
             elif notes is not None:
-                notes.append("preview: PNG skipped, cairosvg is not installed (pip install cairosvg)")
+                notes.append("preview: PNG skipped, resvg-py is not installed (pip install resvg-py)")
     if out.parts and info is not None:
         from arrange.project import slugify
         from arrange.writers.musicxml import part_bytes

@@ -15,8 +15,8 @@ import pytest
 PKG = Path(__file__).resolve().parent.parent / "arrange"
 STAGES = ("theory", "chain", "rhythm", "harmony", "voicing", "rhythm_section")
 # the MusicXML writer's own modules; the other formats are one module each
-FORMATS = {"musicxml": {"musicxml", "xml_score", "xml_layers", "xmlfinish", "symbols", "xml_rhythm",
-                        "xml_harmony"},
+FORMATS = {"musicxml": {"musicxml", "xml_score", "xml_layers", "xml_document", "xml_notation", "symbols",
+                        "xml_rhythm", "xml_harmony"},
            "midi": {"midi", "rhythm_section"}, "report": {"report"}, "preview": {"preview"},
            "audio": {"audio"}}
 

@@ -149,7 +149,10 @@ def test_score_marks(built) -> None:
     assert "Brightly" in words          # straight groove at 120 (common practice, from memory)
     labels = [w for w in words if re.fullmatch(r"\d+\. (P|RI) [+-]\d+", w)]
     assert len(labels) == len(report["chain"]["statements"])         # the analysis option
-    assert lead.getElementsByClass(expressions.RehearsalMark)[0].content == "A"
+    # rehearsal letters only where a rehearsal restarts, four bars apart or more (issue 16;
+    # common practice): the score prints those the report names, none in this short passage
+    letters = [r.content for r in lead.getElementsByClass(expressions.RehearsalMark)]
+    assert letters == list(dict.fromkeys(s["rehearsal"] for s in report["statements"] if s["rehearsal"]))
     dyns = [d.value for d in lead.getElementsByClass(dynamics.Dynamic)]
     assert dyns[:3] == ["p", "mf", "f"]     # one at each statement where it changes
 

@@ -41,17 +41,30 @@ def _with_rest_before(voiced, index: int, gap: Fraction):  # noqa: ANN001, ANN20
     return replace(voiced, events=tuple(events))
 
 
+def _with_bar_rest_before(voiced, index: int):  # noqa: ANN001, ANN202
+    """The same passage with a whole 4/4 bar of rest before note ``index`` (it and the
+    later notes move a bar on)."""
+    bar = Fraction(4)
+    events = []
+    for i, ve in enumerate(voiced.events):
+        n = ve.event.note
+        if i >= index:
+            n = replace(n, onset=n.onset + bar, perf_onset=n.perf_onset + bar)
+        events.append(replace(ve, event=replace(ve.event, note=n)))
+    return replace(voiced, events=tuple(events))
+
+
 def test_dynamic_at_first_note_and_at_changes(voiced) -> None:
     got = marks.entrances(voiced, ("mp", "mp", "f"))
     stmt3 = next(i for i, ve in enumerate(voiced.events) if ve.event.note.statement == 3)
     assert got == [(0, "mp"), (stmt3, "f")]
 
 
-def test_dynamic_repeated_after_every_rest(voiced) -> None:
-    # common practice: a dynamic at the start of every entrance, none missing after rests
-    rested = _with_rest_before(voiced, 5, Fraction(1, 4))
-    got = marks.entrances(rested, ("mf",))
-    assert got == [(0, "mf"), (5, "mf")]
+def test_dynamic_restated_after_a_rest_of_a_bar_only(voiced) -> None:
+    # common practice: a dynamic at every entrance a player counts in (after a rest of a
+    # bar or more), not restated after a short rest inside a phrase
+    assert marks.entrances(_with_rest_before(voiced, 5, Fraction(1, 4)), ("mf",)) == [(0, "mf")]
+    assert marks.entrances(_with_bar_rest_before(voiced, 5), ("mf",)) == [(0, "mf"), (5, "mf")]
 
 
 def test_dynamics_in_the_musicxml_after_a_rest(voiced) -> None:
@@ -59,7 +72,7 @@ def test_dynamics_in_the_musicxml_after_a_rest(voiced) -> None:
 
     from arrange.writers.musicxml import ScoreInfo, musicxml_bytes
 
-    rested = _with_rest_before(voiced, 5, Fraction(1, 4))
+    rested = _with_bar_rest_before(voiced, 5)       # a rest of a whole 4/4 bar
     data = musicxml_bytes(rested, ScoreInfo("T", 120, "Straight"))
     score = converter.parseData(data.decode(), format="musicxml")    # music21 as reader
     for part in score.parts:
