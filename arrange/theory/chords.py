@@ -344,7 +344,7 @@ def sounding_chord(chord: Chord, pitch_classes: tuple[int, ...] | list[int] | se
     content): a sixth chord whose voicing holds its major seventh is a major-seventh chord
     (Bb6 sounding A: Bbmaj7, the sixth its 13; Cm6 sounding B: Cm(maj7)).  Other chords as given."""
     new = _SIXTH_TO_SEVENTH.get(chord.quality)
-    if new is None or (chord.root + 11) % 12 not in {p % 12 for p in pitch_classes}:
+    if new is None or (chord.root + 11) % 12 not in {p % 12 for p in pitch_classes if p is not None}:
         return chord
     bass = f"/{chord.bass_name}" if chord.bass_name else ""
     return parse_chord(f"{chord.root_name}{new}{bass}")
