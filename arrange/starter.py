@@ -2,8 +2,8 @@
 
 It is built to show the tool at its best on the first build (``tests/test_first_hour.py``
 checks each): a motif whose chain travels (statement 3 two semitones up, each P statement
-higher), chromatic lead notes that get approach chords, a drop-2 opening at the last
-statement, a trombone pad under the trumpets, a preview, and no warning.  Its title comes
+higher), chromatic lead notes that get approach chords, a drop-2 opening in the last
+bar, a trombone pad under the trumpets, a preview, and no warning.  Its title comes
 from the file name (:func:`title_from_name`), so two starters in one folder write
 different files.
 """
@@ -32,7 +32,7 @@ overlap = 2                      # or a list, one per link: [2, 3, 2]
 groove = "swing"                 # straight | swing | shuffle | latin
 # swing = 0.62                   # swing only: long share of a swung pair, 0.50..0.75
 # cell = "8 8 4 8 8 4"           # note values cycled over the line; "r8" rest, "4~8" tie, "8t" triplet
-# augment = [1, 1, 1, 1, 1, 1, 1.5, 2]   # duration factor per statement (or grow = 1.25)
+# augment = [1, 1, 1.5, 2]     # duration factor per statement (or grow = 1.25)
 # anticipate = true              # latin only: downbeat notes pushed an eighth early
 # pickup = "8"                   # an anacrusis before bar 1
 
@@ -45,7 +45,8 @@ framework = "Bb6 | Cm7 F7 | Bb6 | Bb6"   # bars split by |; "Cm7:3 F7:1" gives b
 [section]
 name = "trumpets-4"              # see: arrange sections (or parts = [...] inline)
 voicing = "close"                # close | drop2 | drop2-4 | drop3 | spread | unison | auto
-by_statement = {{ 4 = "drop2" }}  # the last statement opens up (drop 2)
+by_bar = {{ "2" = "drop2" }}       # the last bar opens up (drop 2); wins over by_statement
+# by_statement = {{ 4 = "spread" }}  # a voicing per statement
 # allow_extreme = false
 
 [output]
@@ -61,6 +62,12 @@ section = "trombones-4"
 role = "pad"                     # pad: the framework chords held | hits: short chords on the accents
 rhythm = "2"                     # note values for the chords
 dynamics = "p"
+# A second layer: short chords on the accents
+# [[layers]]
+# section = "saxes-5"
+# role = "hits"
+# rhythm = "8"
+# dynamics = "mf"
 '''
 
 
