@@ -51,7 +51,14 @@ MAX_SCORE_NOTES = 40_000
 def check_size(project: Project) -> None:
     """Refuse, before any work starts, a passage too big to write in reasonable time."""
     c = project.chain
-    notes = chain_length(len(c.motif), c.statements, c.overlap)
+    if c is not None:
+        notes = chain_length(len(c.motif), c.statements, c.overlap)
+    elif project.melody is not None:
+        notes = len(project.melody.notes)
+    else:
+        from arrange.form import lead_notes_estimate
+
+        notes = lead_notes_estimate(project.passages)
     parts = len(project.section.parts) + sum(len(la.section.parts) for la in project.layers)
     if notes * parts > MAX_SCORE_NOTES:
         name = project.path.name if project.path else "project"
@@ -64,7 +71,22 @@ def check_size(project: Project) -> None:
 
 def run_pipeline(project: Project) -> Voiced:
     check_size(project)
+    where = f"{project.path.name if project.path else 'project'} [harmony]"
+    if project.passages:
+        from arrange.form import run_form
+
+        harmonized, voicing_options = run_form(project)
+        return voice(harmonized, project.section, voicing_options)
+    if project.melody is not None:
+        from arrange.rhythm.melody import lay_melody
+
+        name = project.path.name if project.path else "project"
+        melody_line = lay_melody(project.melody, project.meter, project.rhythm,
+                                 where=f"{name}, key 'melody'")
+        return voice(harmonize(melody_line, project.key, project.harmony, where=where),
+                     project.section, project.voicing)
     c = project.chain
+    assert c is not None
     # no lead_range given: the chain is placed into the lead instrument's practical range
     lead_range = c.lead_range or project.section.lead.instrument.practical
     try:
@@ -72,8 +94,7 @@ def run_pipeline(project: Project) -> Voiced:
     except ArrangeError as err:
         raise _in_project(err, project, "chain") from None
     line = lay_rhythm(chain, project.meter, project.rhythm)
-    harmonized = harmonize(line, project.key, project.harmony,
-                           where=f"{project.path.name if project.path else 'project'} [harmony]")
+    harmonized = harmonize(line, project.key, project.harmony, where=where)
     return voice(harmonized, project.section, project.voicing)
 
 

@@ -10,9 +10,11 @@ import re
 import tomllib
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Any
 
 from arrange.errors import ArrangeError, ProjectError
 from arrange.harmony import harmonizer as harmony
+from arrange.inputs.melody_file import Melody
 from arrange.rhythm import line as rhythm
 from arrange.tables import Table
 from arrange.theory.pitch import parse_pitch, parse_pitches
@@ -57,7 +59,7 @@ class Project:
     tempo: float
     meter: rhythm.Meter
     key: harmony.Key
-    chain: ChainSpec
+    chain: ChainSpec | None            # None: the project plays a melody, or a form of passages
     rhythm: rhythm.RhythmOptions
     harmony: harmony.HarmonyOptions
     section: Section
@@ -65,6 +67,8 @@ class Project:
     output: OutputSpec
     layers: tuple[Layer, ...] = ()     # [[layers]]: background sections under the lead
     style: str = ""                    # the style word over the metronome mark ("" = from groove and tempo)
+    melody: Melody | None = None       # melody = "file:..." or compact text, instead of [chain]
+    passages: tuple[Any, ...] = ()     # [[passages]]: a form (arrange.form.Passage values)
 
 
 def slugify(title: str) -> str:
@@ -161,31 +165,82 @@ def project_from_data(data: dict[str, object], where: str, path: Path | None = N
     if len(style) > 40 or any(ord(c) < 32 for c in style):
         raise top.error("style", f"{style[:40]!r} cannot be a style word",
                         "a short style word such as \"Medium Swing\" (at most 40 characters)")
-    meter_text = top.string("meter", "4/4")
+    base = path.parent if path else None
+    kinds = [k for k in ("chain", "melody", "passages") if top.has(k)]
+    if not kinds:
+        kinds = ["chain"]            # the error of a missing [chain] names the usual table
+    if len(kinds) != 1:
+        raise ProjectError(f"the project gives {' and '.join(repr(k) for k in kinds)}", where=where,
+                           accepted="one of: a [chain] table, melody = \"file:tune.musicxml\" (or notes "
+                                    "such as \"F4:4 G4:8\"), or [[passages]] (a form)")
     try:
-        meter = rhythm.parse_meter(meter_text, where=top.at("meter"))
-        key = harmony.parse_key(top.string("key", "C major"), where=top.at("key"))
+        melody = None
+        file_meter = file_key = None
+        if kinds == ["melody"]:
+            from arrange.material import read_melody
+
+            bar_guess = rhythm.parse_meter(top.string("meter", "4/4"), where=top.at("meter")).bar
+            melody = read_melody(top, base, bar_guess)
+            file_meter, file_key = melody.meter, melody.key
+        meter = _meter(top, file_meter, melody.source if melody else "")
+        key = harmony.parse_key(top.string("key", file_key or "C major"), where=top.at("key"))
     except ArrangeError as err:
         raise ProjectError(err.what, where=err.where, accepted=err.accepted) from None
-    chain = _chain(top.sub("chain", required=True), path.parent if path else None)
+    chain = _chain(top.sub("chain", required=True), base) if kinds == ["chain"] else None
     rhythm_opts = rhythm.read_options(top.sub("rhythm"))
-    harmony_opts = harmony.read_options(top.sub("harmony", required=True))
     sec_table = top.sub("section", required=True)
     section = section_from_table(sec_table)
     voicing_opts = voicing.read_options(sec_table)
     sec_table.finish()
     output = _output(top.sub("output"))
     layers = read_layers(top.raw("layers", None), where)
+    passages: tuple[Any, ...] = ()
+    if kinds == ["passages"]:
+        from dataclasses import replace
+
+        from arrange.form import form_dynamics, read_passages
+
+        passages = read_passages(top, where, base, meter, key, section, output.dynamics, _chain)
+        output = replace(output, dynamics=form_dynamics(passages))
+        harmony_opts = harmony.HarmonyOptions()        # each passage has its own
+    else:
+        harmony_opts = _harmony(top, melody, meter, where)
+    if melody is not None and not voicing_opts.allow_extreme:
+        from arrange.material import check_lead_range
+
+        check_lead_range(melody, section, top.at("melody"))
     move = top.raw("transpose", None)
     top.finish()
     project = Project(path, title, slugify(title), tempo, meter, key, chain, rhythm_opts,
-                      harmony_opts, section, voicing_opts, output, layers, style.strip())
+                      harmony_opts, section, voicing_opts, output, layers, style.strip(), melody, passages)
     if move is None:
         return project
     from arrange.transpose import parse_target
 
     at = top.at("transpose")
     return transpose_project(project, parse_target(move, where=at), where=at)
+
+
+def _meter(top: Table, file_meter: str | None, source: str) -> rhythm.Meter:
+    """The project's meter; a melody file's own meter where the project gives none (they must agree)."""
+    if top.has("meter") and file_meter is not None:
+        given = rhythm.parse_meter(top.string("meter"), where=top.at("meter"))
+        theirs = rhythm.parse_meter(file_meter, where=f"melody file {source!r}")
+        if (given.numerator, given.denominator) != (theirs.numerator, theirs.denominator):
+            raise top.error("meter", f"meter = {str(given)!r} but the melody file {source!r} is in {file_meter}",
+                            f"the file's meter {file_meter!r} (or no meter key)")
+        return given
+    return rhythm.parse_meter(top.string("meter", file_meter or "4/4"), where=top.at("meter"))
+
+
+def _harmony(top: Table, melody: Melody | None, meter: rhythm.Meter, where: str) -> harmony.HarmonyOptions:
+    """[harmony]; with a melody that brings chord symbols, those are the framework unless
+    the table gives a framework or preset of its own."""
+    if melody is None:
+        return harmony.read_options(top.sub("harmony", required=True))
+    from arrange.material import melody_harmony
+
+    return melody_harmony(top.sub("harmony"), melody, meter, f"{where} melody")
 
 
 def transpose_project(project: Project, target: int | harmony.Key, *, where: str) -> Project:
@@ -196,6 +251,11 @@ def transpose_project(project: Project, target: int | harmony.Key, *, where: str
     from arrange.transpose import move
 
     c = project.chain
+    if c is None:
+        raise ProjectError("transpose moves a project's chain, and this project has "
+                           + ("a melody" if project.melody is not None else "passages"), where=where,
+                           accepted="transpose with a [chain]; a passage's melody takes transpose = SEMITONES "
+                                    "in its [[passages]] entry")
     lead = project.section.lead
     moved = move(project.key, (c.motif, c.statements, c.overlap, c.lead_range), project.harmony,
                  (lead.name, lead.instrument.practical), target, where=where)

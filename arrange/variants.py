@@ -198,8 +198,8 @@ def build_variants(project_path: Path, specs: tuple[str, ...], out_dir: Path,
 
 
 def _row(var: Variant, voiced: Any, layers: Any, files: dict[str, bytes]) -> dict[str, Any]:
-    chain = voiced.harmonized.line.chain
-    lo, hi = chain.span
+    leads = [n.pitch for n in voiced.harmonized.line.notes]
+    lo, hi = min(leads), max(leads)
     warnings = (len(voiced.findings) + len(voiced.harmonized.warnings)
                 + sum(len(v.findings) for v in layers))
     low, part = None, ""

@@ -130,6 +130,8 @@ formats = ["report"]
 def _concert(demo: Path, folder: Path) -> Path:
     text = demo.read_text(encoding="utf-8").replace("[output]\n", "[output]\nconcert_score = true\n", 1)
     text = text.replace('"preview"', '"report"').replace('"midi", ', "")
+    for data in demo.parent.glob("*.musicxml"):      # a melody file the demo reads
+        (folder / data.name).write_bytes(data.read_bytes())
     return write_project(folder, text, demo.name)
 
 

@@ -152,7 +152,7 @@ def statement_keys(line: Line, key: Key) -> tuple[tuple[int, int], ...]:
     statement after the first begins (from the next bar line if it starts mid-bar)."""
     out = []
     bar_len = line.meter.bar
-    for st in line.chain.statements:
+    for st in line.segments:
         if st.form != "P" or st.index == 1 or st.start >= len(line.notes):
             continue
         onset = line.notes[st.start].onset

@@ -148,7 +148,7 @@ def walk(line: Line, fw: tuple[FrameworkChord, ...], idx: list[int], keys: list[
                     f"{label(ch)} {pos}; {ch.symbol}, {what}, holds it as "
                     f"{function_name(note.pitch, ch)} and resolves to {target.symbol}", target, res)
                 continue
-        if s <= 2:
+        if s <= 2 and techniques:      # approach = [] keeps every framework chord, substitutes too
             sub = find_substitute(note.pitch, frame, kk)
             if sub is not None:
                 put(sub, "framework", "diatonic substitute",

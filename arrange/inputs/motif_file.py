@@ -66,21 +66,14 @@ def _top_part_pitches(data: bytes, is_midi: bool, path: Path, where: str, accept
         raise ProjectError(f"motif file {str(path)!r} cannot be read as "
                            f"{'MIDI' if is_midi else 'MusicXML'}: {type(err).__name__}",
                            where=where, accepted=accepted) from None
+    from arrange.inputs.melody_file import lead_notes
+
+    # chord symbols, grace notes and rests are no motif notes; a chord gives its top note
+    # (one definition of a lead note, shared with the melody reader)
     parts = list(score.parts) if isinstance(score, stream.Score) else [score]
-    top = None
-    for p in parts:
-        if p.flatten().notes:
-            top = p
-            break
+    top = next((p for p in parts if lead_notes(p)), None)
     if top is None:
         return []
     if not is_midi:
         top = top.toSoundingPitch()
-    out: list[int] = []
-    for n in top.flatten().notes:
-        if n.tie is not None and n.tie.type in ("stop", "continue"):
-            continue
-        midi_numbers = [p.midi for p in n.pitches]
-        if midi_numbers:
-            out.append(max(midi_numbers))      # the top note of a chord carries the line
-    return out
+    return [pitch for _on, _dur, pitch in lead_notes(top)]

@@ -31,7 +31,7 @@ from arrange.rhythm.groove import (
 from arrange.rhythm.meter import METERS, Meter, metric_weight, parse_meter
 from arrange.tables import Table
 
-__all__ = ["Meter", "Note", "Line", "StatementSpan", "RhythmOptions", "parse_meter",
+__all__ = ["Meter", "Note", "Line", "StatementSpan", "Segment", "PassageSpan", "RhythmOptions", "parse_meter",
            "read_options", "lay_rhythm", "metric_weight", "METERS", "GROOVES"]
 
 MAX_QUARTERS = 40_000        # a longer line is refused before the writers start
@@ -64,6 +64,30 @@ class StatementSpan:
 
 
 @dataclass(frozen=True, slots=True)
+class Segment:
+    """A stretch of the line the score names: a chain statement, or a melody (phrase or
+    passage) where there is no chain.  ``Note.statement`` is its ``index``."""
+    index: int               # 1-based
+    form: str                # "P", "RI" or "melody"
+    transposition: int       # semitones from statement 1 (0 for a melody)
+    start: int               # 0-based index of its first note in the line
+
+
+@dataclass(frozen=True, slots=True)
+class PassageSpan:
+    """One passage of a form (``[[passages]]``), as the writers and the report need it."""
+    index: int               # 1-based
+    name: str
+    first_bar: int           # bar where it starts (its pickup, if any, lies in the bar before)
+    last_bar: int
+    first_note: int          # 0-based index of its first note in the line
+    key: str                 # its key, as the score signs it
+    material: str            # "melody (file tune.musicxml)", "chain", "designed chain"
+    about: str = ""          # one line for the report (a designed chain: its motif and why)
+    design: tuple[tuple[str, float, str], ...] = ()   # designed chains: (motif, score, why), best first
+
+
+@dataclass(frozen=True, slots=True)
 class RhythmOptions:
     groove: str = "straight"
     swing: Fraction = HALF               # long share; 1/2 straight, 2/3 shuffle
@@ -85,7 +109,7 @@ class RhythmOptions:
 
 @dataclass(frozen=True, slots=True)
 class Line:
-    chain: Chain
+    chain: Chain | None      # None: a melody (or a form) brought its own notes
     meter: Meter             # the written meter (12/8 for a shuffle written out)
     notes: tuple[Note, ...]
     groove: str
@@ -96,6 +120,8 @@ class Line:
     notate: str = "eighths"  # "12/8": the swing is written out, no playback swing
     start: Fraction = Fraction(0)   # onset of the first value
     tempo_scale: Fraction = Fraction(1)  # line quarter notes per project-tempo beat (12/8: 3/2)
+    segments: tuple[Segment, ...] = ()   # statements, or melodies where there is no chain
+    passages: tuple[PassageSpan, ...] = ()   # a form's passages (none for one passage)
 
     @property
     def bars(self) -> int:
@@ -333,7 +359,7 @@ def _anticipate(notes: list[list[object]], bar: Fraction, first: Fraction) -> se
     return moved
 
 
-def _finish(chain: Chain, meter: Meter, written: Meter, options: RhythmOptions,
+def _finish(chain: Chain | None, meter: Meter, written: Meter, options: RhythmOptions,
             notes: list[list[object]], anticipated: set[int],
             spans: list[tuple[int, Fraction, Fraction, Fraction]], total: Fraction,
             first: Fraction) -> Line:
@@ -375,5 +401,7 @@ def _finish(chain: Chain, meter: Meter, written: Meter, options: RhythmOptions,
                                     max(0, int(-((-w(on + d)) // bar))))
                       for s, on, d, f in spans)
     pickup = -w(first) if first < 0 else Fraction(0)
+    segments = tuple(Segment(st.index, st.form, st.transposition, st.start)
+                     for st in chain.statements) if chain is not None else ()
     return Line(chain, out_meter, tuple(out_notes), options.groove,
-                float(ratio), pickup, w(total), out_spans, options.notate, w(first), scale)
+                float(ratio), pickup, w(total), out_spans, options.notate, w(first), scale, segments)

@@ -89,8 +89,17 @@ def add_rehearsal(measures: list[Any], voiced: Voiced) -> dict[int, str]:
     letter of its bar, and its exact note by the analysis label).  Returns bar -> letter."""
     from music21 import expressions
 
-    starts = {st.start for st in voiced.harmonized.line.chain.statements}
+    line = voiced.harmonized.line
     letters: dict[int, str] = {}
+    if line.passages:            # a form: one letter per passage, on its first bar line
+        shift = 1 if line.pickup else 0
+        for p in line.passages:
+            m_i = p.first_bar - 1 + shift
+            if 0 <= m_i < len(measures) and m_i not in letters:
+                letters[m_i] = rehearsal_letter(len(letters) + 1)
+                measures[m_i].insert(0, expressions.RehearsalMark(letters[m_i]))
+        return letters
+    starts = {st.start for st in line.segments}
     for i in sorted(starts):
         if i >= len(voiced.events):
             continue
@@ -116,7 +125,10 @@ def add_dynamics(measures: list[Any], voiced: Voiced, dynamics: tuple[str, ...])
 
 
 def statement_label(st: Any) -> str:
-    """'2. RI +9': statement number, form and transposition from statement 1."""
+    """'2. RI +9': statement number, form and transposition from statement 1 ('3. melody'
+    for a melody)."""
+    if st.form == "melody":
+        return f"{st.index}. melody"
     return f"{st.index}. {st.form} {st.transposition:+d}"
 
 
@@ -125,7 +137,7 @@ def add_analysis(measures: list[Any], voiced: Voiced) -> None:
     (once per chord, not again under a held one)."""
     from music21 import expressions
 
-    starts = {st.start: st for st in voiced.harmonized.line.chain.statements}
+    starts = {st.start: st for st in voiced.harmonized.line.segments}
     for i, ve in enumerate(voiced.events):
         m_i, off = _at(voiced, i)
         if i in starts:

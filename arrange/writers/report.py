@@ -20,13 +20,15 @@ def _statement_table(voiced: Voiced, dynamics: tuple[str, ...]) -> list[dict[str
     line = voiced.harmonized.line
     letters: dict[int, str] = {}
     out = []
-    for st in line.chain.statements:
+    for st in line.segments:
         own = [i for i, ve in enumerate(voiced.events) if ve.event.note.statement == st.index]
         first_bar = None
+        if line.passages and not letters:    # a form: one letter per passage, on its first bar
+            letters = {p.first_bar: rehearsal_letter(k) for k, p in enumerate(line.passages, start=1)}
         if st.start < len(voiced.events):
             n = voiced.events[st.start].event.note
             first_bar = line.bar_of(n.onset)
-            if first_bar not in letters:
+            if first_bar not in letters and not line.passages:
                 letters[first_bar] = rehearsal_letter(len(letters) + 1)
         voicings = list(dict.fromkeys(voiced.events[i].voicing for i in own))
         out.append({"statement": st.index, "form": st.form, "transposition": st.transposition,
@@ -59,7 +61,8 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
         ev = ve.event
         n = ev.note
         events.append({
-            "index": i, "statement": n.statement, "bar": int(n.onset // line.meter.bar) + 1,
+            "index": i, "statement": n.statement, "passage": _passage_of(line, i),
+            "bar": int(n.onset // line.meter.bar) + 1,
             "onset": json_number(n.onset), "duration": json_number(n.duration),
             "beat": json_number(n.onset % line.meter.bar * Fraction(line.meter.denominator, 4) + 1),
             "performed_onset": json_number(n.perf_onset), "performed_duration": json_number(n.perf_duration),
@@ -80,8 +83,9 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
         "title": title, "key": str(h.key), "meter": str(line.meter), "tempo": tempo,
         "groove": line.groove, "generator": f"arrange {version}",
         "swing": line.swing, "bars": line.bars, "dynamics": list(dynamics),
-        "chain": line.chain.to_json(),
+        "chain": line.chain.to_json() if line.chain is not None else None,
         "statements": _statement_table(voiced, dynamics),
+        "passages": _passages(line),
         "rhythm": _rhythm(line),
         "section": {"name": voiced.section.name, "parts": parts},
         "framework": [{"bar": fc.bar, "onset": json_number(fc.onset), "duration": json_number(fc.duration),
@@ -90,6 +94,31 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
         "events": events,
         "warnings": warnings,
     }
+
+
+def _passage_of(line: Any, index: int) -> int:
+    """1-based passage of note ``index`` (1 when the line is one passage)."""
+    found = 1
+    for p in line.passages:
+        if p.first_note <= index:
+            found = p.index
+    return found
+
+
+def _passages(line: Any) -> list[dict[str, Any]]:
+    """A form's passages: name, bars, key, material and, for a designed chain, the motif
+    chosen, its score and why, and the runners-up."""
+    out = []
+    for p in line.passages:
+        entry: dict[str, Any] = {"index": p.index, "name": p.name, "first_bar": p.first_bar,
+                                 "last_bar": p.last_bar, "first_note": p.first_note, "key": p.key,
+                                 "material": p.material, "about": p.about}
+        if p.design:
+            (motif, score, why), *others = p.design
+            entry["design"] = {"motif": motif, "score": score, "why": why,
+                               "runners_up": [{"motif": m, "score": sc, "why": w} for m, sc, w in others]}
+        out.append(entry)
+    return out
 
 
 def _rhythm(line: Any) -> dict[str, Any]:
@@ -117,16 +146,21 @@ def report_markdown(data: dict[str, Any]) -> bytes:
     out = [f"# {data['title']}", "",
            f"Key {data['key']}, meter {data['meter']}, tempo {data['tempo']:g}, "
            f"groove {data['groove']}, {data['bars']} bars, section {data['section']['name']} "
-           f"({', '.join(p['name'] for p in parts)}).", "",
-           "## Chain", "",
-           f"Motif {' '.join(ch['names'][:len(ch['motif'])])}; {len(ch['statements'])} statements, "
-           f"overlaps {ch['overlaps']}; {ch['length']} notes; compass after two statements "
-           f"{ch['compass_after_two']:+d}; statement 3 lies {ch['transposition']:+d} semitones "
-           f"from statement 1; {ch['pitch_classes']} pitch classes.", "",
-           "| statement | form | transposition | starts at note | bar | rehearsal | dynamic |",
-           "| --- | --- | --- | --- | --- | --- | --- |"]
-    for s, st in zip(ch["statements"], data["statements"], strict=True):
-        out.append(f"| {s['index']} | {s['form']} | {s['transposition']:+d} | {s['start'] + 1} | "
+           f"({', '.join(p['name'] for p in parts)}).", ""]
+    out += _passages_markdown(data)
+    if ch is not None:
+        out += ["## Chain", "",
+                f"Motif {' '.join(ch['names'][:len(ch['motif'])])}; {len(ch['statements'])} statements, "
+                f"overlaps {ch['overlaps']}; {ch['length']} notes; compass after two statements "
+                f"{ch['compass_after_two']:+d}; statement 3 lies {ch['transposition']:+d} semitones "
+                f"from statement 1; {ch['pitch_classes']} pitch classes.", ""]
+    else:
+        out += ["## Statements and melodies", ""]
+    out += ["| statement | form | transposition | starts at note | bar | rehearsal | dynamic |",
+            "| --- | --- | --- | --- | --- | --- | --- |"]
+    for st in data["statements"]:
+        first = st["notes"][0] + 1 if st["notes"] else ""
+        out.append(f"| {st['statement']} | {st['form']} | {st['transposition']:+d} | {first} | "
                    f"{st['bar'] or ''} | {st['rehearsal'] or ''} | {st['dynamic']} |")
     out += ["", "## Harmonization", "",
             "| note | bar | beat | lead | chord | role | technique | why |",
@@ -155,6 +189,24 @@ def report_markdown(data: dict[str, Any]) -> bytes:
         who = f", {w['part']}" if w["part"] else ", all parts"
         out.append(f"- {w['severity']}: {w['kind']} ({where}{who}): {w['message']}")
     return ("\n".join(out) + "\n").encode("utf-8")
+
+
+def _passages_markdown(data: dict[str, Any]) -> list[str]:
+    """The report's ``## Passages`` section (a form only)."""
+    if not data.get("passages"):
+        return []
+    out = ["## Passages", "", "| passage | name | bars | key | material |", "| --- | --- | --- | --- | --- |"]
+    for p in data["passages"]:
+        out.append(f"| {p['index']} | {_cell(p['name'])} | {p['first_bar']}-{p['last_bar']} | {p['key']} | "
+                   f"{_cell(p['material'])} |")
+    for p in data["passages"]:
+        d = p.get("design")
+        if not d:
+            continue
+        out += ["", f"Passage {p['index']} ({p['name']}): {p['about']}", "",
+                f"- chosen: motif {d['motif']}, score {d['score']:.3f}: {d['why']}"]
+        out += [f"- runner-up: motif {r['motif']}, score {r['score']:.3f}: {r['why']}" for r in d["runners_up"]]
+    return out + [""]
 
 
 def layers_data(layers: tuple[VoicedLayer, ...]) -> list[dict[str, Any]]:

@@ -113,7 +113,11 @@ def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
             cut = pieces(n.onset, n.duration, line.meter, pickup=line.pickup)
             if lead:
                 m_i, off = cut[0].measure, cut[0].offset
-                if ve.event.chord.symbol != prev_chord:
+                # a pickup on the chord of bar 1 takes no symbol of its own: the symbol
+                # stands over bar 1, as lead sheets write it (common practice)
+                pickup_on_first = n.onset < 0 and ve.event.role == "framework" and \
+                    bool(voiced.harmonized.framework) and ve.event.chord == voiced.harmonized.framework[0].chord
+                if ve.event.chord.symbol != prev_chord and not pickup_on_first:
                     measures[m_i].insert(_offset(off), chord_symbol(ve.event.chord))
                     prev_chord = ve.event.chord.symbol
             way = direction_of(part_pitches[i - 1] if i else None, ve.pitches[k],
@@ -185,6 +189,10 @@ def finish_part(p, measures: list, line, shift: int, written: bool) -> None:  # 
         m_len = line.pickup if shift and m_i == 0 else bar_len
         _fill_rests(m, m_len, line.meter, m_start, line.pickup)
         _tuplet_brackets(m)
+    for ps in line.passages[1:]:     # a form: a double bar where each passage begins
+        m_i = ps.first_bar - 1 + shift
+        if 0 < m_i < len(measures):
+            measures[m_i - 1].rightBarline = bar.Barline("double")
     measures[-1].rightBarline = bar.Barline("final")
     for m in measures:
         p.append(m)

@@ -1,0 +1,275 @@
+"""Input reader: a whole lead line from a file (``melody = "file:tune.musicxml"``).
+
+Read with music21 (imported lazily): MusicXML (``.musicxml``, ``.xml``, ``.mxl``),
+Standard MIDI Files (``.mid``, ``.midi``) and ABC (``.abc``).  One part (the first
+with notes, or ``part = N``), at sounding pitch, ties merged, with its meter, key,
+pickup and chord symbols.  What is not a lead note is never read as one: chord
+symbols (music21 lists them among ``.notes``), grace notes and rests are skipped,
+and a chord in the melody gives its top note (the note that carries the line).
+
+Bars are counted from the first full bar (1); a pickup is bar 0.  ``bars = "9-16"``
+keeps the notes that start in those bars, re-based so that the first bar kept is
+bar 1; the pickup is kept with a range that starts at bar 1.
+
+:func:`lead_notes` is the one definition of a lead note, shared with the motif
+reader (:mod:`arrange.inputs.motif_file`).
+"""
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from fractions import Fraction
+from pathlib import Path
+from typing import Any
+
+from arrange.errors import ProjectError
+
+__all__ = ["Melody", "MelodyNote", "read_melody_file", "lead_notes", "parse_bars", "SUFFIXES",
+           "MAX_BYTES"]
+
+SUFFIXES = (".musicxml", ".xml", ".mxl", ".mid", ".midi", ".abc")
+MAX_BYTES = 5_000_000
+_ENTITY = re.compile(rb"<!ENTITY", re.I)
+_GRID = 24          # every time kept is a multiple of 1/24 quarter (the rhythm stage's grid)
+ACCEPTED = ("a readable MusicXML (.musicxml, .xml, .mxl), MIDI (.mid, .midi) or ABC (.abc) file, "
+            "given relative to the project file, e.g. \"file:tune.musicxml\"")
+
+
+@dataclass(frozen=True, slots=True)
+class MelodyNote:
+    pitch: int            # sounding MIDI number
+    onset: Fraction       # quarter notes from the downbeat of bar 1 (a pickup is negative)
+    duration: Fraction
+
+
+@dataclass(frozen=True, slots=True)
+class Melody:
+    notes: tuple[MelodyNote, ...]
+    meter: str | None                      # "4/4" as the file writes it, None if it has none
+    key: str | None                        # "F major", None if the file has no key
+    pickup: Fraction                       # length of the anacrusis (0 = none)
+    total: Fraction                        # whole bars from bar 1
+    chords: tuple[tuple[Fraction, str], ...]   # (onset, chord symbol) as the file writes them
+    source: str                            # the file name, for messages and the report
+
+
+def parse_bars(text: object, *, where: str) -> tuple[int, int]:
+    """``"1-16"`` or ``"9"`` -> (first, last), 1-based."""
+    m = re.fullmatch(r"\s*(\d+)\s*(?:-\s*(\d+))?\s*", text) if isinstance(text, str) else None
+    if m is None or int(m.group(1)) < 1 or (m.group(2) and int(m.group(2)) < int(m.group(1))):
+        raise ProjectError(f"{text!r} is not a bar range", where=where,
+                           accepted="\"FIRST-LAST\" or \"BAR\", bars counted from 1 (the first full bar), "
+                                    "e.g. \"1-16\"")
+    lo = int(m.group(1))
+    return lo, int(m.group(2)) if m.group(2) else lo
+
+
+def _m21_name(name: str) -> str:
+    return name.replace("-", "b")
+
+
+def _grid(x: Any) -> Fraction:
+    """A music21 offset as a Fraction on the 1/24-quarter grid (MIDI files are quantized)."""
+    return Fraction(round(Fraction(x) * _GRID), _GRID)
+
+
+def lead_notes(part: Any) -> list[tuple[Fraction, Fraction, int]]:
+    """(flat offset, duration, pitch) of every lead note of a music21 part, ties merged:
+    chord symbols, grace notes, rests and unpitched notes skipped, a chord's top note kept."""
+    from music21 import harmony
+
+    out = []
+    for n in part.stripTies().flatten().notes:
+        if isinstance(n, harmony.Harmony) or n.duration.isGrace or n.quarterLength == 0:
+            continue
+        pitches = [p.midi for p in getattr(n, "pitches", ())]
+        if not pitches:
+            continue
+        out.append((_grid(n.offset), _grid(n.quarterLength), max(pitches)))
+    # one note per onset: the highest (a second voice under the melody is not the lead)
+    best: dict[Fraction, tuple[Fraction, Fraction, int]] = {}
+    for on, dur, p in out:
+        if on not in best or p > best[on][2]:
+            best[on] = (on, dur, p)
+    return [best[k] for k in sorted(best)]
+
+
+def read_file_data(path: Path, where: str, what: str = "melody file") -> bytes:
+    """The bytes of an input file, refused with one named line if unreadable or too big."""
+    if path.suffix.lower() not in SUFFIXES:
+        raise ProjectError(f"{what} {str(path)!r} has the suffix {path.suffix or '(none)'!r}",
+                           where=where, accepted=ACCEPTED)
+    try:
+        if not path.is_file():
+            raise ProjectError(f"{what} {str(path)!r} is not a file", where=where, accepted=ACCEPTED)
+        size = path.stat().st_size
+        if size > MAX_BYTES:
+            raise ProjectError(f"{what} {str(path)!r} is {size} bytes", where=where,
+                               accepted=f"a file under {MAX_BYTES} bytes")
+        data = path.read_bytes()
+    except OSError as err:
+        raise ProjectError(f"{what} {str(path)!r} cannot be read: {err.strerror}", where=where,
+                           accepted=ACCEPTED) from None
+    if path.suffix.lower() in (".musicxml", ".xml") and _ENTITY.search(data):
+        raise ProjectError(f"{what} {str(path)!r} declares XML entities", where=where,
+                           accepted="MusicXML without <!ENTITY> declarations")
+    return data
+
+
+def parse_score(data: bytes, path: Path, where: str, what: str = "melody file") -> Any:
+    """A music21 score (the first tune of an ABC book) from the file's bytes."""
+    import warnings
+
+    from music21 import converter, stream
+
+    suffix = path.suffix.lower()
+    fmt = {".mid": "midi", ".midi": "midi", ".abc": "abc", ".mxl": "musicxml"}.get(suffix, "musicxml")
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            if fmt == "midi":
+                score = converter.parseData(data, format="midi")
+            else:
+                text = _unzip_mxl(data) if suffix == ".mxl" else data
+                score = converter.parseData(text.decode("utf-8", errors="strict"), format=fmt)
+    except ProjectError:
+        raise
+    except Exception as err:  # noqa: BLE001 - any parser fault is bad input here
+        raise ProjectError(f"{what} {str(path)!r} cannot be read as {fmt.upper() if fmt != 'musicxml' else 'MusicXML'}: "
+                           f"{type(err).__name__}", where=where, accepted=ACCEPTED) from None
+    if isinstance(score, stream.Opus):
+        scores = list(score.scores)
+        if not scores:
+            raise ProjectError(f"{what} {str(path)!r} holds no tune", where=where, accepted=ACCEPTED)
+        score = scores[0]
+    return score
+
+
+def _unzip_mxl(data: bytes) -> bytes:
+    """The root MusicXML of a .mxl archive (entities refused as for .musicxml)."""
+    import io
+    import zipfile
+
+    if not data.startswith(b"PK"):
+        raise ValueError("not a compressed MusicXML archive")
+    with zipfile.ZipFile(io.BytesIO(data)) as z:
+        names = [n for n in z.namelist() if n.lower().endswith((".xml", ".musicxml"))
+                 and not n.startswith("META-INF")]
+        if not names:
+            raise ValueError("no MusicXML inside")
+        if z.getinfo(names[0]).file_size > 4 * MAX_BYTES:
+            raise ValueError("archive member too large")
+        inner = z.read(names[0])
+    if _ENTITY.search(inner):
+        raise ValueError("XML entities declared")
+    return inner
+
+
+def parts_with_notes(score: Any) -> list[Any]:
+    from music21 import stream
+
+    parts = list(score.parts) if isinstance(score, stream.Score) else [score]
+    return [p for p in parts if lead_notes(p)]
+
+
+def read_melody_file(path: Path, *, where: str, part: int | None = None,
+                     bars: tuple[int, int] | None = None) -> Melody:
+    """The melody of ``path``: part ``part`` (1-based among the parts with notes; the first
+    by default), bars ``bars`` (1-based, inclusive)."""
+    data = read_file_data(path, where)
+    score = parse_score(data, path, where)
+    is_midi = path.suffix.lower() in (".mid", ".midi")
+    parts = parts_with_notes(score)
+    if not parts:
+        raise ProjectError(f"melody file {str(path)!r} has no notes", where=where,
+                           accepted="a file whose melody part holds notes (chord symbols, rests and "
+                                    "grace notes alone are no melody)")
+    if part is not None and not 1 <= part <= len(parts):
+        raise ProjectError(f"part = {part} but melody file {str(path)!r} has {len(parts)} part"
+                           f"{'s' if len(parts) != 1 else ''} with notes", where=where,
+                           accepted=f"part = 1 to {len(parts)}")
+    chosen = parts[(part or 1) - 1]
+    if not is_midi:
+        chosen = chosen.toSoundingPitch()
+    return _melody(chosen, path, where, bars)
+
+
+def _meter_and_key(p: Any, path: Path, where: str) -> tuple[str | None, Any, str | None]:
+    from music21 import key as m21key
+    from music21 import meter
+
+    sigs = list(p.flatten().getElementsByClass(meter.TimeSignature))
+    if len({ts.ratioString for ts in sigs}) > 1:
+        raise ProjectError(f"melody file {str(path)!r} changes meter "
+                           f"({', '.join(dict.fromkeys(ts.ratioString for ts in sigs))})", where=where,
+                           accepted="a melody in one meter (split it into passages, one per meter, "
+                                    "is not supported either: one meter per project)")
+    ts = sigs[0] if sigs else None
+    keys = list(p.flatten().getElementsByClass(m21key.KeySignature))
+    key_text = None
+    if keys:
+        k = keys[0] if isinstance(keys[0], m21key.Key) else keys[0].asKey("major")
+        key_text = f"{_m21_name(k.tonic.name)} {k.mode}"
+    return (ts.ratioString if ts is not None else None), ts, key_text
+
+
+def _melody(p: Any, path: Path, where: str, bars: tuple[int, int] | None) -> Melody:
+    from music21 import harmony, stream
+
+    meter_text, ts, key_text = _meter_and_key(p, path, where)
+    bar = Fraction(ts.barDuration.quarterLength) if ts is not None else Fraction(4)
+    measures = list(p.getElementsByClass(stream.Measure))
+    pickup = Fraction(0)
+    if measures:
+        first = measures[0]
+        content = _grid(first.highestTime)
+        if first.paddingLeft or 0 < content < bar:
+            pickup = content
+    notes = [(on - pickup, dur, pitch) for on, dur, pitch in lead_notes(p)]
+    chords = []
+    for cs in p.flatten().getElementsByClass(harmony.ChordSymbol):
+        if isinstance(cs, harmony.NoChord):
+            continue
+        chords.append((_grid(cs.offset) - pickup, cs))
+    end = max(on + dur for on, dur, _ in notes)
+    total_bars = max(1, -(-end // bar))
+    if bars is not None:
+        lo, hi = bars
+        if hi > total_bars:
+            raise ProjectError(f"bars = \"{lo}-{hi}\" but melody file {str(path)!r} has {total_bars} "
+                               f"bar{'s' if total_bars != 1 else ''}", where=where,
+                               accepted=f"a range within bars 1-{total_bars}")
+        start, stop = (lo - 1) * bar, hi * bar
+        keep_pickup = lo == 1
+        notes = [(on - start, min(dur, stop - on), pt) for on, dur, pt in notes
+                 if (start <= on < stop) or (keep_pickup and on < 0)]
+        sounding = [cs for on, cs in chords if on <= start]      # the chord already sounding at the first bar
+        chords = [(on - start, cs) for on, cs in chords if start <= on < stop or (keep_pickup and on < 0)]
+        if sounding and not keep_pickup and not any(on == 0 for on, _cs in chords):
+            chords.insert(0, (Fraction(-1, _GRID), sounding[-1]))
+        if not notes:
+            raise ProjectError(f"bars = \"{lo}-{hi}\" of melody file {str(path)!r} hold no notes",
+                               where=where, accepted="a range of bars with melody notes")
+        if not keep_pickup:
+            pickup = Fraction(0)
+        total_bars = hi - lo + 1
+    if not any(on < 0 for on, _d, _p in notes):
+        pickup = Fraction(0)
+    symbols = tuple((on, chord_text(cs)) for on, cs in chords)
+    return Melody(tuple(MelodyNote(pt, on, dur) for on, dur, pt in notes), meter_text, key_text, pickup,
+                  Fraction(total_bars) * bar, symbols, path.name)
+
+
+def chord_text(cs: Any) -> str:
+    """A music21 chord symbol in our spelling: the file's own figure with ``-`` flats made
+    ``b``; the bass spelled from the symbol's bass note."""
+    figure = str(cs.figure).strip()
+    root = _m21_name(cs.root().name)
+    m = re.match(r"^[A-Ga-g][-#b♭♯]*", figure)
+    suffix = figure[m.end():] if m else ""
+    suffix = suffix.split("/")[0] if "/" in suffix and not suffix.endswith("6/9") else suffix
+    text = root + suffix.replace("-", "b") if not suffix.startswith("-") else root + "m" + suffix[1:]
+    bass = cs.bass()
+    if bass is not None and bass.name != cs.root().name:
+        text += "/" + _m21_name(bass.name)
+    return text

@@ -1,0 +1,225 @@
+"""Forms (issue 17): [[passages]] joined into one score, MIDI and report, with a designed
+transition between two keys a minor third apart.
+
+Outside references: music21 reads the written score (bar numbers, key signatures, bar
+lines, rehearsal marks, notes); mido reads the MIDI file.  Common practice of chart
+layout: a rehearsal letter at each new section, a double bar before it, the new key
+signature on that double bar.  Key distances are counted from music21's own keys.
+"""
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+from conftest import run_cli, snapshot, write_project
+
+FORM = '''title = "Three Passages"
+tempo = 120
+key = "F major"
+
+[section]
+name = "trumpets-4"
+voicing = "close"
+
+[[passages]]
+name = "Theme"
+melody = "C5:4 | [F6] A4:4. G4:8 F4:4 C5:4 | [Gm7] Bb4:4 A4:8 G4:8 [C7] E4:4 G4:4 | [F6] F4:1 |"
+
+[[passages]]
+name = "Turn"
+chain = { design = true, statements = 4 }
+dynamics = ["mp", "mf"]
+
+[[passages]]
+name = "Theme up"
+key = "Ab major"
+voicing = "spread"
+melody = "Eb5:4 | [Ab6] C5:4. Bb4:8 Ab4:4 Eb5:4 | [Bbm7] Db5:4 C5:8 Bb4:8 [Eb7] G4:4 Bb4:4 | [Ab6] Ab4:1 |"
+
+[output]
+formats = ["musicxml", "midi", "report"]
+dynamics = "f"
+'''
+
+
+@pytest.fixture(scope="module")
+def form(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, dict]:
+    folder = tmp_path_factory.mktemp("form")
+    p = write_project(folder, FORM)
+    r = run_cli("build", str(p), "-o", str(folder / "out"))
+    assert r.exit_code == 0, r.output
+    report = json.loads((folder / "out" / "three-passages.report.json").read_text())
+    return folder / "out", report
+
+
+def _measures(path: Path):  # noqa: ANN202
+    from music21 import converter, stream
+
+    score = converter.parse(str(path))
+    return score, list(score.parts[0].getElementsByClass(stream.Measure))
+
+
+def test_one_score_with_continuous_bars_letters_keys_and_double_bars(form: tuple[Path, dict]) -> None:
+    from music21 import expressions, key
+
+    out, report = form
+    score, measures = _measures(out / "three-passages.musicxml")
+    numbers = [m.number for m in measures]
+    assert numbers == list(range(0, len(measures)))            # the pickup is bar 0, then 1, 2, ...
+    starts = [p["first_bar"] for p in report["passages"]]
+    assert len(starts) == 3 and starts[0] == 1
+    by_number = {m.number: m for m in measures}
+    # a rehearsal letter at each passage, and nowhere else
+    letters = {m.number: [r.content for r in m.getElementsByClass(expressions.RehearsalMark)] for m in measures}
+    assert {n: v for n, v in letters.items() if v} == {starts[0]: ["A"], starts[1]: ["B"], starts[2]: ["C"]}
+    # a double bar before each later passage
+    for b in starts[1:]:
+        assert by_number[b - 1].rightBarline is not None and by_number[b - 1].rightBarline.type == "double"
+    # key signatures: F major at the start; the change to Ab major on the double bar of passage 3;
+    # no other change (the transition keeps the signature it starts in, as charts write it)
+    sounding = score.parts[0].toSoundingPitch()
+    from music21 import stream
+
+    changes = [(m.number, ks.sharps) for m in sounding.getElementsByClass(stream.Measure)
+               for ks in m.getElementsByClass(key.KeySignature)]
+    assert changes == [(0, -1), (starts[2], -4)]
+    # every part carries the same bar lines and letters' bars
+    for part in score.parts:
+        assert [m.number for m in part.getElementsByClass(stream.Measure)] == numbers
+
+
+def test_designed_transition_leads_into_the_new_key(form: tuple[Path, dict]) -> None:
+    from music21 import key as m21key
+
+    out, report = form
+    events = report["events"]
+    passage_of = [e["passage"] for e in events]
+    first = passage_of.index(2)
+    # the transition's first note lies within an octave of the last note before it
+    assert abs(events[first]["lead"] - events[first - 1]["lead"]) <= 12
+    # its last P statement starts a key distance of F major -> Ab major above its first
+    statements = [s for s in report["statements"] if s["notes"] and events[s["notes"][0]]["passage"] == 2]
+    assert [s["form"] for s in statements] == ["P", "RI", "P", "RI"]
+    last_p = [s for s in statements if s["form"] == "P"][-1]
+    distance = (m21key.Key("A-").tonic.pitchClass - m21key.Key("F").tonic.pitchClass) % 12   # music21's keys
+    assert (events[last_p["notes"][0]]["lead"] - events[first]["lead"]) % 12 == distance
+    # the transition stays in the lead's practical range
+    lo, hi = report["section"]["parts"][0]["range"]
+    assert all(lo <= e["lead"] <= hi for e in events if e["passage"] == 2)
+    # the report names the motif, its score and why, and the runners-up
+    design = report["passages"][1]["design"]
+    assert design["motif"] and design["why"] and len(design["runners_up"]) == 3
+    assert design["score"] >= max(r["score"] for r in design["runners_up"])
+    md = (out / "three-passages.report.md").read_text()
+    assert "runner-up: motif" in md and "## Passages" in md
+
+
+def test_form_notes_voicing_and_dynamics(form: tuple[Path, dict]) -> None:
+    """The melodies come out note for note where they were put (passage 3 in its bars), the
+    voicing plan of passage 3 is its own, the dynamics follow each passage."""
+    import mido
+
+    out, report = form
+    events = report["events"]
+    third = [e for e in events if e["passage"] == 3]
+    assert [e["lead"] for e in third] == [75, 72, 70, 68, 75, 73, 72, 70, 67, 70, 68]
+    assert {e["voicing"] for e in third} == {"spread"}
+    assert [s["dynamic"] for s in report["statements"]] == ["f", "mp", "mf", "mf", "mf", "f"]
+    mid = mido.MidiFile(str(out / "three-passages.mid"))
+    notes = sum(1 for t in mid.tracks for m in t if m.type == "note_on" and m.velocity)
+    assert notes == 4 * len(events)
+
+
+BAD = [
+    ("meter mid-bar", 'meter = "3/4"\n', "the form is in 4/4"),
+    ("designed first", 'name = "X"\nchain = { design = true }\n', "no passage before it"),
+    ("two materials", 'melody = "C5:4"\nchain = { motif = "C4 D4" }\n', "gives melody and chain"),
+]
+
+
+@pytest.mark.parametrize(("what", "entry", "needle"), BAD, ids=[b[0] for b in BAD])
+def test_bad_form_input(tmp_path: Path, what: str, entry: str, needle: str) -> None:
+    text = FORM.replace('[[passages]]\nname = "Theme"\n',
+                        f'[[passages]]\n{entry}\n[[passages]]\nname = "Theme"\n', 1)
+    if what == "meter mid-bar":
+        text = FORM.replace('name = "Turn"\n', 'name = "Turn"\nmeter = "3/4"\n')
+    p = write_project(tmp_path, text)
+    out = tmp_path / "out"
+    r = run_cli("build", str(p), "-o", str(out))
+    assert r.exit_code == 2, (what, r.output)
+    assert needle in r.output, (what, r.output)
+    assert len(r.output.strip().splitlines()) == 1 and "Traceback" not in r.output
+    assert snapshot(out) == {}
+
+
+def test_form_melody_file_in_another_meter_is_refused(tmp_path: Path) -> None:
+    from music21 import meter, note, stream
+
+    part = stream.Part()
+    m = stream.Measure(number=1)
+    m.append(meter.TimeSignature("3/4"))
+    m.append(note.Note("C5", quarterLength=3))
+    part.append(m)
+    stream.Score([part]).write("musicxml", fp=str(tmp_path / "waltz.musicxml"))
+    text = FORM.replace('name = "Theme up"\n', 'name = "Theme up"\nmelody = "file:waltz.musicxml"\n') \
+        .replace('melody = "Eb5:4 |', 'ignored = "Eb5:4 |')
+    text = text.replace('ignored = ', '# ')
+    p = write_project(tmp_path, text)
+    r = run_cli("build", str(p), "-o", str(tmp_path / "out"))
+    assert r.exit_code == 2 and "is in 3/4 but the form is in 4/4" in r.output, r.output
+    assert snapshot(tmp_path / "out") == {}
+
+
+@pytest.fixture(scope="module")
+def lantern(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, dict]:
+    from conftest import DEMOS
+
+    folder = tmp_path_factory.mktemp("lantern")
+    (folder / "lantern-walk.musicxml").write_bytes((DEMOS / "lantern-walk.musicxml").read_bytes())
+    text = (DEMOS / "lantern-walk-soli.toml").read_text(encoding="utf-8").replace('"preview"', '"report"')
+    p = write_project(folder, text, "lantern-walk-soli.toml")
+    r = run_cli("build", str(p), "-o", str(folder / "out"))
+    assert r.exit_code == 0, r.output
+    return folder / "out", json.loads((folder / "out" / "lantern-walk-soli.report.json").read_text())
+
+
+def test_demo_aaba_tune_as_sax_soli_with_pad_and_turn(lantern: tuple[Path, dict]) -> None:
+    """The demo: our 32-bar AABA lead sheet (music21 reads it as the reference) as a saxophone
+    soli over a trombone pad, a designed four-statement turn, the last A a minor third up."""
+    from conftest import DEMOS
+    from music21 import converter, key, stream
+
+    out, report = lantern
+    source = converter.parse(str(DEMOS / "lantern-walk.musicxml")).parts[0]
+    src_measures = list(source.getElementsByClass(stream.Measure))
+    assert [m.number for m in src_measures] == list(range(0, 33))          # a pickup and 32 bars
+    assert len(source.flatten().getElementsByClass("ChordSymbol")) >= 40    # with its changes
+    assert [p["material"].split(" ")[0] for p in report["passages"]] == \
+        ["melody", "melody", "melody", "designed", "melody"]
+    assert report["section"]["name"] == "saxes-5"
+    assert [(la["section"], la["role"]) for la in report["layers"]] == [("trombones-4", "pad")]
+    events = report["events"]
+    # the last A: the file's bars 25-32, three semitones up, same rhythm (offsets from its first bar)
+    want = []
+    for m in src_measures[25:]:
+        for n in m.notes:
+            if n.isNote:
+                want.append((float(m.offset - src_measures[25].offset + n.offset), n.quarterLength,
+                             n.pitch.midi + 3))
+    last = [e for e in events if e["passage"] == 5]
+    start = (report["passages"][4]["first_bar"] - 1) * 4
+    assert [(e["onset"] - start, e["duration"], e["lead"]) for e in last] == want
+    # the turn: P RI P RI, its last P a minor third above its start
+    turn = [s for s in report["statements"] if s["notes"] and events[s["notes"][0]]["passage"] == 4]
+    assert [s["form"] for s in turn] == ["P", "RI", "P", "RI"]
+    first = events[turn[0]["notes"][0]]["lead"]
+    assert (events[turn[2]["notes"][0]]["lead"] - first) % 12 == 3
+    assert abs(first - events[turn[0]["notes"][0] - 1]["lead"]) <= 12
+    # music21 reads the new key (Db major, five flats) on the double bar of the last A
+    score = converter.parse(str(out / "lantern-walk-soli.musicxml"))
+    lead = score.parts[0].toSoundingPitch()
+    changes = [(m.number, ks.sharps) for m in lead.getElementsByClass(stream.Measure)
+               for ks in m.getElementsByClass(key.KeySignature)]
+    assert changes == [(0, -2), (report["passages"][4]["first_bar"], -5)]
+    assert len(score.parts) == 9                                   # five saxophones, four trombones

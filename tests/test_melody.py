@@ -1,0 +1,284 @@
+"""Melodies brought from outside (issue 17): files read through music21, our compact text,
+and the motif-file reader that must not take chord symbols for notes.
+
+Outside references: music21's bundled corpus (the Nottingham folk-tune collection in ABC,
+``nottingham-dataset/reelsa-c.abc``, tunes with chord symbols and a pickup) and music21 as
+the independent reader of the source and of what we write.  The compact text's expected
+times are counted by hand from its definition (README).
+"""
+from __future__ import annotations
+
+import json
+import re
+from fractions import Fraction
+from pathlib import Path
+
+import pytest
+from conftest import run_cli, snapshot, write_project
+
+TUNE = 80          # a reel in D major with a quarter-note pickup and chord symbols on the beats
+
+
+def _corpus_tune(number: int) -> str:
+    from music21 import corpus
+
+    text = Path(corpus.getWork("nottingham-dataset/reelsa-c.abc")).read_text(encoding="utf-8")
+    for chunk in re.split(r"\n(?=X:)", text):
+        if re.match(rf"X:\s*{number}\b", chunk):
+            return chunk
+    raise AssertionError(f"tune {number} is no longer in music21's corpus")
+
+
+def _lead(part) -> list[tuple[Fraction, Fraction, int]]:  # noqa: ANN001
+    """(onset, duration, MIDI) of every sounding note of a music21 part, ties merged; the
+    music21 reading of a lead line, independent of our reader."""
+    from music21 import harmony
+
+    out = []
+    for n in part.stripTies().flatten().notes:
+        if isinstance(n, harmony.Harmony) or n.duration.isGrace:
+            continue
+        out.append((Fraction(n.offset).limit_denominator(48), Fraction(n.quarterLength).limit_denominator(48),
+                    max(p.midi for p in n.pitches)))
+    return out
+
+
+def _symbols(part) -> list[tuple[Fraction, frozenset[int]]]:  # noqa: ANN001
+    from music21 import harmony
+
+    return [(Fraction(c.offset).limit_denominator(48), frozenset(p.pitchClass for p in c.pitches))
+            for c in part.flatten().getElementsByClass(harmony.ChordSymbol)
+            if not isinstance(c, harmony.NoChord)]
+
+
+def _sounding(symbols: list[tuple[Fraction, frozenset[int]]], t: Fraction) -> frozenset[int] | None:
+    now = None
+    for on, pcs in symbols:
+        if on <= t:
+            now = pcs
+    return now
+
+
+MELODY_PROJECT = '''title = "Reel Soli"
+tempo = 132
+melody = "file:tune.abc"
+
+[harmony]
+approach = []          # the file's own changes, no approach chords
+
+[section]
+name = "saxes-5"
+voicing = "close"
+
+[output]
+formats = ["musicxml", "midi", "report"]
+'''
+
+
+@pytest.fixture(scope="module")
+def reel(tmp_path_factory: pytest.TempPathFactory) -> Path:
+    folder = tmp_path_factory.mktemp("reel")
+    (folder / "tune.abc").write_text(_corpus_tune(TUNE), encoding="utf-8")
+    p = write_project(folder, MELODY_PROJECT)
+    r = run_cli("build", str(p), "-o", str(folder / "out"))
+    assert r.exit_code == 0, r.output
+    return folder / "out"
+
+
+def test_corpus_melody_read_back_note_for_note(reel: Path) -> None:
+    """music21's corpus tune and our score's lead part, both read by music21: equal pitch,
+    onset and duration for every note (the pickup included)."""
+    from music21 import converter, corpus
+
+    source = corpus.parse("nottingham-dataset/reelsa-c.abc", number=TUNE)
+    ours = converter.parse(str(reel / "reel-soli.musicxml"))
+    want = _lead(source.parts[0])
+    sounding = ours.parts[0].toSoundingPitch()
+    got = _lead(sounding)
+    assert len(want) > 100
+    assert got == want
+    # the key and the meter of the file came along (music21 reads them from our score)
+    ks = sounding.flatten().getElementsByClass("KeySignature")[0]
+    assert ks.sharps == 2
+    assert ours.parts[0].flatten().getElementsByClass("TimeSignature")[0].ratioString == "4/4"
+
+
+def test_corpus_melody_keeps_its_changes(reel: Path) -> None:
+    """The chord sounding at every symbol of the source is the chord sounding in our score at
+    that time, and the other way round (a symbol repeated at a section start is the same
+    harmony, so the comparison is of what sounds)."""
+    from music21 import converter, corpus
+
+    source = _symbols(corpus.parse("nottingham-dataset/reelsa-c.abc", number=TUNE).parts[0])
+    ours = _symbols(converter.parse(str(reel / "reel-soli.musicxml")).parts[0])
+    assert len(source) >= 15 and ours
+    times = sorted({t for t, _ in source} | {t for t, _ in ours})
+    assert [(t, _sounding(ours, t)) for t in times] == [(t, _sounding(source, t)) for t in times]
+
+
+def test_corpus_melody_voiced_and_reported(reel: Path) -> None:
+    data = json.loads((reel / "reel-soli.report.json").read_text())
+    assert data["chain"] is None
+    assert data["key"] == "D major"
+    assert {s["form"] for s in data["statements"]} == {"melody"}
+    # five saxophones voice every lead note, the lead on top
+    assert all(len(e["pitches"]) == 5 and e["pitches"][0] == e["lead"] for e in data["events"])
+    import mido
+
+    mid = mido.MidiFile(str(reel / "reel-soli.mid"))
+    assert sum(1 for t in mid.tracks for m in t if m.type == "note_on" and m.velocity) >= 5 * 111
+
+
+def _lead_sheet(path: Path, rest_only: bool = False) -> list[int]:
+    """A lead sheet written by music21: a quarter pickup, then bars with chord symbols (and a
+    grace note) above the melody; the melody's MIDI numbers in order."""
+    from music21 import harmony, meter, note, stream
+
+    part = stream.Part()
+    pickup = stream.Measure(number=0)
+    pickup.append(meter.TimeSignature("4/4"))
+    pickup.append(note.Rest(quarterLength=1) if rest_only else note.Note("C5", quarterLength=1))
+    pickup.paddingLeft = 3
+    part.append(pickup)
+    melody = ["F5", "E5", "D5", "C5", "A4", "Bb4", "C5", "F4"]
+    for k in range(2):
+        m = stream.Measure(number=k + 1)
+        m.insert(0, harmony.ChordSymbol("F" if k == 0 else "Gm7"))
+        m.insert(2, harmony.ChordSymbol("C7"))
+        if rest_only:
+            m.append(note.Rest(quarterLength=4))
+        else:
+            if k == 1:
+                m.append(note.Note("G4", quarterLength=0).getGrace())
+            for name in melody[4 * k:4 * k + 4]:
+                m.append(note.Note(name, quarterLength=1))
+        part.append(m)
+    score = stream.Score([part])
+    score.write("musicxml", fp=str(path))
+    return [] if rest_only else [72] + [note.Note(n).pitch.midi for n in melody]
+
+
+MOTIF_PROJECT = '''title = "Motif From Sheet"
+key = "F major"
+
+[chain]
+motif = "file:sheet.musicxml"
+motif_length = 5
+statements = 2
+
+[harmony]
+framework = "F6 | Gm7 C7"
+
+[section]
+name = "trumpets-4"
+
+[output]
+formats = ["report"]
+'''
+
+
+def test_motif_file_skips_chord_symbols_and_grace_notes(tmp_path: Path) -> None:
+    """A lead sheet with a pickup and chord symbols as a motif file gives the melody's first
+    notes (the bug: music21 lists ChordSymbol among .notes, so the symbols were read as notes)."""
+    melody = _lead_sheet(tmp_path / "sheet.musicxml")
+    p = write_project(tmp_path, MOTIF_PROJECT)
+    r = run_cli("build", str(p), "-o", str(tmp_path / "out"))
+    assert r.exit_code == 0, r.output
+    data = json.loads((tmp_path / "out" / "motif-from-sheet.report.json").read_text())
+    assert data["chain"]["motif"] == melody[:5]
+
+
+TEXT_PROJECT = '''title = "Typed Soli"
+key = "F major"
+meter = "3/4"
+melody = "C5:4 | [F6] A4:4. G4:8 F4:4 | [Gm7] Bb4:8 A4:8 G4:4 r:8 E4:8 | [C7] G4:2~8 r:8 | [F6] F4:2. |"
+
+[section]
+name = "trumpets-4"
+
+[output]
+formats = ["musicxml", "report"]
+'''
+
+
+def test_compact_text_melody(tmp_path: Path) -> None:
+    """Our compact text: pitches, values (dotted, tied), rests, bar lines, a pickup and inline
+    chord symbols; music21 reads back exactly the notes counted by hand."""
+    from music21 import converter
+
+    p = write_project(tmp_path, TEXT_PROJECT)
+    r = run_cli("build", str(p), "-o", str(tmp_path / "out"))
+    assert r.exit_code == 0, r.output
+    score = converter.parse(str(tmp_path / "out" / "typed-soli.musicxml"))
+    lead = score.parts[0].toSoundingPitch()
+    F = Fraction
+    # by hand: pickup of a quarter (offset 0), bar 1 starts at 1, bars of 3 quarters
+    want = [(F(0), F(1), 72), (F(1), F(3, 2), 69), (F(5, 2), F(1, 2), 67), (F(3), F(1), 65),
+            (F(4), F(1, 2), 70), (F(9, 2), F(1, 2), 69), (F(5), F(1), 67), (F(13, 2), F(1, 2), 64),
+            (F(7), F(5, 2), 67), (F(10), F(3), 65)]
+    assert _lead(lead) == want
+    syms = _symbols(score.parts[0])
+    assert [t for t, _ in syms] == [F(1), F(4), F(7), F(10)]
+    assert syms[1][1] == frozenset({7, 10, 2, 5})          # Gm7
+
+
+BAD = [
+    # (what, project text change, files to write, needle in the message)
+    ("no notes", 'melody = "file:empty.musicxml"', "empty", "has no notes"),
+    ("part out of range", 'melody = "file:sheet.musicxml"\npart = 3', "sheet", "part = 3"),
+    ("bars past the end", 'melody = "file:sheet.musicxml"\nbars = "1-12"', "sheet", "bars = \"1-12\""),
+    ("beyond the lead", 'melody = "C7:2 D7:2 | C7:1 |"', "", "extreme range"),
+    ("bad text", 'melody = "C5:4 D5:3"', "", "token 2"),
+    ("bar line inside a bar", 'melody = "C5:4 | D5:2 | E5:2"', "", "inside a bar"),
+    ("two materials", 'melody = "C5:4 D5:4"\n[chain]\nmotif = "C4 D4"', "", "'chain' and 'melody'"),
+]
+
+
+@pytest.mark.parametrize(("what", "change", "files", "needle"), BAD, ids=[b[0] for b in BAD])
+def test_bad_melody_input(tmp_path: Path, what: str, change: str, files: str, needle: str) -> None:
+    if files == "sheet":
+        _lead_sheet(tmp_path / "sheet.musicxml")
+    elif files == "empty":
+        _lead_sheet(tmp_path / "empty.musicxml", rest_only=True)
+    text = ('title = "Bad Melody"\nkey = "F major"\n' + change.split("\n[chain]")[0] + "\n"
+            + ("[chain]" + change.split("[chain]")[1] + "\n" if "[chain]" in change else "")
+            + '[harmony]\nframework = "F6"\n[section]\nname = "trumpets-4"\n[output]\nformats = ["musicxml"]\n')
+    p = write_project(tmp_path, text)
+    out = tmp_path / "out"
+    r = run_cli("build", str(p), "-o", str(out))
+    assert r.exit_code == 2, (what, r.output)
+    assert needle in r.output, (what, r.output)
+    assert "Traceback" not in r.output and len(r.output.strip().splitlines()) == 1
+    assert snapshot(out) == {}
+
+
+@pytest.mark.parametrize("fmt", ["mxl", "midi"])
+def test_melody_from_mxl_and_midi(tmp_path: Path, fmt: str) -> None:
+    """The same lead sheet written by music21 as compressed MusicXML and as a MIDI file:
+    our score's lead, read by music21, has the notes music21 reads from the source."""
+    from music21 import converter
+
+    sheet = tmp_path / "sheet.musicxml"
+    _lead_sheet(sheet)
+    source = converter.parse(str(sheet))
+    suffix = {"mxl": "mxl", "midi": "mid"}[fmt]
+    if fmt == "midi":           # music21 would sound the chord symbols and grace note in the file
+        from music21 import harmony
+
+        for el in list(source.recurse()):
+            if isinstance(el, harmony.Harmony) or (hasattr(el, "duration") and el.duration.isGrace):
+                el.activeSite.remove(el)
+    source.write(fmt, fp=str(tmp_path / f"tune.{suffix}"))
+    text = MELODY_PROJECT.replace("tune.abc", f"tune.{suffix}").replace("saxes-5", "trumpets-4")
+    if fmt == "midi":           # a MIDI file has no chord symbols: the project gives the framework
+        text = text.replace("approach = []", 'approach = []\nframework = "F | Gm7:2 C7:2"')
+    p = write_project(tmp_path, text)
+    r = run_cli("build", str(p), "-o", str(tmp_path / "out"))
+    assert r.exit_code == 0, r.output
+    ours = converter.parse(str(tmp_path / "out" / "reel-soli.musicxml")).parts[0].toSoundingPitch()
+    want = _lead(source.parts[0])
+    got = _lead(ours)
+    if fmt == "midi":           # MIDI has no pickup measure: the notes keep their order and values
+        assert [(d, p) for _t, d, p in got] == [(d, p) for _t, d, p in want]
+    else:
+        assert got == want
