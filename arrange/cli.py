@@ -397,6 +397,23 @@ def _run_source(source: tuple[str, ...]) -> str:
     return buf.getvalue()
 
 
+def _build_errors(text: str) -> int | None:
+    """Errors in the build of a project text, run in memory (None: it does not build)."""
+    import tomllib
+
+    from arrange.build import run_layers, run_pipeline
+    from arrange.project import project_from_data
+
+    try:
+        project = project_from_data(tomllib.loads(text), "design --write-project")
+        voiced = run_pipeline(project)
+        layers = run_layers(project, voiced)
+    except ArrangeError:
+        return None
+    sev = [f.severity for f in voiced.findings] + [f.severity for v in layers for f in v.findings]
+    return sev.count("error")
+
+
 class _Progress:
     """A progress bar on stderr, shown once a search has run for a second."""
 
@@ -501,7 +518,8 @@ def design(length: int, statements: int, overlap: int, start: str | None, max_st
                               where="--write-project", accepted="looser constraints")
         best = found.results[0]
         write_batch(write_project.parent if str(write_project.parent) else Path("."),
-                    {write_project.name: project_text(spec, best.chain, best.why).encode("utf-8")})
+                    {write_project.name: project_text(spec, best.chain, best.why,
+                                                      _build_errors).encode("utf-8")})
         click.echo(f"wrote {write_project}", err=True)
     if as_json:
         click.echo(json.dumps(found.to_json()))

@@ -2,7 +2,7 @@
 
 The project builds cleanly: it names the lead range of its section (raised so the voices
 under the lead stay in their ranges), tries the sections in order of the line's register
-until one builds with no error (:func:`project_text` runs the stages in memory), declares a
+until one builds with no error (the caller's ``errors`` runs the stages in memory), declares a
 transition's second key from the bar of its dominant, and asks for a preview.
 
 The framework moves tonic, dominant, tonic; for a transition it moves from the
@@ -13,6 +13,7 @@ many bars as the rhythm stage's default groove gives the line in 4/4 (asked of
 from __future__ import annotations
 
 import json
+from collections.abc import Callable
 
 from arrange.chain.core import Chain
 from arrange.chain.spec import DesignSpec
@@ -80,37 +81,25 @@ def _lead_range(section: str) -> tuple[int, int]:
     return (low, hi) if hi - low >= 12 else (lo, hi)
 
 
-def _errors(text: str) -> int | None:
-    """Errors of the written project's build (None: it does not build at all)."""
-    import tomllib
-
-    from arrange.build import run_layers, run_pipeline
-    from arrange.errors import ArrangeError
-    from arrange.project import project_from_data
-
-    try:
-        project = project_from_data(tomllib.loads(text), "design --write-project")
-        voiced = run_pipeline(project)
-        layers = run_layers(project, voiced)
-    except ArrangeError:
-        return None
-    sev = [f.severity for f in voiced.findings] + [f.severity for v in layers for f in v.findings]
-    return sev.count("error")
-
-
-def project_text(spec: DesignSpec, chain: Chain, why: str) -> str:
+def project_text(spec: DesignSpec, chain: Chain, why: str,
+                 errors: Callable[[str], int | None] | None = None) -> str:
     """The project around ``chain``: the first section (by register) whose build has no
-    error, its lead range, a key change into a transition's second key, a preview."""
+    error, its lead range, a key change into a transition's second key, a preview.
+    ``errors`` builds a project text in memory and counts its errors (None: it does not
+    build); the command line passes one, so this module stays below the build."""
     lead = sorted(chain.pitches)[len(chain.pitches) // 2]
+    order = _HIGH if lead >= 60 else _LOW
+    if errors is None:
+        return _text(spec, chain, why, order[0])
     best: tuple[int, str] | None = None
-    for section in (_HIGH if lead >= 60 else _LOW):
+    for section in order:
         text = _text(spec, chain, why, section)
-        errors = _errors(text)
-        if errors == 0:
+        count = errors(text)
+        if count == 0:
             return text
-        if errors is not None and (best is None or errors < best[0]):
-            best = (errors, text)
-    return best[1] if best is not None else _text(spec, chain, why, (_HIGH if lead >= 60 else _LOW)[0])
+        if count is not None and (best is None or count < best[0]):
+            best = (count, text)
+    return best[1] if best is not None else _text(spec, chain, why, order[0])
 
 
 def _text(spec: DesignSpec, chain: Chain, why: str, section: str) -> str:
