@@ -100,7 +100,12 @@ def run_pipeline(project: Project) -> Voiced:
 
 def run_layers(project: Project, voiced: Voiced) -> tuple[VoicedLayer, ...]:
     """The project's [[layers]], voiced under the lead section."""
-    return build_layers(voiced.harmonized, voiced, project.layers)
+    layers = build_layers(voiced.harmonized, voiced, project.layers)
+    if project.passages and layers:
+        from arrange.form import mute_layers
+
+        layers = mute_layers(layers, voiced.harmonized, project.passages)
+    return layers
 
 
 def _in_project(err: ArrangeError, project: Project, table: str) -> ArrangeError:

@@ -42,7 +42,7 @@ from arrange.voicing.sections import Section
 from arrange.voicing.shapes import VOICINGS
 from arrange.voicing.voicer import VoicingOptions
 
-__all__ = ["Passage", "read_passages", "run_form", "join", "form_dynamics", "lead_notes_estimate",
+__all__ = ["Passage", "read_passages", "run_form", "join", "form_dynamics", "lead_notes_estimate", "mute_layers",
            "MAX_PASSAGES"]
 
 MAX_PASSAGES = 52
@@ -61,6 +61,7 @@ class Passage:
     dynamics: tuple[str, ...]
     where: str
     approach: tuple[str, ...] | None = None      # a designed chain's approach techniques
+    layers: tuple[int, ...] | None = None        # the project's [[layers]] that play here (None: all)
 
     @property
     def statements(self) -> int:
@@ -91,7 +92,7 @@ def _merged(top: Table, name: str, own: object, drop: tuple[str, ...], where: st
 
 def read_passages(top: Table, where: str, base: Path | None, meter: Meter, key: Key,
                   section: Section, dynamics: tuple[str, ...],
-                  chain_reader: Callable[[Table, Path | None], Any]) -> tuple[Passage, ...]:
+                  chain_reader: Callable[[Table, Path | None], Any], layer_count: int = 0) -> tuple[Passage, ...]:
     """Every ``[[passages]]`` entry, checked (material, key, meter, tables) before any work."""
     raw = top.raw("passages")
     if not isinstance(raw, list) or not raw or not all(isinstance(p, dict) for p in raw):
@@ -166,10 +167,11 @@ def read_passages(top: Table, where: str, base: Path | None, meter: Meter, key: 
             harmony = read_harmony(h_table)
         voicing = t.string("voicing", None, choices=VOICINGS) if t.has("voicing") else None
         dyn = _dynamics(t, dynamics)
+        layers = _layers(t, layer_count)
         t.finish()
         if isinstance(material, Melody):
             check_lead_range(material, section, t.at("melody"))
-        out.append(Passage(i, name, material, pkey, rhythm, harmony, voicing, dyn, at, approach))
+        out.append(Passage(i, name, material, pkey, rhythm, harmony, voicing, dyn, at, approach, layers))
         prev_key = pkey
     for p in out:
         if isinstance(p.material, DesignedChain) and (p.index == 1 or p.index == len(out)):
@@ -177,6 +179,39 @@ def read_passages(top: Table, where: str, base: Path | None, meter: Meter, key: 
                                f"{'before' if p.index == 1 else 'after'} it", where=p.where,
                                accepted="a designed chain between two passages: it carries the line from "
                                         "the one before into the key of the one after")
+    return tuple(out)
+
+
+def _layers(t: Table, count: int) -> tuple[int, ...] | None:
+    """``layers = [1, 2]``: which of the project's [[layers]] play in this passage."""
+    if not t.has("layers"):
+        return None
+    raw = t.raw("layers")
+    if not isinstance(raw, list) or any(isinstance(k, bool) or not isinstance(k, int) or not 1 <= k <= count
+                                        for k in raw):
+        raise t.error("layers", f"{raw!r}", f"a list of the project's layer numbers, 1 to {count} "
+                      "(in [[layers]] order), or [] for none" if count else
+                      "no layers key: the project has no [[layers]]")
+    return tuple(sorted(set(raw)))
+
+
+def mute_layers(layers: tuple[Any, ...], h: Harmonized, passages: tuple[Passage, ...]) -> tuple[Any, ...]:
+    """Each layer rests through the passages that leave it out (``layers = [...]``): its
+    chords there are dropped, and their findings with them."""
+    bar = h.line.meter.bar
+    out = []
+    for vl in layers:
+        off = [(Fraction(ps.first_bar - 1) * bar, Fraction(ps.last_bar) * bar)
+               for ps, p in zip(h.line.passages, passages, strict=True)
+               if p.layers is not None and vl.layer.index not in p.layers]
+        if not off:
+            out.append(vl)
+            continue
+        keep = [k for k, n in enumerate(vl.notes) if not any(lo <= n.onset < hi for lo, hi in off)]
+        new_index = {k: j for j, k in enumerate(keep)}
+        findings = tuple(replace(f, note=new_index[f.note]) if f.note is not None else f
+                         for f in vl.findings if f.note is None or f.note in new_index)
+        out.append(replace(vl, notes=tuple(vl.notes[k] for k in keep), findings=findings))
     return tuple(out)
 
 

@@ -200,7 +200,8 @@ def project_from_data(data: dict[str, object], where: str, path: Path | None = N
 
         from arrange.form import form_dynamics, read_passages
 
-        passages = read_passages(top, where, base, meter, key, section, output.dynamics, _chain)
+        passages = read_passages(top, where, base, meter, key, section, output.dynamics, _chain,
+                                 len(layers))
         output = replace(output, dynamics=form_dynamics(passages))
         harmony_opts = harmony.HarmonyOptions()        # each passage has its own
     else:

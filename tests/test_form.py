@@ -22,6 +22,12 @@ key = "F major"
 name = "trumpets-4"
 voicing = "close"
 
+[[layers]]
+section = "trombones-4"
+role = "pad"
+rhythm = "1"
+dynamics = "p"
+
 [[passages]]
 name = "Theme"
 melody = "C5:4 | [F6] A4:4. G4:8 F4:4 C5:4 | [Gm7] Bb4:4 A4:8 G4:8 [C7] E4:4 G4:4 | [F6] F4:1 |"
@@ -30,6 +36,7 @@ melody = "C5:4 | [F6] A4:4. G4:8 F4:4 C5:4 | [Gm7] Bb4:4 A4:8 G4:8 [C7] E4:4 G4:
 name = "Turn"
 chain = { design = true, statements = 4 }
 dynamics = ["mp", "mf"]
+layers = []                  # the pad rests under the turn
 
 [[passages]]
 name = "Theme up"
@@ -127,14 +134,34 @@ def test_form_notes_voicing_and_dynamics(form: tuple[Path, dict]) -> None:
     assert {e["voicing"] for e in third} == {"spread"}
     assert [s["dynamic"] for s in report["statements"]] == ["f", "mp", "mf", "mf", "mf", "f"]
     mid = mido.MidiFile(str(out / "three-passages.mid"))
-    notes = sum(1 for t in mid.tracks for m in t if m.type == "note_on" and m.velocity)
+    names = [next((m.name for m in t if m.type == "track_name"), "") for t in mid.tracks]
+    notes = sum(1 for t, name in zip(mid.tracks, names, strict=True) if "Trumpet" in name
+                for m in t if m.type == "note_on" and m.velocity)
     assert notes == 4 * len(events)
+
+
+def test_a_passage_leaves_out_a_layer(form: tuple[Path, dict]) -> None:
+    """layers = [] in the turn: music21 reads rests only in the trombones' bars of the turn,
+    and pad chords in every other bar of the passages."""
+    from music21 import stream
+
+    out, report = form
+    score, _ = _measures(out / "three-passages.musicxml")
+    turn = report["passages"][1]
+    pads = score.parts[4:]
+    assert len(pads) == 4
+    for part in pads:
+        sounding = {m.number for m in part.getElementsByClass(stream.Measure) if m.notes}
+        assert not sounding & set(range(turn["first_bar"], turn["last_bar"] + 1))
+    top = {m.number for m in pads[0].getElementsByClass(stream.Measure) if m.notes}
+    assert top >= set(range(1, turn["first_bar"])) | set(range(turn["last_bar"] + 1, report["bars"] + 1))
 
 
 BAD = [
     ("meter mid-bar", 'meter = "3/4"\n', "the form is in 4/4"),
     ("designed first", 'name = "X"\nchain = { design = true }\n', "no passage before it"),
     ("two materials", 'melody = "C5:4"\nchain = { motif = "C4 D4" }\n', "gives melody and chain"),
+    ("unknown layer", 'melody = "[F6] C5:4"\nlayers = [2]\n', "layer numbers, 1 to 1"),
 ]
 
 

@@ -282,3 +282,27 @@ def test_melody_from_mxl_and_midi(tmp_path: Path, fmt: str) -> None:
         assert [(d, p) for _t, d, p in got] == [(d, p) for _t, d, p in want]
     else:
         assert got == want
+
+
+def test_part_number_and_chords_in_the_melody(tmp_path: Path) -> None:
+    """part = 2 takes the second part; a chord in the melody gives its top note, the chord
+    symbols above it are no notes (music21 writes and reads the reference file)."""
+    from music21 import chord, converter, harmony, meter, note, stream
+
+    bass, tune = stream.Part(), stream.Part()
+    m1, m2 = stream.Measure(number=1), stream.Measure(number=1)
+    m1.append(meter.TimeSignature("4/4"))
+    m2.append(meter.TimeSignature("4/4"))
+    m1.append(note.Note("F2", quarterLength=4))
+    m2.insert(0, harmony.ChordSymbol("F"))
+    for item in (note.Note("A4"), chord.Chord(["F4", "C5"]), note.Note("Bb4"), note.Note("A4")):
+        m2.append(item)
+    bass.append(m1)
+    tune.append(m2)
+    stream.Score([bass, tune]).write("musicxml", fp=str(tmp_path / "two.musicxml"))
+    text = MELODY_PROJECT.replace('"file:tune.abc"', '"file:two.musicxml"\npart = 2').replace("saxes-5", "trumpets-4")
+    p = write_project(tmp_path, text)
+    r = run_cli("build", str(p), "-o", str(tmp_path / "out"))
+    assert r.exit_code == 0, r.output
+    ours = converter.parse(str(tmp_path / "out" / "reel-soli.musicxml")).parts[0].toSoundingPitch()
+    assert [pitch for _t, _d, pitch in _lead(ours)] == [69, 72, 70, 69]
