@@ -1,3 +1,3 @@
-from arrange.cli import main
+from arrange.cli import entry
 
-main()
+entry()

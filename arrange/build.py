@@ -13,10 +13,12 @@ from arrange.errors import ArrangeError, LimitError
 from arrange.harmony.harmonizer import harmonize
 from arrange.project import Project
 from arrange.rhythm.line import lay_rhythm
+from arrange.rhythm_section import RhythmSection, build_rhythm_section
 from arrange.voicing.layers import VoicedLayer, build_layers
 from arrange.voicing.voicer import Voiced, voice
 
-__all__ = ["run_pipeline", "run_layers", "render_outputs", "render_project", "write_outputs", "BuildResult"]
+__all__ = ["check_size", "written_notes", "MAX_SCORE_NOTES", "run_pipeline", "run_layers",
+           "run_rhythm_section", "render_outputs", "render_project", "write_outputs", "BuildResult"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -48,9 +50,13 @@ class BuildResult:
 MAX_SCORE_NOTES = 40_000
 
 
-def check_size(project: Project) -> None:
-    """Refuse, before any work starts, a passage too big to write in reasonable time."""
+def written_notes(project: Project) -> tuple[int, int]:
+    """(lead notes, written notes) of a project, known before the slow stages run:
+    the lead section writes one note per lead note and part; a layer writes at most
+    one chord per rhythm value (its shortest) and chord change, per part (pad), or
+    one per lead note (hits).  The rhythm stage, which is quick, gives the length."""
     c = project.chain
+    line = None
     if c is not None:
         notes = chain_length(len(c.motif), c.statements, c.overlap)
     elif project.melody is not None:
@@ -59,14 +65,52 @@ def check_size(project: Project) -> None:
         from arrange.form import lead_notes_estimate
 
         notes = lead_notes_estimate(project.passages)
-    parts = len(project.section.parts) + sum(len(la.section.parts) for la in project.layers)
-    if notes * parts > MAX_SCORE_NOTES:
+    written = notes * len(project.section.parts)
+    if not project.layers or written > MAX_SCORE_NOTES:
+        return notes, written
+    try:
+        if c is not None:
+            line = lay_rhythm(build_chain(c.motif, c.statements, c.overlap, None), project.meter,
+                              project.rhythm)
+        elif project.melody is not None:
+            from arrange.rhythm.melody import lay_melody
+
+            line = lay_melody(project.melody, project.meter, project.rhythm, where="melody")
+    except ArrangeError:
+        pass                                       # the pipeline reports it where it belongs
+    beats = max(1, len(project.meter.beats))
+    if line is not None:
+        length, bars = line.total, line.bars
+    else:                                          # passages: a lead note a beat, as a rough guide
+        length = notes * project.meter.bar / beats
+        bars = int(length / project.meter.bar) + 1
+    changes = (bars + 1) * beats                   # at most one framework chord per beat
+    for la in project.layers:
+        if la.role == "pad":
+            shortest = min(v for v, rest in la.rhythm if not rest)
+            per_part = int(length / shortest) + 1 + changes
+        else:
+            per_part = notes
+        written += per_part * len(la.section.parts)
+    return notes, written
+
+
+def check_size(project: Project, *, where: str | None = None, already: int = 0) -> int:
+    """Refuse, before any work starts, a passage too big to write in reasonable time;
+    ``already`` counts the notes of the other combinations of a ``--vary`` build."""
+    notes, written = written_notes(project)
+    if written + already > MAX_SCORE_NOTES:
         name = project.path.name if project.path else "project"
-        raise LimitError(
-            f"{notes} lead notes for {parts} parts make {notes * parts} written notes",
-            where=f"{name}, key 'chain.statements'",
-            accepted=f"at most {MAX_SCORE_NOTES} written notes (lead notes x parts): fewer "
-                     "statements or a smaller section")
+        parts = len(project.section.parts) + sum(len(la.section.parts) for la in project.layers)
+        what = (f"{notes} lead notes for {parts} parts"
+                + (" (layers included)" if project.layers else "") + f" make {written:,} written notes")
+        if already:
+            what += f", {written + already:,} with the combinations before it"
+        raise LimitError(what, where=where or f"{name}, key 'chain.statements'",
+                         accepted=f"at most {MAX_SCORE_NOTES:,} written notes in one build (lead notes x "
+                         "parts, layers and --vary combinations included): fewer statements, "
+                         "combinations or parts, or longer layer rhythms")
+    return written
 
 
 def run_pipeline(project: Project) -> Voiced:
@@ -98,6 +142,11 @@ def run_pipeline(project: Project) -> Voiced:
     return voice(harmonized, project.section, project.voicing)
 
 
+def run_rhythm_section(project: Project, voiced: Voiced) -> RhythmSection | None:
+    """The project's written rhythm section ([rhythm_section] parts), or None."""
+    return build_rhythm_section(voiced.harmonized, project.rhythm_section)
+
+
 def run_layers(project: Project, voiced: Voiced) -> tuple[VoicedLayer, ...]:
     """The project's [[layers]], voiced under the lead section."""
     layers = build_layers(voiced.harmonized, voiced, project.layers)
@@ -118,7 +167,8 @@ def _in_project(err: ArrangeError, project: Project, table: str) -> ArrangeError
 
 def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
                    notes: list[str] | None = None,
-                   layers: tuple[VoicedLayer, ...] = ()) -> dict[str, bytes]:
+                   layers: tuple[VoicedLayer, ...] = (),
+                   rhythm: RhythmSection | None = None) -> dict[str, bytes]:
     """Every asked file as bytes, in memory, before anything is written.  One-line
     notices (audio skipped, say) are appended to ``notes``."""
     files: dict[str, bytes] = {}
@@ -132,17 +182,21 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
                          analysis=out.analysis, concert=out.concert_score, version=__version__)
     if info is not None and ("musicxml" in formats or "preview" in formats):
         xml = musicxml_bytes(voiced, info, layers)   # the full score only when it is written or drawn
+        if rhythm is not None:
+            from arrange.writers.xml_rhythm import add_rhythm_parts
+
+            xml = add_rhythm_parts(xml, rhythm, voiced.harmonized, len(voiced.section.parts))
         if "musicxml" in formats:
             files[f"{slug}.musicxml"] = xml
         if "preview" in formats:
             from arrange.writers.preview import have_png, png_bytes, svg_bytes
 
-            svg = svg_bytes(xml)
+            svg = svg_bytes(xml, notes)
             files[f"{slug}.svg"] = svg
             if have_png():
                 files[f"{slug}.png"] = png_bytes(svg)
             elif notes is not None:
-                notes.append("preview: PNG skipped, cairosvg is not installed (pip install cairosvg)")
+                notes.append("preview: PNG skipped, resvg-py is not installed (pip install resvg-py)")
     if out.parts and info is not None:
         from arrange.project import slugify
         from arrange.writers.musicxml import part_bytes
@@ -156,13 +210,19 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
             first = len(voiced.section.parts)
             for j, (name, part_xml) in enumerate(layer_part_bytes(voiced, info, layers)):
                 files[f"{slug}.part{first + j + 1:02d}-{slugify(name)}.musicxml"] = part_xml
+        if rhythm is not None:
+            from arrange.writers.xml_rhythm import rhythm_part_files
+
+            first = len(voiced.section.parts) + sum(len(vl.layer.section.parts) for vl in layers)
+            for j, (name, part_xml) in enumerate(rhythm_part_files(
+                    rhythm, voiced.harmonized, project.title, project.tempo, _style(project), __version__)):
+                files[f"{slug}.part{first + j + 1:02d}-{slugify(name)}.musicxml"] = part_xml
     midi = None
     if "midi" in formats or out.audio:
         from arrange.writers.midi import MidiOptions, midi_bytes
 
         midi = midi_bytes(voiced, project.tempo,
-                          MidiOptions(out.dynamics, out.humanize, out.seed, out.rhythm_section),
-                          layers)
+                          MidiOptions(out.dynamics, out.humanize, out.seed), layers, rhythm)
         if "midi" in formats:
             files[f"{slug}.mid"] = midi
     if out.audio and midi is not None:
@@ -183,9 +243,21 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
 
             data["layers"] = layers_data(layers)
             data["warnings"] = list(data["warnings"]) + layer_warnings(layers, data["events"])
+        if rhythm is not None:
+            data["rhythm_section"] = rhythm_data(rhythm)
         files[f"{slug}.report.json"] = report_json(data)
         files[f"{slug}.report.md"] = report_markdown(data)
     return files
+
+
+def rhythm_data(rhythm: RhythmSection) -> dict[str, object]:
+    """The report's ``rhythm_section``: its parts (names as the score writes them), the
+    bass style and instrument, and the drum part's fill bars."""
+    names = {"guitar": "Guitar", "piano": "Piano", "bass": "Bass", "drums": "Drums"}
+    return {"parts": [{"name": names[p], "role": p} for p in rhythm.parts],
+            "bass_style": rhythm.bass_style, "bass_instrument": rhythm.bass_instrument,
+            "bass_notes": len(rhythm.bass), "slashes": sum(1 for s in rhythm.comping if not s.rest),
+            "fills": list(rhythm.drums.fills) if rhythm.drums is not None else []}
 
 
 def _style(project: Project) -> str:
@@ -218,9 +290,10 @@ def render_project(project: Project, formats: tuple[str, ...] | None = None,
         progress("voicing")
     voiced = run_pipeline(project)
     layers = run_layers(project, voiced)
+    rhythm = run_rhythm_section(project, voiced)
     if progress is not None:
         progress("writing")
-    files = render_outputs(project, voiced, formats or project.output.formats, notes, layers)
+    files = render_outputs(project, voiced, formats or project.output.formats, notes, layers, rhythm)
     return voiced, layers, files
 
 

@@ -14,8 +14,11 @@ from typing import Any
 
 from arrange.errors import ArrangeError, ProjectError
 from arrange.harmony import harmonizer as harmony
+from arrange.inputs.checked import MAX_DEPTH, bad_character, check_data, read_regular
 from arrange.inputs.melody_file import Melody
 from arrange.rhythm import line as rhythm
+from arrange.rhythm_section.options import RhythmSectionOptions
+from arrange.rhythm_section.options import read_options as read_rhythm_section
 from arrange.tables import Table
 from arrange.theory.pitch import parse_pitch, parse_pitches
 from arrange.voicing import voicer as voicing
@@ -45,7 +48,7 @@ class OutputSpec:
     analysis: bool = False                # statement labels, approach techniques
     parts: bool = False                   # one MusicXML per part as well
     concert_score: bool = False           # the score at concert pitch (parts stay transposed)
-    rhythm_section: bool = False          # MIDI bass and drums mock-up
+    rhythm_section: bool = False          # the old switch: bass and drums ([rhythm_section] now)
     humanize: float = 0.0                 # milliseconds of seeded timing spread (0 = none)
     seed: int = 1
     audio: bool = False                   # a WAV through fluidsynth when installed
@@ -69,6 +72,7 @@ class Project:
     style: str = ""                    # the style word over the metronome mark ("" = from groove and tempo)
     melody: Melody | None = None       # melody = "file:..." or compact text, instead of [chain]
     passages: tuple[Any, ...] = ()     # [[passages]]: a form (arrange.form.Passage values)
+    rhythm_section: RhythmSectionOptions = RhythmSectionOptions()   # written piano, guitar, bass, drums
 
 
 def slugify(title: str) -> str:
@@ -153,16 +157,17 @@ def _output(t: Table) -> OutputSpec:
 
 
 def project_from_data(data: dict[str, object], where: str, path: Path | None = None) -> Project:
+    check_data(data, where)
     top = Table(data, where)
     title = top.string("title")
     if len(title) > MAX_TITLE or any(c in title for c in "/\\") or ".." in title \
-            or any(ord(c) < 32 for c in title):
+            or bad_character(title) is not None:
         raise top.error("title", f"{title[:40]!r}{'...' if len(title) > 40 else ''} cannot be a title",
                         f"a title of at most {MAX_TITLE} characters without / \\ .. or control "
                         "characters (the output files are named from it)")
     tempo = top.number("tempo", 120, low=20, high=400)
     style = top.string("style", "")
-    if len(style) > 40 or any(ord(c) < 32 for c in style):
+    if len(style) > 40 or bad_character(style) is not None:
         raise top.error("style", f"{style[:40]!r} cannot be a style word",
                         "a short style word such as \"Medium Swing\" (at most 40 characters)")
     base = path.parent if path else None
@@ -194,6 +199,13 @@ def project_from_data(data: dict[str, object], where: str, path: Path | None = N
     sec_table.finish()
     output = _output(top.sub("output"))
     layers = read_layers(top.raw("layers", None), where)
+    rs_table = top.sub("rhythm_section")
+    if output.rhythm_section and rs_table.has("parts"):
+        raise ProjectError("both output.rhythm_section and rhythm_section.parts are given",
+                           where=f"{where}, key 'output.rhythm_section'",
+                           accepted="only [rhythm_section] parts = [...] (output.rhythm_section = true "
+                                    "is the old spelling of parts = [\"bass\", \"drums\"])")
+    rhythm_section = read_rhythm_section(rs_table, legacy=output.rhythm_section)
     passages: tuple[Any, ...] = ()
     if kinds == ["passages"]:
         from dataclasses import replace
@@ -213,7 +225,8 @@ def project_from_data(data: dict[str, object], where: str, path: Path | None = N
     move = top.raw("transpose", None)
     top.finish()
     project = Project(path, title, slugify(title), tempo, meter, key, chain, rhythm_opts,
-                      harmony_opts, section, voicing_opts, output, layers, style.strip(), melody, passages)
+                      harmony_opts, section, voicing_opts, output, layers, style.strip(), melody, passages,
+                      rhythm_section=rhythm_section)
     if move is None:
         return project
     from arrange.transpose import parse_target
@@ -266,15 +279,24 @@ def transpose_project(project: Project, target: int | harmony.Key, *, where: str
                    chain=replace(c, motif=moved.motif, lead_range=moved.lead_range))
 
 
+def _long_number(text: str) -> str:
+    """Where the number too long to convert is: line and key."""
+    m = re.search(r"[0-9_]{100,}", text)
+    if m is None:
+        return "a number is too long to read"
+    line_no = text.count("\n", 0, m.start()) + 1
+    line = text[text.rfind("\n", 0, m.start()) + 1:m.start()]
+    key = line.split("=", 1)[0].strip()[:40] if "=" in line else "?"
+    return f"line {line_no}, key {key!r}: a number of {m.end() - m.start():,} digits"
+
+
 def load_project(path: str | Path) -> Project:
     p = Path(path)
     if not p.is_file():
         raise ProjectError(f"project file {str(p)!r} does not exist", where=str(p),
                            accepted="the path of a .toml project file (arrange new FILE writes one)")
-    if p.stat().st_size > MAX_FILE_BYTES:
-        raise ProjectError(f"the file is {p.stat().st_size} bytes", where=str(p),
-                           accepted=f"a project file under {MAX_FILE_BYTES} bytes")
-    raw = p.read_bytes()
+    raw = read_regular(p, MAX_FILE_BYTES, where=str(p), what="project file",
+                       accepted="a .toml project file (arrange new FILE writes one)")
     try:
         text = raw.decode("utf-8")
     except UnicodeDecodeError as err:
@@ -285,4 +307,10 @@ def load_project(path: str | Path) -> Project:
     except tomllib.TOMLDecodeError as err:
         raise ProjectError(f"invalid TOML: {err}", where=str(p),
                            accepted="TOML (https://toml.io), e.g. title = \"My Cue\"") from None
+    except RecursionError:
+        raise ProjectError("values are nested too deep to read", where=str(p),
+                           accepted=f"tables and lists nested at most {MAX_DEPTH} deep") from None
+    except ValueError:                         # a number past Python's 4,300-digit limit
+        raise ProjectError(_long_number(text), where=str(p),
+                           accepted="numbers of at most a few digits") from None
     return project_from_data(data, p.name, p.resolve())

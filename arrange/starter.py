@@ -54,7 +54,12 @@ formats = ["musicxml", "midi", "report", "preview"]
 dynamics = ["mp", "mf", "mf", "f"]   # one per statement (the last holds)
 # analysis = true                # statement labels and approach techniques on the score
 # parts = true                   # one MusicXML file per part, in written pitch
-# rhythm_section = true          # bass and drums in the MIDI mock-up
+# rhythm_section = true          # old spelling of [rhythm_section] parts = ["bass", "drums"]
+
+# The rhythm section, written in the score and the parts and played in the MIDI:
+[rhythm_section]
+# parts = ["piano", "guitar", "bass", "drums"]   # any of these
+# bass = "auto"                  # auto (from the groove) | walking | two-beat | tumbao | shuffle | roots-fifths
 
 # A background layer under the lead section (add more [[layers]] tables for more):
 [[layers]]

@@ -20,6 +20,7 @@ from pathlib import Path
 from typing import Any
 
 from arrange.errors import ArrangeError, ProjectError
+from arrange.inputs.checked import whole
 from arrange.project import Project, load_project, project_from_data, slugify
 from arrange.rhythm.groove import GROOVE_ONLY
 from arrange.theory.pitch import pitch_name
@@ -76,7 +77,7 @@ def _typed(text: str, old: Any) -> Any:
         return text
     try:
         value = tomllib.loads(f"v = {text}")["v"]
-    except tomllib.TOMLDecodeError:
+    except (tomllib.TOMLDecodeError, ValueError, RecursionError):   # not TOML, or a 5,000-digit number
         return text
     if isinstance(old, float) and isinstance(value, int) and not isinstance(value, bool):
         return float(value)
@@ -90,7 +91,7 @@ def _set(data: dict[str, Any], vary: Vary, text: str) -> None:
     for depth, seg in enumerate(parts):
         last = depth == len(parts) - 1
         if isinstance(node, list):
-            if not seg.isdigit() or not 1 <= int(seg) <= len(node):
+            if whole(seg) is None or not 1 <= int(seg) <= len(node):
                 raise ProjectError(f"key {vary.key!r}: {seg!r} is not an entry of "
                                    f"{'.'.join(parts[:depth])}", where=where,
                                    accepted=f"entries 1..{len(node)}")
@@ -171,7 +172,7 @@ def build_variants(project_path: Path, specs: tuple[str, ...], out_dir: Path,
                    adjust: Callable[[Project], Project] | None = None) -> list[Path]:
     """Build every combination into ``out_dir/<folder>/`` and write ``variants.md``."""
     from arrange.build import render_project
-    from arrange.writers.files import write_batch
+    from arrange.writers.files import write_sets
 
     varies = [parse_vary(s) for s in specs]
     load_project(project_path)                 # the file itself is sound before anything is varied
@@ -180,6 +181,11 @@ def build_variants(project_path: Path, specs: tuple[str, ...], out_dir: Path,
     variants = expand(data, varies, p.name, p.resolve())
     if adjust is not None:                     # the command line's own flags (--parts, ...)
         variants = [Variant(v.name, v.folder, adjust(v.project)) for v in variants]
+    from arrange.build import check_size
+
+    counted = 0
+    for var in variants:                       # every combination counts toward the limits
+        counted += check_size(var.project, where=f"--vary {var.name}", already=counted)
     rendered = []
     for var in variants:                       # everything in memory before a file is written
         try:
@@ -188,12 +194,10 @@ def build_variants(project_path: Path, specs: tuple[str, ...], out_dir: Path,
             raise type(err)(err.what, where=f"--vary {var.name}: {err.where or ''}".rstrip(": "),
                             accepted=err.accepted) from None
         rendered.append((var, voiced, layers, files))
-    written: list[Path] = []
-    rows = []
-    for var, voiced, layers, files in rendered:
-        written += write_batch(out_dir / var.folder, files)
-        rows.append(_row(var, voiced, layers, files))
-    written += write_batch(out_dir, {"variants.md": variants_markdown(p.name, varies, rows)})
+    rows = [_row(var, voiced, layers, files) for var, voiced, layers, files in rendered]
+    sets = [(out_dir / var.folder, files) for var, _voiced, _layers, files in rendered]
+    sets.append((out_dir, {"variants.md": variants_markdown(p.name, varies, rows)}))
+    written = write_sets(out_dir, sets)            # every folder and variants.md, all or nothing
     return written
 
 

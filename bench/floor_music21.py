@@ -1,7 +1,9 @@
 """The floor for `arrange build`: the same notes as music21 objects, written as
 MusicXML and MIDI by music21 alone.
 
-Usage: python floor_music21.py REPORT.json OUT_DIR
+Usage: python floor_music21.py REPORT.json OUT_DIR [--preview]
+With --preview the score is also drawn the way a user of music21 would draw it: verovio
+lays out the MusicXML music21 wrote, cairosvg makes the PNG of every page.
 It reads the sounding pitches, onsets and durations from a report that
 `arrange build` wrote, so both sides write exactly the same notes.
 """
@@ -12,7 +14,7 @@ import sys
 from pathlib import Path
 
 
-def main(report_path: str, out_dir: str) -> None:
+def main(report_path: str, out_dir: str, preview: bool = False) -> None:
     from music21 import harmony, meter, note, stream, tempo
     from music21.midi import translate
 
@@ -55,7 +57,19 @@ def main(report_path: str, out_dir: str) -> None:
     mf.open(str(out / "floor.mid"), "wb")
     mf.write()
     mf.close()
+    (out / "floor.report.json").write_text(json.dumps(data, indent=1), encoding="utf-8")
+    if preview:
+        import cairosvg
+        import verovio
+
+        tk = verovio.toolkit()
+        tk.setOptions({"pageWidth": 2100, "pageHeight": 2970, "scale": 40, "adjustPageHeight": True})
+        tk.loadData((out / "floor.musicxml").read_text())
+        for i in range(1, tk.getPageCount() + 1):
+            svg = tk.renderToSVG(i)
+            (out / f"floor{i}.svg").write_text(svg, encoding="utf-8")
+            cairosvg.svg2png(bytestring=svg.encode(), write_to=str(out / f"floor{i}.png"), background_color="white")
 
 
 if __name__ == "__main__":
-    main(sys.argv[1], sys.argv[2])
+    main(sys.argv[1], sys.argv[2], "--preview" in sys.argv[3:])

@@ -45,7 +45,8 @@ def test_score_and_parts_written(built) -> None:
     out, report = built
     names = {p.name for p in out.iterdir()}
     assert "test-cue.musicxml" in names and "test-cue.svg" in names and "test-cue.png" in names
-    assert len([n for n in names if ".part" in n]) == len(report["section"]["parts"])
+    rhythm = report.get("rhythm_section", {}).get("parts", [])    # written rhythm parts follow
+    assert len([n for n in names if ".part" in n]) == len(report["section"]["parts"]) + len(rhythm)
 
 
 def test_every_file_validates_against_musicxml_4_xsd(built, musicxml_schema) -> None:
@@ -60,14 +61,17 @@ def test_music21_and_partitura_reread_every_file(built) -> None:
 
     out, report = built
     n_notes = len(report["events"])
+    lead = {p["name"] for p in report["section"]["parts"]}     # the rhythm parts have their own tests
     for path in _scores(out):
         score = converter.parse(str(path))                       # music21 as reader
         for part in score.parts:
+            if part.partName not in lead:
+                continue
             heads = [n for n in part.flatten().getElementsByClass("Note")
                      if not (n.tie is not None and n.tie.type in ("stop", "continue"))]
             assert len(heads) == n_notes
         ps = partitura.load_musicxml(str(path))                  # partitura as reader
-        assert all(len(p.note_array()) >= n_notes for p in ps.parts)
+        assert all(len(p.note_array()) >= n_notes for p in ps.parts if p.part_name in lead)
 
 
 def _instrument_reference(name: str):  # noqa: ANN202
@@ -81,7 +85,7 @@ def test_written_minus_sounding_is_the_instruments_transposition(built) -> None:
 
     out, report = built
     ps = partitura.load_musicxml(str(out / "test-cue.musicxml"))
-    for k, part in enumerate(ps.parts):
+    for k, part in enumerate(ps.parts[:len(report["section"]["parts"])]):
         spec = report["section"]["parts"][k]
         ref = _instrument_reference(spec["name"].rsplit(" ", 1)[0] if spec["instrument"] == "trumpet"
                                     else spec["name"])
@@ -133,7 +137,8 @@ def test_score_marks(built) -> None:
     assert '<group-symbol>bracket</group-symbol>' in text
     assert text.count("<instrument-sound>brass.trumpet</instrument-sound>") == 4
     assert "<measure-numbering>system</measure-numbering>" in text
-    assert text.count("<bar-style>light-heavy</bar-style>") == 4
+    rhythm = report.get("rhythm_section", {}).get("parts", [])
+    assert text.count("<bar-style>light-heavy</bar-style>") == 4 + len(rhythm)
     assert "Transposed score" in text and "<credit" in text
     assert "Music21" not in text
     groups = score.getElementsByClass(layout.StaffGroup)
@@ -144,7 +149,10 @@ def test_score_marks(built) -> None:
     assert "Brightly" in words          # straight groove at 120 (common practice, from memory)
     labels = [w for w in words if re.fullmatch(r"\d+\. (P|RI) [+-]\d+", w)]
     assert len(labels) == len(report["chain"]["statements"])         # the analysis option
-    assert lead.getElementsByClass(expressions.RehearsalMark)[0].content == "A"
+    # rehearsal letters only where a rehearsal restarts, four bars apart or more (issue 16;
+    # common practice): the score prints those the report names, none in this short passage
+    letters = [r.content for r in lead.getElementsByClass(expressions.RehearsalMark)]
+    assert letters == list(dict.fromkeys(s["rehearsal"] for s in report["statements"] if s["rehearsal"]))
     dyns = [d.value for d in lead.getElementsByClass(dynamics.Dynamic)]
     assert dyns[:3] == ["p", "mf", "f"]     # one at each statement where it changes
 

@@ -18,10 +18,10 @@ from conftest import BASIC, write_project
 
 from arrange.build import run_pipeline
 from arrange.project import load_project
+from arrange.rhythm_section import RhythmSectionOptions, build_rhythm_section
 from arrange.writers import marks
 from arrange.writers.audio import missing_message, normalise
 from arrange.writers.files import write_batch
-from arrange.writers.rhythm_section import bass_notes, drum_notes
 
 
 @pytest.fixture
@@ -41,17 +41,30 @@ def _with_rest_before(voiced, index: int, gap: Fraction):  # noqa: ANN001, ANN20
     return replace(voiced, events=tuple(events))
 
 
+def _with_bar_rest_before(voiced, index: int):  # noqa: ANN001, ANN202
+    """The same passage with a whole 4/4 bar of rest before note ``index`` (it and the
+    later notes move a bar on)."""
+    bar = Fraction(4)
+    events = []
+    for i, ve in enumerate(voiced.events):
+        n = ve.event.note
+        if i >= index:
+            n = replace(n, onset=n.onset + bar, perf_onset=n.perf_onset + bar)
+        events.append(replace(ve, event=replace(ve.event, note=n)))
+    return replace(voiced, events=tuple(events))
+
+
 def test_dynamic_at_first_note_and_at_changes(voiced) -> None:
     got = marks.entrances(voiced, ("mp", "mp", "f"))
     stmt3 = next(i for i, ve in enumerate(voiced.events) if ve.event.note.statement == 3)
     assert got == [(0, "mp"), (stmt3, "f")]
 
 
-def test_dynamic_repeated_after_every_rest(voiced) -> None:
-    # common practice: a dynamic at the start of every entrance, none missing after rests
-    rested = _with_rest_before(voiced, 5, Fraction(1, 4))
-    got = marks.entrances(rested, ("mf",))
-    assert got == [(0, "mf"), (5, "mf")]
+def test_dynamic_restated_after_a_rest_of_a_bar_only(voiced) -> None:
+    # common practice: a dynamic at every entrance a player counts in (after a rest of a
+    # bar or more), not restated after a short rest inside a phrase
+    assert marks.entrances(_with_rest_before(voiced, 5, Fraction(1, 4)), ("mf",)) == [(0, "mf")]
+    assert marks.entrances(_with_bar_rest_before(voiced, 5), ("mf",)) == [(0, "mf"), (5, "mf")]
 
 
 def test_dynamics_in_the_musicxml_after_a_rest(voiced) -> None:
@@ -59,7 +72,7 @@ def test_dynamics_in_the_musicxml_after_a_rest(voiced) -> None:
 
     from arrange.writers.musicxml import ScoreInfo, musicxml_bytes
 
-    rested = _with_rest_before(voiced, 5, Fraction(1, 4))
+    rested = _with_bar_rest_before(voiced, 5)       # a rest of a whole 4/4 bar
     data = musicxml_bytes(rested, ScoreInfo("T", 120, "Straight"))
     score = converter.parseData(data.decode(), format="musicxml")    # music21 as reader
     for part in score.parts:
@@ -102,19 +115,27 @@ def test_rehearsal_letters() -> None:
     assert [marks.rehearsal_letter(k) for k in (1, 2, 26, 27)] == ["A", "B", "Z", "AA"]
 
 
+def _rhythm(voiced):  # noqa: ANN001, ANN202
+    opts = RhythmSectionOptions(parts=("bass", "drums"))
+    return build_rhythm_section(voiced.harmonized, opts)
+
+
 def test_bass_plays_framework_roots_in_bass_register(voiced) -> None:
-    notes = bass_notes(voiced)
-    assert notes and all(28 <= p <= 39 for _, _, p, _ in notes)   # E1..Eb2 (from memory: 4-string bass)
+    notes = _rhythm(voiced).bass
+    # E1..D3: a 4-string bass's low register (from memory)
+    assert notes and all(28 <= n.pitch <= 50 for n in notes)
     for fc in voiced.harmonized.framework:
-        at = [p for s, _, p, _ in notes if s == fc.onset]
+        at = [n.pitch for n in notes if n.onset == fc.onset]
         assert at and at[0] % 12 == fc.chord.root % 12
 
 
 def test_drums_use_general_midi_keys(voiced) -> None:
-    keys = {p for _, _, p, _ in drum_notes(voiced)}
-    # GM 1 percussion map: 36 bass drum 1, 38 acoustic snare, 42 closed hi-hat
-    assert keys == {36, 38, 42}
-    assert max(s for s, _, _, _ in drum_notes(voiced)) < voiced.harmonized.line.total
+    hits = _rhythm(voiced).drums.hits
+    keys = {h.key for h in hits}
+    # GM 1 percussion map: 36 bass drum 1, 38 acoustic snare, 42 closed hi-hat, 45/48/50 toms,
+    # 49 crash cymbal 1 (the fills where statements end)
+    assert {36, 38, 42} <= keys <= {36, 38, 42, 45, 48, 49, 50}
+    assert max(h.onset for h in hits) < voiced.harmonized.line.total
 
 
 def _wav(samples: list[int]) -> bytes:

@@ -31,7 +31,8 @@ from arrange.chain.spec import DesignSpec, make_spec, parse_steps, tonic_chord
 from arrange.theory.pitch import pitch_name
 
 __all__ = ["DesignSpec", "make_spec", "parse_steps", "Found", "Design", "search", "meets",
-           "score_of", "space_size", "motif_at", "check_space", "why", "ranking_of"]
+           "score_of", "space_size", "motif_at", "check_space", "estimate_seconds", "MAX_SECONDS", "why",
+           "ranking_of"]
 
 _TIERS = ("strict", "end on a note of the second key's scale", "any last note")
 
@@ -258,17 +259,44 @@ def search(spec: DesignSpec, top: int = 10, *, count_only: bool = False,
     return Design(spec, counts[chosen], total, tuple(found), tuple(relaxed))
 
 
+# Seconds per candidate motif, measured on a 2-core laptop (bench: design -n 6/7, -k 4..64):
+# a constant part and a part per note of the chain grown; --aggregate costs more per note.
+_COST = (0.33e-6, 0.0044e-6)
+_COST_AGGREGATE = (0.45e-6, 0.0086e-6)
+MAX_SECONDS = 300      # a search estimated longer than this needs --force
+
+
+def estimate_seconds(spec: DesignSpec) -> float:
+    """The search's expected time (within about 2x of the measured time on a laptop)."""
+    from arrange.chain.spec import chain_length
+
+    per = _COST[0] + _COST[1] * chain_length(spec)
+    if spec.aggregate_within is not None:
+        per += _COST_AGGREGATE[0] + _COST_AGGREGATE[1] * chain_length(spec)
+    return space_size(spec) * per
+
+
 def check_space(spec: DesignSpec, force: bool) -> int:
-    """The space size; raise if it passes 10^9 candidates and ``force`` is not given."""
+    """The space size; raise if it passes 10^9 candidates, or the search is estimated
+    to take more than :data:`MAX_SECONDS`, and ``force`` is not given."""
     from arrange.chain.spec import MAX_SPACE
     from arrange.errors import DesignError
 
     total = space_size(spec)
-    if total > MAX_SPACE and not force:
+    seconds = estimate_seconds(spec)
+    if (total > MAX_SPACE or seconds > MAX_SECONDS) and not force:
         raise DesignError(
             f"the search space holds {total:,} candidate motifs ({len(spec.steps)} allowed steps "
-            f"^ {spec.length - 1}), roughly {total / 3e6:,.0f} s at 3 million motifs a second", where="--length/--max-step/--steps",
-            accepted=f"at most {MAX_SPACE:,} candidates: narrow --max-step or --steps, shorten "
-            "--length, or add --force")
+            f"^ {spec.length - 1}), about {_duration(seconds)} of search",
+            where="--length/--max-step/--steps/--statements",
+            accepted=f"at most {MAX_SPACE:,} candidates and about {MAX_SECONDS // 60} minutes: narrow "
+            "--max-step or --steps, shorten --length or --statements, or add --force")
     return total
 
+
+def _duration(seconds: float) -> str:
+    if seconds < 120:
+        return f"{seconds:.0f} s"
+    if seconds < 7200:
+        return f"{seconds / 60:.0f} minutes"
+    return f"{seconds / 3600:.1f} hours"

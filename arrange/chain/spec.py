@@ -10,6 +10,7 @@ import math
 from dataclasses import dataclass
 
 from arrange.errors import DesignError
+from arrange.inputs.checked import signed
 from arrange.theory.keys import Key
 from arrange.theory.pitch import pitch_name
 
@@ -87,9 +88,8 @@ def parse_steps(text: str, *, where: str = "--steps") -> tuple[int, ...]:
         raise DesignError(f"{text!r} holds no step", where=where,
                           accepted="step sizes in semitones separated by commas, e.g. 1,2,5 or +3,-4")
     for i, tok in enumerate(tokens, start=1):
-        body = tok[1:] if tok[0] in "+-" else tok
-        if not body.isdigit() or abs(int(tok)) > MAX_STEP:
-            raise DesignError(f"{tok!r} (step {i} of {where}) is not a step size", where=where,
+        if signed(tok) is None or abs(int(tok)) > MAX_STEP:
+            raise DesignError(f"{tok[:40]!r} (step {i} of {where}) is not a step size", where=where,
                               accepted=f"whole numbers of semitones -{MAX_STEP}..{MAX_STEP} separated "
                               "by commas, e.g. 1,2,5 or +3,-4")
         v = int(tok)

@@ -37,7 +37,7 @@ PRESETS: dict[str, tuple[tuple[tuple[int, str | None], ...], ...]] = {
 # the colour chord of a modal vamp: the degree that marks the mode (common practice)
 _VAMP = {"dorian": 4, "mixolydian": 7, "lydian": 2, "phrygian": 2, "locrian": 2, "aeolian": 6,
          "minor": 6, "harmonic minor": 4, "melodic minor": 4, "major": 4, "ionian": 4}
-_TOKEN = re.compile(r"^(.+?)(?::(\d+))?$")
+_TOKEN = re.compile(r"^(.+?)(?::([0-9]{1,3}))?$")
 MODULATE = ("none", "by-statement")
 
 
@@ -80,8 +80,8 @@ def parse_framework(value: object, *, where: str) -> tuple[tuple[str, ...], ...]
 def read_options(table: Table) -> HarmonyOptions:
     try:
         preset = table.raw("preset", None)
-        if preset is not None and preset not in PRESETS:
-            raise table.error("preset", f"preset {preset!r} is not known", ", ".join(PRESETS))
+        if preset is not None and (not isinstance(preset, str) or preset not in PRESETS):
+            raise table.error("preset", f"preset {str(preset)[:40]!r} is not known", ", ".join(PRESETS))
         if preset is not None and table.has("framework"):
             raise table.error("preset", "both 'preset' and 'framework' are given", "one of them")
         framework = () if preset is not None else \
@@ -100,7 +100,7 @@ def read_options(table: Table) -> HarmonyOptions:
         if not isinstance(raw_keys, list):
             raise table.error("keys", f"{raw_keys!r} is not a list of key changes",
                               "a list such as ['Ab major from bar 9']")
-        keys = sorted(parse_key_change(k, where=table.at("keys")) for k in raw_keys)
+        keys = sorted((parse_key_change(k, where=table.at("keys")) for k in raw_keys), key=lambda bk: bk[0])
         modulate = table.string("modulate", "none", choices=MODULATE)
         if modulate != "none" and keys:
             raise table.error("modulate", f"modulate = {modulate!r} and 'keys' are both given",

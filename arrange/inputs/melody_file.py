@@ -99,17 +99,10 @@ def read_file_data(path: Path, where: str, what: str = "melody file") -> bytes:
     if path.suffix.lower() not in SUFFIXES:
         raise ProjectError(f"{what} {str(path)!r} has the suffix {path.suffix or '(none)'!r}",
                            where=where, accepted=ACCEPTED)
-    try:
-        if not path.is_file():
-            raise ProjectError(f"{what} {str(path)!r} is not a file", where=where, accepted=ACCEPTED)
-        size = path.stat().st_size
-        if size > MAX_BYTES:
-            raise ProjectError(f"{what} {str(path)!r} is {size} bytes", where=where,
-                               accepted=f"a file under {MAX_BYTES} bytes")
-        data = path.read_bytes()
-    except OSError as err:
-        raise ProjectError(f"{what} {str(path)!r} cannot be read: {err.strerror}", where=where,
-                           accepted=ACCEPTED) from None
+    from arrange.inputs.checked import read_regular
+
+    # a regular file only (no device or FIFO, after links), its size checked before reading
+    data = read_regular(path, MAX_BYTES, where=where, what=what, accepted=ACCEPTED)
     if path.suffix.lower() in (".musicxml", ".xml") and _ENTITY.search(data):
         raise ProjectError(f"{what} {str(path)!r} declares XML entities", where=where,
                            accepted="MusicXML without <!ENTITY> declarations")

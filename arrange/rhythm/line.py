@@ -180,6 +180,9 @@ def read_options(table: Table) -> RhythmOptions:
         raise table.error("notate", f"notate = \"12/8\" needs the shuffle, not {groove!r}",
                           "notate = \"12/8\" with groove = \"shuffle\"")
     rest_between = parse_length(table.raw("rest_between", 0), table.at("rest_between"))
+    if (rest_between * 24).denominator != 1:     # whole 32nd notes or triplet sixteenths
+        raise table.error("rest_between", f"{float(rest_between):g} quarter notes is off the note grid",
+                          "a length in 32nd notes or triplet 16ths, e.g. 0.5, 1, 1.5 or \"8\"")
     hold_last = table.boolean("hold_last", True)
     augment = None
     if table.has("augment"):

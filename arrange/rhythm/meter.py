@@ -93,7 +93,7 @@ class Meter:
 
 
 def parse_meter(text: str, *, where: str = "meter") -> Meter:
-    m = re.fullmatch(r"\s*(\d+)\s*/\s*(\d+)\s*", text) if isinstance(text, str) else None
+    m = re.fullmatch(r"\s*([0-9]{1,3})\s*/\s*([0-9]{1,3})\s*", text) if isinstance(text, str) else None
     if not m or f"{int(m.group(1))}/{int(m.group(2))}" not in METERS:
         raise RhythmError(f"meter {text!r} is not supported", where=where,
                           accepted=", ".join(METERS))

@@ -31,6 +31,9 @@ _ACC = {"": 0, "b": -1, "bb": -2, "#": 1, "##": 2}
 _ROOT_RE = re.compile(r"([A-G])(bb|b|##|#)?")
 _BASS_RE = re.compile(r"/([A-G])(bb|b|##|#)?$")
 _ALT_RE = re.compile(r"([b#+-])(5|9|11|13)")
+# the alterations' punctuation: bare, or in closed groups with commas only between them
+_ITEM = r"[b#+-]?[0-9]{1,2}"
+_TAIL_RE = re.compile(rf"(?:{_ITEM}|\({_ITEM}(?:,?{_ITEM})*\))*")
 _ALT_ORDER = ("b5", "#5", "b9", "#9", "#11", "b13")
 # alteration -> (degree, interval above the root)
 _ALTS = {"b5": (5, 6), "#5": (5, 8), "b9": (9, 1), "#9": (9, 3), "#11": (11, 6), "b13": (13, 8)}
@@ -213,6 +216,9 @@ def _read_suffix(s: str, bad) -> _Parts:  # noqa: ANN001, C901 - one small gramm
             raise bad("puts sus on a minor, diminished or augmented chord")
         p.third = "sus2" if sus == "sus2" else "sus4"
     alts: list[str] = []
+    if any(c in s[i:] for c in "(),") and not _TAIL_RE.fullmatch(s, i):
+        raise bad(f"has {s[i:i + 20]!r} at position {i + 1}: parentheses must be closed and hold "
+                  "alterations, with commas only between them")
     while i < len(s):
         if take("(", ")", ","):
             continue

@@ -17,6 +17,7 @@ import re
 from dataclasses import dataclass
 
 from arrange.errors import HarmonyError
+from arrange.inputs.checked import whole
 from arrange.theory.chords import Chord, chord_scale_for, parse_chord
 from arrange.theory.scales import CHORD_SCALES, MODES, tensions_in_scale
 
@@ -123,8 +124,8 @@ def parse_key_change(text: object, *, where: str) -> tuple[int, Key]:
     m = _FROM_RE.match(text.strip())
     if not m:
         return 1, parse_key(text, where=where)
-    if not m.group(2).isdigit() or int(m.group(2)) < 1:
-        raise HarmonyError(f"bar {m.group(2)!r} in {text!r} is not a bar number", where=where,
+    if whole(m.group(2)) is None or int(m.group(2)) < 1:
+        raise HarmonyError(f"bar {m.group(2)[:20]!r} in {text[:60]!r} is not a bar number", where=where,
                            accepted="a bar number from 1, e.g. 'Ab major from bar 9'")
     return int(m.group(2)), parse_key(m.group(1), where=where)
 

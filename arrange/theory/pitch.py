@@ -39,7 +39,9 @@ def parse_pitch(token: str | int, *, where: str = "pitch") -> int:
     if not isinstance(token, str):
         raise PitchError(f"{token!r} is not a pitch", where=where, accepted=ACCEPTED)
     text = token.strip()
-    if re.fullmatch(r"[+-]?\d+", text):
+    if re.fullmatch(r"[+-]?[0-9]+", text):
+        if len(text) > 4:
+            raise PitchError(f"MIDI number {text[:20]!r} is outside 0..127", where=where, accepted=ACCEPTED)
         value = int(text)
         if 0 <= value <= 127:
             return value

@@ -23,6 +23,7 @@ note and a lead-section note sounding with it (``clash-minor-second``,
 from __future__ import annotations
 
 import re
+from bisect import bisect_right
 from dataclasses import dataclass
 from fractions import Fraction
 
@@ -208,16 +209,39 @@ def layer_times(harmonized: Harmonized, layer: Layer) -> list[tuple[Fraction, Fr
     return out
 
 
-def _sounding(voiced: Voiced, onset: Fraction, dur: Fraction) -> list[tuple[int, float, tuple[int, ...]]]:
-    """Lead-section events overlapping [onset, onset + dur): (event index, share, pitches)."""
+def _sounding(voiced: Voiced, onset: Fraction, dur: Fraction,
+              index: tuple[list[Fraction], list[Fraction]] | None = None) -> list[tuple[int, float, tuple[int, ...]]]:
+    """Lead-section events overlapping [onset, onset + dur): (event index, share, pitches).
+
+    Events run in onset order, so the first that can overlap is found by bisection on the
+    running latest end (``index``, from :func:`_sounding_index`) and the scan stops at the
+    first event starting at or after the span's end: each call costs the log of the line's
+    length plus the events it returns, not the whole line."""
+    onsets, reach = index if index is not None else _sounding_index(voiced)
     end = onset + dur
     out = []
-    for i, ve in enumerate(voiced.events):
-        n = ve.event.note
+    events = voiced.events
+    for i in range(bisect_right(reach, onset), len(events)):
+        if onsets[i] >= end:
+            break
+        n = events[i].event.note
         lo, hi = max(onset, n.onset), min(end, n.onset + n.duration)
         if hi > lo:
-            out.append((i, float((hi - lo) / dur), ve.pitches))
+            out.append((i, float((hi - lo) / dur), events[i].pitches))
     return out
+
+
+def _sounding_index(voiced: Voiced) -> tuple[list[Fraction], list[Fraction]]:
+    """Onsets and the running latest end of the lead events (both non-decreasing)."""
+    onsets, reach = [], []
+    latest = None
+    for ve in voiced.events:
+        n = ve.event.note
+        onsets.append(n.onset)
+        e = n.onset + n.duration
+        latest = e if latest is None or e > latest else latest
+        reach.append(latest)
+    return onsets, reach
 
 
 _KEEP = 500      # candidates per chord kept for the search (the cheapest by their own costs)
@@ -282,8 +306,9 @@ def _voice_layer(harmonized: Harmonized, voiced: Voiced, layer: Layer) -> Voiced
     if not times:
         return VoicedLayer(layer, (), ())
     cands, rests, costs, sounding = [], [], [], []
+    index = _sounding_index(voiced)
     for onset, dur, chord in times:
-        snd = _sounding(voiced, onset, dur)
+        snd = _sounding(voiced, onset, dur, index)
         lead = tuple(sorted({q for _i, _w, p in snd for q in p}))
         P, R, c = candidates(chord, layer.section, lead)
         c = c + cross_costs(P, [(w, p) for _i, w, p in snd], chord, R)

@@ -30,6 +30,7 @@ from functools import lru_cache
 import numpy as np
 
 from arrange.errors import VoicingError
+from arrange.inputs.checked import whole
 from arrange.theory.chords import Chord
 from arrange.theory.pitch import parse_pitch, pitch_name
 from arrange.voicing.sections import Section, read_rules
@@ -51,7 +52,7 @@ def low_interval_limits() -> np.ndarray:
     table = read_rules("limits.toml").get("low_interval", {})
     out = np.full(25, -1, dtype=np.int64)
     for key, value in table.items():
-        if not str(key).isdigit() or not 1 <= int(key) <= 24:
+        if whole(str(key)) is None or not 1 <= int(key) <= 24:
             raise VoicingError(f"interval {key!r}", where=where, accepted="semitones 1..24")
         out[int(key)] = parse_pitch(value, where=f"{where}, key {key!r}")
     return out

@@ -20,6 +20,7 @@ import numpy as np
 
 from arrange.errors import VoicingError
 from arrange.harmony.events import Event, Harmonized
+from arrange.inputs.checked import whole
 from arrange.tables import Table
 from arrange.theory.pitch import pitch_name
 from arrange.voicing import rules
@@ -79,16 +80,17 @@ def read_options(table: Table) -> VoicingOptions:
     voicing = table.string("voicing", "close", choices=PLANS)
     by_statement = []
     for k, v in _plan_table(table, "by_statement").items():
-        if not k.isdigit() or int(k) < 1:
-            raise table.error("by_statement", f"statement {k!r}", "statement numbers 1, 2, ...")
-        by_statement.append((int(k), v))
+        n = whole(k)
+        if n is None or n < 1:
+            raise table.error("by_statement", f"statement {k[:40]!r}", "statement numbers 1, 2, ...")
+        by_statement.append((n, v))
     by_bar = []
     for k, v in _plan_table(table, "by_bar").items():
-        lo, _, hi = k.partition("-")
-        if not lo.strip().isdigit() or not (hi.strip().isdigit() or not hi) or int(lo) < 1 \
-                or (hi and int(hi) < int(lo)):
-            raise table.error("by_bar", f"bar range {k!r}", "a bar \"9\" or a range \"9-12\"")
-        by_bar.append((int(lo), int(hi) if hi else int(lo), v))
+        lo_text, _, hi_text = k.partition("-")
+        lo, hi = whole(lo_text), (whole(hi_text) if hi_text else whole(lo_text))
+        if lo is None or hi is None or lo < 1 or hi < lo:
+            raise table.error("by_bar", f"bar range {k[:40]!r}", "a bar \"9\" or a range \"9-12\"")
+        by_bar.append((lo, hi, v))
     allow = table.boolean("allow_extreme", False)
     return VoicingOptions(voicing, tuple(sorted(by_statement)), tuple(sorted(by_bar)), allow)
 

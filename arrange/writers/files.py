@@ -1,21 +1,44 @@
-"""Atomic output: everything is rendered to bytes first, then written to
-temporary names in the output folder and renamed into place.  A failure
-leaves no temporary file and replaces no good file."""
+"""Atomic output: everything is rendered to bytes first, then written as one set.
+
+The switch keeps every name whole at every instant: each new file is written in
+full to a hidden temporary name in its own folder; each old file gets a second
+name (a hard link, so the old file never leaves its name); then each temporary is
+renamed over its final name (``rename`` replaces a name in one step, POSIX).  If
+anything fails, every name already switched gets its old file back the same way
+and every temporary name is removed: the folder ends as it was.  Killed outright
+(SIGKILL, power loss), each name still holds its complete old or new file; the
+hidden names left behind carry our prefix and the next build into the folder
+removes them.  Ctrl-C and SIGTERM wait for the switch (they are blocked while it
+runs) and then stop the program.
+
+Two builds into one folder take an advisory lock (``flock``) on the folder: the
+second waits for the first, up to :data:`LOCK_WAIT` seconds, then says so.
+"""
 from __future__ import annotations
 
+import contextlib
+import errno
 import os
-import tempfile
+import secrets
+import shutil
+import signal
+import time
+from collections.abc import Iterator
 from pathlib import Path
 
-from arrange.errors import OutputError
+from ..errors import OutputError
 
-__all__ = ["write_batch", "safe_name"]
+__all__ = ["write_batch", "write_sets", "safe_name", "folder_lock", "TEMP_PREFIX", "LOCK_WAIT"]
+
+TEMP_PREFIX = ".arrange~"      # our hidden temporary names: .arrange~TOKEN~NAME(.old)
+LOCK_WAIT = 60.0               # seconds a second build waits for the folder
+_SIGNALS = {signal.SIGINT, signal.SIGTERM}
 
 
 def safe_name(folder: Path, name: str) -> Path:
     """``folder / name``, refusing any name that would leave ``folder``."""
     if not name or "/" in name or "\\" in name or name.startswith(".") or name in ("..", "."):
-        raise OutputError(f"output name {name!r} is not a plain file name", where="output",
+        raise OutputError(f"output name {name[:60]!r} is not a plain file name", where="output",
                           accepted="a file name without folders")
     return folder / name
 
@@ -27,60 +50,178 @@ def _umask() -> int:
 
 
 def _unlink(path: Path) -> None:
-    try:
+    with contextlib.suppress(FileNotFoundError):
         path.unlink()
-    except FileNotFoundError:
-        pass
 
 
-def write_batch(folder: Path, files: dict[str, bytes]) -> list[Path]:
-    """Write ``{file name: bytes}`` into ``folder`` atomically; return the paths.
+def _os_error(err: OSError, folder: Path) -> OutputError:
+    name = f" ({Path(err.filename).name[:60]})" if err.filename else ""
+    return OutputError(f"cannot write into {str(folder)[:80]!r}: {err.strerror}{name}",
+                       where="-o", accepted="a folder you can write to, with room for the files")
 
-    All data goes to temporary names first.  Each existing file is then moved
-    aside to a temporary name before the new one is renamed into place, so if any
-    rename fails every file already replaced is put back: the folder ends as it
-    was, with no temporary file left."""
-    folder = Path(folder)
+
+def _mkdir(folder: Path) -> None:
     try:
         folder.mkdir(parents=True, exist_ok=True)
     except OSError as err:
-        raise OutputError(f"cannot create the output folder {str(folder)!r}: {err.strerror}",
+        raise OutputError(f"cannot create the output folder {str(folder)[:80]!r}: {err.strerror}",
                           where="-o", accepted="a folder you can write to") from None
-    temps: list[tuple[Path, Path]] = []
-    moved: list[tuple[Path, Path | None]] = []     # (final, its old file moved aside)
+    if not folder.is_dir():
+        raise OutputError(f"{str(folder)[:80]!r} is not a folder", where="-o",
+                          accepted="a folder you can write to")
+
+
+@contextlib.contextmanager
+def folder_lock(folder: Path, wait: float | None = None) -> Iterator[None]:
+    """An exclusive advisory lock on ``folder`` (``flock`` on the folder itself, so no
+    lock file is left behind); waits up to ``wait`` seconds for another build."""
+    import fcntl
+
+    limit = LOCK_WAIT if wait is None else wait
+    fd = os.open(folder, os.O_RDONLY | getattr(os, "O_DIRECTORY", 0))
     try:
-        for name, data in files.items():
-            final = safe_name(folder, name)
-            fd, tmp_name = tempfile.mkstemp(prefix=f".{name}.", suffix=".tmp", dir=folder)
-            temps.append((Path(tmp_name), final))
-            with os.fdopen(fd, "wb") as fh:
-                fh.write(data)
-            os.chmod(tmp_name, 0o666 & ~_umask())
-        for tmp, final in temps:
-            if final.is_dir():
-                raise IsADirectoryError(21, "a folder has the output's name", str(final))
-            old = None
-            if final.exists():
-                fd, aside = tempfile.mkstemp(prefix=f".{final.name}.", suffix=".old.tmp", dir=folder)
-                os.close(fd)
-                old = Path(aside)
-                os.replace(final, old)
-            moved.append((final, old))
-            os.replace(tmp, final)
-    except BaseException as err:
-        for final, old in reversed(moved):
+        deadline = time.monotonic() + limit
+        while True:
+            try:
+                fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+                break
+            except OSError as err:
+                if err.errno not in (errno.EWOULDBLOCK, errno.EAGAIN, errno.EACCES):
+                    raise
+                if time.monotonic() >= deadline:
+                    raise OutputError(f"another build is writing into {str(folder)[:80]!r} "
+                                      f"(waited {limit:g} s)", where="-o",
+                                      accepted="one build per output folder at a time: run it again "
+                                      "when the other has finished, or use another folder") from None
+                time.sleep(0.1)
+        yield
+    finally:
+        os.close(fd)                  # closing the descriptor releases the lock
+
+
+def _clean_stale(folder: Path) -> None:
+    """Remove hidden temporary names an earlier, killed build of ours left behind
+    (called under the folder lock, so no live build owns them)."""
+    try:
+        entries = list(os.scandir(folder))
+    except OSError:
+        return
+    for entry in entries:
+        if entry.name.startswith(TEMP_PREFIX) and entry.is_file(follow_symlinks=False):
+            with contextlib.suppress(OSError):
+                os.unlink(entry.path)
+
+
+@contextlib.contextmanager
+def _signals_held() -> Iterator[None]:
+    """Ctrl-C and SIGTERM wait until the switch is over (then they act as usual)."""
+    try:
+        old = signal.pthread_sigmask(signal.SIG_BLOCK, _SIGNALS)
+    except (AttributeError, ValueError, OSError):    # not the main thread, or no such call
+        yield
+        return
+    try:
+        yield
+    finally:
+        signal.pthread_sigmask(signal.SIG_SETMASK, old)
+
+
+def _write_temp(folder: Path, token: str, name: str, data: bytes) -> Path:
+    tmp = folder / f"{TEMP_PREFIX}{token}~{name}"
+    fd = os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o666 & ~_umask())
+    with os.fdopen(fd, "wb") as fh:
+        fh.write(data)
+        fh.flush()
+        os.fsync(fh.fileno())
+    return tmp
+
+
+def _keep_old(final: Path, token: str) -> Path | None:
+    """A second name for the old file (it never leaves its own name)."""
+    if not final.exists() and not final.is_symlink():
+        return None
+    if final.is_dir():
+        raise IsADirectoryError(errno.EISDIR, "a folder has the output's name", str(final))
+    old = final.with_name(f"{TEMP_PREFIX}{token}~{final.name}.old")
+    try:
+        os.link(final, old, follow_symlinks=False)
+    except OSError as err:
+        if err.errno not in (errno.EPERM, errno.EOPNOTSUPP, errno.EXDEV, errno.EMLINK):
+            raise
+        shutil.copy2(final, old, follow_symlinks=False)   # a file system without hard links
+    return old
+
+
+def _sync_dir(folder: Path) -> None:
+    with contextlib.suppress(OSError):
+        fd = os.open(folder, os.O_RDONLY | getattr(os, "O_DIRECTORY", 0))
+        try:
+            os.fsync(fd)
+        finally:
+            os.close(fd)
+
+
+def write_sets(root: Path, sets: list[tuple[Path, dict[str, bytes]]]) -> list[Path]:
+    """Write several folders' files (all under ``root``) as one set: every name ends
+    with its new file, or (on any failure) every name keeps its old file."""
+    root = Path(root)
+    _mkdir(root)
+    with folder_lock(root):
+        plan: list[tuple[Path, bytes]] = []
+        folders: list[Path] = []
+        for folder, files in sets:
+            folder = Path(folder)
+            for name, data in files.items():
+                plan.append((safe_name(folder, name), data))
+            if folder not in folders:
+                folders.append(folder)
+        token = secrets.token_hex(4)
+        temps: list[tuple[Path, Path]] = []          # (temporary, final)
+        olds: list[tuple[Path, Path | None]] = []    # (final, second name of its old file)
+        switched: list[Path] = []
+        try:
+            for folder in folders:
+                _mkdir(folder)
+                _clean_stale(folder)
+            for final, data in plan:
+                temps.append((_write_temp(final.parent, token, final.name, data), final))
+            with _signals_held():
+                try:
+                    for _tmp, final in temps:
+                        olds.append((final, _keep_old(final, token)))
+                    for tmp, final in temps:
+                        os.replace(tmp, final)
+                        switched.append(final)
+                except BaseException:
+                    _roll_back(switched, dict(olds))
+                    raise
+                finally:
+                    for tmp, _final in temps:
+                        _unlink(tmp)
+                    for _final, old in olds:
+                        if old is not None:
+                            _unlink(old)
+        except OSError as err:
+            raise _os_error(err, root) from None
+        finally:
+            for tmp, _final in temps:
+                _unlink(tmp)
+        for folder in folders:
+            _sync_dir(folder)
+    return [final for _tmp, final in temps]
+
+
+def _roll_back(switched: list[Path], olds: dict[Path, Path | None]) -> None:
+    """Every switched name gets its old file back (or, if it had none, goes away)."""
+    for final in reversed(switched):
+        old = olds.get(final)
+        with contextlib.suppress(OSError):
             if old is not None:
                 os.replace(old, final)
-            elif final.exists() and not final.is_dir():
+            else:
                 _unlink(final)
-        for tmp, _ in temps:
-            _unlink(tmp)
-        if isinstance(err, OSError):
-            raise OutputError(f"cannot write into {str(folder)!r}: {err.strerror}"
-                              + (f" ({Path(err.filename).name})" if err.filename else ""),
-                              where="-o", accepted="a folder you can write to") from None
-        raise
-    for _, old in moved:
-        if old is not None:
-            _unlink(old)
-    return [final for _, final in temps]
+
+
+def write_batch(folder: Path, files: dict[str, bytes]) -> list[Path]:
+    """Write ``{file name: bytes}`` into ``folder`` as one set; return the paths."""
+    return write_sets(Path(folder), [(Path(folder), files)])

@@ -1,23 +1,22 @@
-"""Marks a score carries besides the notes: dynamics, analysis labels, part groups.
+"""Marks a score carries besides the notes: dynamics, rehearsal letters, analysis labels,
+tempo, style word, chord symbols, credits and part groups, as MusicXML 4.0 elements.
 
-Kept apart from :mod:`.musicxml` so the note-writing loop stays small.  All
-placements go through :func:`arrange.notation.pieces`, so they follow the
-same bar arithmetic as the notes (pickups included).
+Kept apart from :mod:`.xml_score` so the note-writing stays small.  Every placement goes
+through :meth:`.xml_score.Staff.cut` (:func:`arrange.rhythm.notation.pieces`), so marks
+follow the same bar arithmetic as the notes (pickups included).
 """
 from __future__ import annotations
 
+import xml.etree.ElementTree as ET
 from fractions import Fraction
 from typing import Any
 
-from arrange.rhythm.notation import pieces
 from arrange.theory.dynamics import DYNAMICS
 from arrange.voicing.sections import Section
 from arrange.voicing.voicer import Voiced
 
-__all__ = ["DYNAMICS", "dynamic_of", "entrances", "page_credits", "style_word", "add_rehearsal", "rehearsal_letter", "add_dynamics", "add_analysis",
-           "add_part_groups", "family", "concert_symbols"]
-
-
+__all__ = ["DYNAMICS", "dynamic_of", "entrances", "rehearsal_letter", "rehearsal_plan", "REHEARSAL_GAP", "statement_label",
+           "family", "part_groups", "words", "dynamic", "rehearsal", "metronome", "credits"]
 
 def dynamic_of(statement: int, dynamics: tuple[str, ...]) -> str:
     """The dynamic of a 1-based statement: one per statement, the last one holds."""
@@ -25,103 +24,52 @@ def dynamic_of(statement: int, dynamics: tuple[str, ...]) -> str:
 
 
 def entrances(voiced: Voiced, dynamics: tuple[str, ...]) -> list[tuple[int, str]]:
-    """(event index, dynamic) wherever a dynamic is printed: the first note, every
-    note after a rest (an entrance), and every note where the dynamic changes."""
+    """(event index, dynamic) wherever a dynamic is printed: the first note, the first
+    note after a rest of a bar or more (an entrance a player counts in), and every note
+    where the level changes (common practice: a dynamic holds until a new one; a short
+    rest inside a phrase does not restate it)."""
+    bar = voiced.harmonized.line.meter.bar
     out: list[tuple[int, str]] = []
     prev_end: Fraction | None = None
     current = None
     for i, ve in enumerate(voiced.events):
         n = ve.event.note
         dyn = dynamic_of(n.statement, dynamics)
-        after_rest = prev_end is None or n.onset > prev_end
-        if after_rest or dyn != current:
+        entrance = prev_end is None or n.onset - prev_end >= bar
+        if entrance or dyn != current:
             out.append((i, dyn))
             current = dyn
         prev_end = n.onset + n.duration
     return out
 
 
-def _at(voiced: Voiced, index: int) -> tuple[int, float | Fraction]:
-    """(measure index, offset) where note ``index`` starts, as the note writer cuts it."""
+REHEARSAL_GAP = 4      # bars at least between two rehearsal letters (common practice)
+
+
+def rehearsal_plan(voiced: Voiced) -> dict[int, str]:
+    """Bar (1-based) -> letter.  A letter stands on the bar line of a bar where a
+    statement (a phrase of the chain) starts, never on the pickup nor on bar 1 under
+    the tempo mark, and at least ``REHEARSAL_GAP`` bars after the start or the last
+    letter (common practice: letters mark the places a rehearsal restarts from, not
+    every phrase).  A form's passages are its sections: each takes a letter.  Statement
+    numbers belong to ``--analysis``."""
     line = voiced.harmonized.line
-    n = voiced.events[index].event.note
-    first = pieces(n.onset, n.duration, line.meter, pickup=line.pickup)[0]
-    off = first.offset
-    return first.measure, (off if off.denominator % 3 == 0 else float(off))
-
-
-def _text_style(obj: Any) -> Any:
-    """music21's text style (a TextStyle at run time; typed loosely by music21)."""
-    return obj.style
-
-
-def page_credits(score: Any, title: str, concert: bool, part_name: str | None = None) -> None:
-    """The title and 'Transposed score' (or 'Concert score'; in a part, the part's name)
-    on the first page, as MusicXML credits (positions in tenths on an A4 page at
-    music21's default scaling)."""
-    from music21 import text
-
-    heading = text.TextBox(title, 600, 1650)
-    _text_style(heading).justify = "center"
-    _text_style(heading).fontSize = 20
-    heading.page = 1
-    kind = text.TextBox(part_name or ("Concert score" if concert else "Transposed score"), 60, 1600)
-    _text_style(kind).justify = "left"
-    _text_style(kind).fontStyle = "italic"
-    kind.page = 1
-    score.insert(0, heading)
-    score.insert(0, kind)
-
-
-def style_word(style: str) -> Any:
-    """The style word printed before the metronome mark, bold, above the staff."""
-    from music21 import expressions
-
-    te = expressions.TextExpression(style)
-    te.placement = "above"
-    _text_style(te).fontWeight = "bold"
-    return te
-
-
-def add_rehearsal(measures: list[Any], voiced: Voiced) -> dict[int, str]:
-    """A rehearsal letter on the bar line of each bar where a statement starts (common
-    practice puts letters on bar lines; a statement that starts mid-bar is named by the
-    letter of its bar, and its exact note by the analysis label).  Returns bar -> letter."""
-    from music21 import expressions
-
-    line = voiced.harmonized.line
+    if line.passages:      # a form: a letter at each passage, on its first bar line (a section)
+        return {p.first_bar: rehearsal_letter(k) for k, p in enumerate(line.passages, start=1)}
+    starts = sorted({line.bar_of(voiced.events[st.start].event.note.onset)
+                     for st in line.segments if st.start < len(voiced.events)})
     letters: dict[int, str] = {}
-    if line.passages:            # a form: one letter per passage, on its first bar line
-        shift = 1 if line.pickup else 0
-        for p in line.passages:
-            m_i = p.first_bar - 1 + shift
-            if 0 <= m_i < len(measures) and m_i not in letters:
-                letters[m_i] = rehearsal_letter(len(letters) + 1)
-                measures[m_i].insert(0, expressions.RehearsalMark(letters[m_i]))
-        return letters
-    starts = {st.start for st in line.segments}
-    for i in sorted(starts):
-        if i >= len(voiced.events):
-            continue
-        m_i, _ = _at(voiced, i)
-        if m_i in letters:
-            continue
-        letters[m_i] = rehearsal_letter(len(letters) + 1)
-        measures[m_i].insert(0, expressions.RehearsalMark(letters[m_i]))
+    last = 1
+    for bar in starts:
+        if bar > 1 and bar - last >= REHEARSAL_GAP:
+            letters[bar] = rehearsal_letter(len(letters) + 1)
+            last = bar
     return letters
 
 
 def rehearsal_letter(k: int) -> str:
     """A, B, ... Z, AA, BB ... (1-based; common practice skips nothing here)."""
     return chr(64 + (k - 1) % 26 + 1) * ((k - 1) // 26 + 1)
-
-
-def add_dynamics(measures: list[Any], voiced: Voiced, dynamics: tuple[str, ...]) -> None:
-    from music21 import dynamics as m21dyn
-
-    for i, dyn in entrances(voiced, dynamics):
-        m_i, off = _at(voiced, i)
-        measures[m_i].insert(off, m21dyn.Dynamic(dyn))
 
 
 def statement_label(st: Any) -> str:
@@ -132,43 +80,63 @@ def statement_label(st: Any) -> str:
     return f"{st.index}. {st.form} {st.transposition:+d}"
 
 
-def add_analysis(measures: list[Any], voiced: Voiced) -> None:
-    """Statement labels above the lead; the approach technique under each approach chord
-    (once per chord, not again under a held one)."""
-    from music21 import expressions
-
-    starts = {st.start: st for st in voiced.harmonized.line.segments}
-    for i, ve in enumerate(voiced.events):
-        m_i, off = _at(voiced, i)
-        if i in starts:
-            te = expressions.TextExpression(statement_label(starts[i]))
-            te.placement = "above"
-            _text_style(te).fontStyle = "italic"
-            measures[m_i].insert(off, te)
-        prev = voiced.events[i - 1].event if i else None
-        if ve.event.role == "approach" and ve.event.technique and \
-                not (prev is not None and prev.role == "approach" and prev.chord == ve.event.chord):
-            te = expressions.TextExpression(ve.event.technique)
-            te.placement = "below"
-            _text_style(te).fontStyle = "italic"
-            _text_style(te).fontSize = 8
-            measures[m_i].insert(off, te)
+def _direction(placement: str | None = None) -> tuple[ET.Element, ET.Element]:
+    d = ET.Element("direction")
+    if placement:
+        d.set("placement", placement)
+    return d, ET.SubElement(d, "direction-type")
 
 
-def concert_symbols(measures: list[Any]) -> None:
-    """Chord symbols above a transposing lead stay at concert pitch in the score
-    (common practice: the score's symbols name what sounds).  music21 writes the part
-    in written pitch by transposing everything on the staff, symbols included, so
-    they are moved the other way first; an exact interval round trip keeps the spelling."""
-    from music21 import harmony, instrument
+def words(text: str, placement: str = "above", **style: str) -> ET.Element:
+    """Words above or below the staff (style word, analysis label)."""
+    d, dt = _direction(placement)
+    w = ET.SubElement(dt, "words", style)
+    w.text = text
+    return d
 
-    insts = list(measures[0].getElementsByClass(instrument.Instrument)) if measures else []
-    ivl = insts[0].transposition if insts else None
-    if ivl is None or ivl.semitones == 0:
-        return
-    for m in measures:
-        for cs in m.getElementsByClass(harmony.ChordSymbol):
-            cs.transpose(ivl, inPlace=True)
+
+def dynamic(mark: str) -> ET.Element:
+    d, dt = _direction("below")
+    ET.SubElement(ET.SubElement(dt, "dynamics"), mark)
+    return d
+
+
+def rehearsal(letter: str) -> ET.Element:
+    d, dt = _direction("above")
+    ET.SubElement(dt, "rehearsal").text = letter
+    return d
+
+
+def metronome(tempo: float, dotted: bool, swing: tuple[int, int] | None) -> ET.Element:
+    """The metronome mark (a dotted quarter for a shuffle written in 12/8) and its
+    playback: ``<sound tempo>`` in quarter notes a minute, and MusicXML 4.0 ``<swing>``."""
+    d, dt = _direction("above")
+    mm = ET.SubElement(dt, "metronome", parentheses="no")
+    ET.SubElement(mm, "beat-unit").text = "quarter"
+    if dotted:
+        ET.SubElement(mm, "beat-unit-dot")
+    ET.SubElement(mm, "per-minute").text = f"{tempo:g}"
+    snd = ET.SubElement(d, "sound", tempo=f"{tempo * (1.5 if dotted else 1):g}")
+    if swing is not None:
+        sw = ET.SubElement(snd, "swing")
+        ET.SubElement(sw, "first").text = str(swing[0])
+        ET.SubElement(sw, "second").text = str(swing[1])
+        ET.SubElement(sw, "swing-type").text = "eighth"
+    return d
+
+
+def credits(title: str, kind: str) -> list[ET.Element]:
+    """The title and the kind of score (or, in a part, the part's name) on the first
+    page, as MusicXML credits (positions in tenths on an A4 page)."""
+    out = []
+    for text, x, y, extra in ((title, "600", "1650", {"font-size": "20", "justify": "center"}),
+                              (kind, "60", "1600", {"font-style": "italic", "justify": "left"})):
+        c = ET.Element("credit", page="1")
+        cw = ET.SubElement(c, "credit-words", {"default-x": x, "default-y": y, **extra,
+                                                "halign": extra["justify"], "valign": "top"})
+        cw.text = text
+        out.append(c)
+    return out
 
 
 def family(sound: str) -> str:
@@ -183,20 +151,21 @@ def family(sound: str) -> str:
     return ".".join(bits[:2])
 
 
-def add_part_groups(score: Any, section: Section) -> None:
-    """A bracket with bar lines drawn through, per run of two or more like parts."""
-    from music21 import layout
-
-    parts = list(score.parts)
-    runs: list[list[int]] = []
-    for k, part in enumerate(section.parts):
-        fam = family(part.instrument.sound)
-        if runs and family(section.parts[runs[-1][-1]].instrument.sound) == fam:
-            runs[-1].append(k)
-        else:
-            runs.append([k])
-    for run in runs:
-        if len(run) < 2:
+def part_groups(sections: list[tuple[Section, int]], bracket_all: bool) -> list[tuple[int, int]]:
+    """(first, last) score-part indices of each bracket: within a section, a run of two
+    or more like parts; with ``bracket_all`` every section whole (layers below the lead)."""
+    out = []
+    for section, first in sections:
+        parts = section.parts
+        if bracket_all:
+            out.append((first, first + len(parts) - 1))
             continue
-        sg = layout.StaffGroup([parts[k] for k in run], symbol="bracket", barTogether=True)
-        score.insert(0, sg)
+        runs: list[list[int]] = []
+        for k, part in enumerate(parts):
+            fam = family(part.instrument.sound)
+            if runs and family(parts[runs[-1][-1]].instrument.sound) == fam:
+                runs[-1].append(k)
+            else:
+                runs.append([k])
+        out.extend((first + r[0], first + r[-1]) for r in runs if len(r) >= 2)
+    return out

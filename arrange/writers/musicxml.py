@@ -1,36 +1,144 @@
-"""The MusicXML score and part files: the writer's face.
+"""The MusicXML 4.0 score and part files, built from our own values.
 
-:func:`musicxml_bytes` builds the whole score (the lead section's parts from
-:mod:`.xml_score`, the layers' parts from :mod:`.xml_layers`) and exports it;
-:func:`part_bytes` one file per part in written pitch.
+score-partwise -> part -> measure -> note, with the standard library's ElementTree
+(:mod:`xml.etree.ElementTree`): it ships with Python (no dependency to install), its
+element tree is built in C, and for the few thousand elements of a score its writer is
+fast enough that the build stays near its floor (``bench/``).  music21 is not imported:
+it stays the reader of motif files and a reference reader in the tests.
+
+:func:`musicxml_bytes` writes the whole score (the lead section's parts, then the
+layers' parts from :mod:`.xml_layers`); :func:`part_bytes` one file per lead part in
+written pitch.  Staves come from :mod:`.xml_score`, marks from :mod:`.marks`.
 """
 from __future__ import annotations
 
-from arrange.voicing.voicer import Voiced
-from arrange.writers.xml_layers import add_layer_parts, layer_sounds
-from arrange.writers.xml_score import ScoreInfo, _add_swing, build_score, finish_xml, swing_ratio
+import xml.etree.ElementTree as ET
+from fractions import Fraction
 
-__all__ = ["ScoreInfo", "musicxml_bytes", "part_bytes"]
+from arrange.theory.spelling import direction_of, spell_pitch
+from arrange.voicing.voicer import Voiced
+from arrange.writers import marks
+from arrange.writers.symbols import harmony_parts
+from arrange.writers.xml_document import StaffPart, document, heading, passage_bars, swing_ratio, written_keys  # noqa: F401
+from arrange.writers.xml_layers import layer_staves
+from arrange.writers.xml_score import (
+    Interval,
+    ScoreInfo,
+    Staff,
+    concert_clef,
+    interval_of,
+    part_abbreviation,
+    split_name,
+    sub,
+    transpose_name,
+)
+
+__all__ = ["ScoreInfo", "musicxml_bytes", "part_bytes", "swing_ratio", "lead_staff", "harmony"]
+
+def harmony(chord, ivl: Interval) -> ET.Element:  # noqa: ANN001
+    """``<harmony>``: root, kind (its text our canonical symbol), bass, and the degrees
+    that make the kind our chord, not printed twice (``print-object="no"``)."""
+    h = ET.Element("harmony")
+    root = sub(h, "root")
+    step, alter, _ = split_name(transpose_name(chord.root_name, ivl))
+    sub(root, "root-step", step)
+    if alter:
+        sub(root, "root-alter", alter)
+    kind, degrees = harmony_parts(chord)
+    sub(h, "kind", kind, text=chord.quality)
+    if chord.bass_name:
+        bass = sub(h, "bass")
+        b_step, b_alter, _ = split_name(transpose_name(chord.bass_name, ivl))
+        sub(bass, "bass-step", b_step)
+        if b_alter:
+            sub(bass, "bass-alter", b_alter)
+    for value, alter_, kind_ in degrees:
+        d = sub(h, "degree", **{"print-object": "no"})
+        sub(d, "degree-value", value)
+        sub(d, "degree-alter", alter_)
+        sub(d, "degree-type", kind_)
+    return h
+
+
+def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, symbols_ivl: Interval | None = None) -> Staff:
+    """Part ``k`` of the lead section; ``lead``: this staff carries tempo, letters and
+    symbols (symbols over a transposed lead stay concert in the score: ``symbols_ivl``)."""
+    h = voiced.harmonized
+    line = h.line
+    part = voiced.section.parts[k]
+    ivl = interval_of(part.instrument, info.concert)
+    clef = part.instrument.clef
+    if info.concert and part.instrument.transposition:
+        clef = concert_clef(clef, [ve.pitches[k] for ve in voiced.events])
+    staff = Staff(line, written_keys(h, ivl), clef, ivl, passage_bars(line))
+    bar_len = line.meter.bar
+    pitches = [ve.pitches[k] for ve in voiced.events]
+    firsts = []
+    prev_chord = None
+    for i, ve in enumerate(voiced.events):
+        n = ve.event.note
+        way = direction_of(pitches[i - 1] if i else None, pitches[i],
+                           pitches[i + 1] if i + 1 < len(pitches) else None)
+        name = spell_pitch(pitches[i], h.key_at(int(n.onset // bar_len) + 1), ve.event.chord, way)
+        first = staff.add_note(name, n.onset, n.duration, n.articulation)
+        firsts.append(first)
+        # a pickup on the chord of bar 1 takes no symbol of its own: the symbol stands over
+        # bar 1, as lead sheets write it (common practice)
+        pickup_on_first = n.onset < 0 and ve.event.role == "framework" and \
+            bool(h.framework) and ve.event.chord == h.framework[0].chord
+        if lead and ve.event.chord.symbol != prev_chord and not pickup_on_first:
+            staff.add_mark(first.measure, first.offset, 5,
+                           harmony(ve.event.chord, ivl if symbols_ivl is None else symbols_ivl))
+            prev_chord = ve.event.chord.symbol
+    for i, dyn in marks.entrances(voiced, info.dynamics):
+        staff.add_mark(firsts[i].measure, firsts[i].offset, 4, marks.dynamic(dyn))
+    if lead:
+        heading(staff, info, line)
+        shift = 1 if line.pickup else 0
+        for bar, letter in marks.rehearsal_plan(voiced).items():
+            staff.add_mark(bar - 1 + shift, Fraction(0), 0, marks.rehearsal(letter))
+    if lead and info.analysis and info.only_part is None:     # analysis: the score only, never a part
+        _analysis(staff, voiced, firsts)
+    return staff
+
+
+def _analysis(staff: Staff, voiced: Voiced, firsts: list) -> None:
+    """Statement labels above the lead; the approach technique under each approach chord
+    (once per chord, not again under a held one)."""
+    starts = {st.start: st for st in voiced.harmonized.line.segments}
+    for i, ve in enumerate(voiced.events):
+        at = firsts[i]
+        if i in starts:
+            staff.add_mark(at.measure, at.offset, 3, marks.words(marks.statement_label(starts[i]), "above",
+                                                                 **{"font-style": "italic"}))
+        prev = voiced.events[i - 1].event if i else None
+        if ve.event.role == "approach" and ve.event.technique and \
+                not (prev is not None and prev.role == "approach" and prev.chord == ve.event.chord):
+            staff.add_mark(at.measure, at.offset, 3, marks.words(ve.event.technique, "below",
+                                                                 **{"font-style": "italic", "font-size": "8"}))
 
 
 def musicxml_bytes(voiced: Voiced, info: ScoreInfo, layers: tuple = ()) -> bytes:
-    from music21.musicxml.m21ToXml import GeneralObjectExporter
-
-    score = build_score(voiced, info)
+    """The full score (``info.only_part`` None) or the file of lead part ``only_part``."""
+    parts = voiced.section.parts
+    if info.only_part is not None:
+        k = info.only_part
+        staff = lead_staff(voiced, k, info, lead=True)
+        return document(info.title, info.version, parts[k].name,
+                        [StaffPart(staff, parts[k], part_abbreviation(parts[k]), k)], [])
+    lead_ivl = interval_of(parts[0].instrument, info.concert)
+    staves = [StaffPart(lead_staff(voiced, k, info, lead=k == 0,
+                                   symbols_ivl=Interval() if lead_ivl.semitones else None),
+                        p, part_abbreviation(p), k) for k, p in enumerate(parts)]
+    groups = marks.part_groups([(voiced.section, 0)], bracket_all=False)
     if layers:
-        add_layer_parts(score, voiced, layers, info)
-    exporter = GeneralObjectExporter(score)
-    exporter.makeNotation = False
-    data: bytes = exporter.parse()
-    ratio = swing_ratio(voiced.harmonized.line)
-    if ratio is not None:
-        data = _add_swing(data, ratio)
-    # the kind's text already prints the whole symbol (Cm9, not Cm7 add 9)
-    data = data.replace(b"<degree>", b'<degree print-object="no">')
-    data = finish_xml(data, voiced, info)
-    if layers:
-        data = layer_sounds(data, voiced, layers)
-    return data
+        if not groups:
+            groups = [(0, len(parts) - 1)]
+        more, layer_groups = layer_staves(voiced, layers, info, len(parts))
+        staves += more
+        groups += layer_groups
+    return document(info.title, info.version, "Concert score" if info.concert else "Transposed score",
+                    staves, groups)
 
 
 def part_bytes(voiced: Voiced, info: ScoreInfo) -> dict[int, bytes]:

@@ -2,9 +2,11 @@
 
 verovio (a general-purpose engraving library) lays the MusicXML out on pages;
 every page goes into one tall SVG, stacked top to bottom, so the whole
-passage is in one file.  ``png_bytes`` rasterises that SVG through cairosvg
-when it is installed.  Both imports are lazy: without verovio the preview is
-refused with a message that says how to get it.
+passage is in one file.  ``png_bytes`` rasterises that SVG through resvg (the
+``resvg-py`` wheel: a compiled renderer with no system library to install, unlike
+cairosvg, which needs the system's Cairo and silently lost the PNG on a machine without
+it).  Both imports are lazy: without verovio the preview is refused with a message that
+says how to get it.
 """
 from __future__ import annotations
 
@@ -12,12 +14,16 @@ import re
 
 from arrange.errors import OutputError
 
-__all__ = ["svg_bytes", "png_bytes", "have_png", "PAGE_WIDTH"]
+__all__ = ["svg_bytes", "png_bytes", "have_png", "PAGE_WIDTH", "MAX_PAGES", "toolkit_for", "per_staff_keys",
+           "staff_keys"]
 
 PAGE_WIDTH = 2100      # verovio units (tenths of a mm): an A4 page width
 PAGE_HEIGHT = 2970
 _SCALE = 40            # percent: a legible picture of a whole A4 page
 _PIXELS = 1.5          # picture pixels per SVG unit: about 1260 pixels across
+# the picture holds at most this many pages (6 A4 pages at 1.5 pixels a unit stay under
+# cairo's 32,767-pixel image limit; a longer score is drawn from its first pages)
+MAX_PAGES = 6
 
 
 def _toolkit():  # noqa: ANN202
@@ -34,24 +40,83 @@ def _toolkit():  # noqa: ANN202
     return tk
 
 
-def pages(musicxml: bytes) -> list[str]:
-    """Each page of the score as an SVG document (verovio's layout)."""
+def toolkit_for(musicxml: bytes):  # noqa: ANN201
+    """A verovio toolkit holding the score as the preview draws it: every staff keeps its
+    own key signature at every key change (:func:`per_staff_keys`)."""
     tk = _toolkit()
     if not tk.loadData(_for_engraver(musicxml)):
         raise OutputError("verovio could not read the score it was given", where="preview",
                           accepted="a MusicXML score")
-    return [_plain_text_glyphs(tk.renderToSVG(i)) for i in range(1, tk.getPageCount() + 1)]
+    keys = staff_keys(musicxml)
+    if any(len(k) > 1 for k in keys.values()):
+        tk.loadData(per_staff_keys(tk.getMEI(), keys))
+    return tk
+
+
+def pages(musicxml: bytes, limit: int | None = None) -> tuple[list[str], int]:
+    """The first ``limit`` pages (all by default) of the score as SVG documents
+    (verovio's layout), and how many pages the score has."""
+    tk = toolkit_for(musicxml)
+    total = tk.getPageCount()
+    drawn = total if limit is None else min(total, limit)
+    return [_fonts(_plain_text_glyphs(tk.renderToSVG(i))) for i in range(1, drawn + 1)], total
+
+
+# verovio names "Times, serif" for its text; a renderer takes the first family it has, so
+# the usual serif faces of Windows, macOS and Linux stand before the generic name
+_SERIF = "Times, 'Times New Roman', 'Liberation Serif', 'DejaVu Serif', 'Noto Serif', serif"
+
+
+def _fonts(svg: str) -> str:
+    return svg.replace('font-family="Times, serif"', f'font-family="{_SERIF}"')
 
 
 # SMuFL metronome notes (SMuFL 1.4, "Metronome marks" range) and the plain Unicode
 # music symbols that ordinary fonts carry: verovio writes them in its own music font,
-# which an SVG viewer or cairosvg does not have, so the tempo would show a blank box.
+# which an SVG viewer or a PNG renderer does not have, so the tempo would show a blank box.
 # The same for the accidentals verovio writes inside chord symbols (its text-flat
 # U+EA64, text-natural U+EA65, text-sharp U+EA66; and the standard SMuFL U+E260-E262).
 _METRONOME_NOTES = {"\ueca5": "\u2669", "\ueca7": "\u266a", "\ueca6": "\u2669",
                     "\uea64": "\u266d", "\uea65": "\u266e", "\uea66": "\u266f",
-                    "\ue260": "\u266d", "\ue261": "\u266e", "\ue262": "\u266f"}
+                    "\ue260": "\u266d", "\ue261": "\u266e", "\ue262": "\u266f",
+                    "\uecb7": ".", " ": ""}     # the metronome's augmentation dot (a dotted beat)
 _SMUFL_TEXT = re.compile(r'<tspan font-family="Leipzig" font-size="(\d+)px">([^<]*)</tspan>')
+
+
+def staff_keys(musicxml: bytes) -> dict[int, dict[str, int]]:
+    """Staff number (1-based, in part order) -> {measure number: fifths} of every key
+    signature our MusicXML writes."""
+    import xml.etree.ElementTree as ET
+
+    text = musicxml.decode("utf-8")
+    root = ET.fromstring(text[text.index("<score-partwise"):])
+    out: dict[int, dict[str, int]] = {}
+    for n, part in enumerate(root.iter("part"), start=1):
+        out[n] = {m.get("number", ""): int(m.findtext("attributes/key/fifths") or 0)
+                  for m in part.iter("measure") if m.find("attributes/key") is not None}
+    return out
+
+
+_KEY_CHANGE = re.compile(r'<scoreDef [^>]*>\s*<keySig [^>]*?mode="([^"]*)"[^>]*/>\s*</scoreDef>(\s*<measure [^>]*\bn="([^"]+)")')
+
+
+def per_staff_keys(mei: str, keys: dict[int, dict[str, int]]) -> str:
+    """verovio's MusicXML importer turns a key change into one signature for every staff
+    (the first part's; an open upstream limitation), so transposing staves would be drawn
+    in the wrong key.  Its own MEI is handed back with each such change written per staff:
+    a ``<scoreDef>`` whose ``<staffDef n=..>`` each carry the staff's ``<keySig>`` from
+    our MusicXML (MEI's way to change a definition for some staves only)."""
+    def fix(m: re.Match[str]) -> str:
+        mode, number = m.group(1), m.group(3)
+        defs = []
+        for n, by_measure in sorted(keys.items()):
+            if number in by_measure:
+                f = by_measure[number]
+                sig = f"{f}s" if f > 0 else f"{-f}f" if f < 0 else "0"
+                defs.append(f'<staffDef n="{n}"><keySig mode="{mode}" sig="{sig}"/></staffDef>')
+        return "<scoreDef><staffGrp>" + "".join(defs) + "</staffGrp></scoreDef>" + m.group(2)
+
+    return _KEY_CHANGE.sub(fix, mei)
 
 
 _DEGREE = re.compile(r"<degree print-object=\"no\">.*?</degree>\s*", re.S)
@@ -80,9 +145,13 @@ def _plain_text_glyphs(svg: str) -> str:
 _VIEWBOX = re.compile(r'viewBox="0 0 ([\d.]+) ([\d.]+)"')
 
 
-def svg_bytes(musicxml: bytes) -> bytes:
-    """All pages in one SVG, stacked, on a white ground."""
-    docs = pages(musicxml)
+def svg_bytes(musicxml: bytes, notes: list[str] | None = None) -> bytes:
+    """The pages (at most :data:`MAX_PAGES`) in one SVG, stacked, on a white ground;
+    a one-line notice goes to ``notes`` when the score has more."""
+    docs, total = pages(musicxml, MAX_PAGES)
+    if total > len(docs) and notes is not None:
+        notes.append(f"preview: the first {len(docs)} of {total} pages are drawn (the picture holds "
+                     f"at most {MAX_PAGES}); the MusicXML score holds them all")
     sizes = []
     for d in docs:
         m = _VIEWBOX.search(d)
@@ -107,14 +176,14 @@ def svg_bytes(musicxml: bytes) -> bytes:
 
 def have_png() -> bool:
     try:
-        import cairosvg  # noqa: F401
-    except (ImportError, OSError):
+        import resvg_py  # noqa: F401
+    except ImportError:
         return False
     return True
 
 
 def png_bytes(svg: bytes) -> bytes:
-    import cairosvg
+    import resvg_py
 
-    data: bytes = cairosvg.svg2png(bytestring=svg, background_color="white")
-    return data
+    data = resvg_py.svg_to_bytes(svg_string=svg.decode("utf-8"), background="white")
+    return bytes(data)

@@ -10,26 +10,22 @@ from arrange.voicing.layers import VoicedLayer
 from arrange.voicing.voicer import Voiced
 from arrange.writers.common import bar_of_event, json_number
 
-__all__ = ["json_number", "bar_of_event", "report_data", "report_json", "report_markdown"]
+__all__ = ["json_number", "bar_of_event", "report_data", "report_json", "report_markdown", "md_text"]
 
 
 def _statement_table(voiced: Voiced, dynamics: tuple[str, ...]) -> list[dict[str, Any]]:
     """Per statement: its first bar, rehearsal letter, dynamic, and the voicing of its notes."""
-    from arrange.writers.marks import dynamic_of, rehearsal_letter
+    from arrange.writers.marks import dynamic_of, rehearsal_plan
 
     line = voiced.harmonized.line
-    letters: dict[int, str] = {}
+    letters = rehearsal_plan(voiced)
     out = []
     for st in line.segments:
         own = [i for i, ve in enumerate(voiced.events) if ve.event.note.statement == st.index]
         first_bar = None
-        if line.passages and not letters:    # a form: one letter per passage, on its first bar
-            letters = {p.first_bar: rehearsal_letter(k) for k, p in enumerate(line.passages, start=1)}
         if st.start < len(voiced.events):
             n = voiced.events[st.start].event.note
             first_bar = line.bar_of(n.onset)
-            if first_bar not in letters and not line.passages:
-                letters[first_bar] = rehearsal_letter(len(letters) + 1)
         voicings = list(dict.fromkeys(voiced.events[i].voicing for i in own))
         out.append({"statement": st.index, "form": st.form, "transposition": st.transposition,
                     "bar": first_bar, "rehearsal": letters.get(first_bar) if first_bar is not None else None,
@@ -138,15 +134,24 @@ def _cell(text: object) -> str:
     return str(text if text is not None else "").replace("|", "\\|").replace("\n", " ")
 
 
+_MD_SPECIAL = set("\\`*_[]<>#!|~&")
+
+
+def md_text(text: object) -> str:
+    """User text shown as text in CommonMark: every punctuation character that could
+    start markup is backslash-escaped (CommonMark 0.31, "Backslash escapes")."""
+    return "".join("\\" + c if c in _MD_SPECIAL else c for c in str(text))
+
+
 def report_markdown(data: dict[str, Any]) -> bytes:
     from arrange.theory.pitch import pitch_name
 
     ch = data["chain"]
     parts = data["section"]["parts"]
-    out = [f"# {data['title']}", "",
+    out = [f"# {md_text(data['title'])}", "",
            f"Key {data['key']}, meter {data['meter']}, tempo {data['tempo']:g}, "
-           f"groove {data['groove']}, {data['bars']} bars, section {data['section']['name']} "
-           f"({', '.join(p['name'] for p in parts)}).", ""]
+           f"groove {data['groove']}, {data['bars']} bars, section {md_text(data['section']['name'])} "
+           f"({', '.join(md_text(p['name']) for p in parts)}).", ""]
     out += _passages_markdown(data)
     if ch is not None:
         out += ["## Chain", "",

@@ -1,28 +1,43 @@
-"""``Voiced`` to a MusicXML 4.0 score, through music21 objects.
+"""One staff of a MusicXML 4.0 score, built from our own values (no music21).
 
-Score -> part -> measure, as music21's own exporter layers them.  Notes go in
-at sounding pitch; music21 writes each transposing part in written pitch
-with a ``<transpose>`` element, so the file is a transposed score that still
-knows concert pitch.
+A :class:`Staff` collects the notation pieces of one part (:func:`arrange.rhythm.notation.pieces`:
+ties over bar lines and beats, readable values) and the marks standing over them, then
+:meth:`Staff.measures` writes the ``<measure>`` elements with the standard library's
+ElementTree: rests in every gap (the same notation rules), accidentals where the written
+key signature and the measure so far do not give them, beams by the meter's beat groups,
+triplet brackets, key changes by bar, the final bar line.
+
+Transposing parts are put in written pitch here: a spelled name moves by the instrument's
+interval (letters and semitones, so Eb concert is C for an alto saxophone), and the key
+signature by that interval's fifths.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+import xml.etree.ElementTree as ET
+from dataclasses import dataclass, field
 from fractions import Fraction
+from functools import lru_cache
+from math import lcm
 
-from arrange.rhythm.notation import pieces
-from arrange.theory.spelling import direction_of, m21_name, spell_pitch
-from arrange.voicing.voicer import Voiced
-from arrange.writers import marks
-from arrange.writers.symbols import chord_symbol, m21_figure  # noqa: F401 - m21_figure is used by callers
+from arrange.rhythm.meter import Meter
+from arrange.rhythm.notation import Piece, is_triplet, pieces
+from arrange.writers.xml_notation import TYPES, accidentals, beams, signature_alters, split_name, tuplets
 
-__all__ = ["ScoreInfo", "build_score", "finish_xml", "m21_figure", "chord_symbol", "swing_ratio"]
+__all__ = ["ScoreInfo", "Staff", "Interval", "interval_of", "transpose_name", "split_name",
+           "signature_alters", "part_abbreviation", "sub", "concert_clef", "_INTERVALS"]
 
+Q = Fraction
 _INTERVALS = {"unison": "P1", "major second": "M2", "minor third": "m3", "perfect fourth": "P4",
               "perfect fifth": "P5", "major sixth": "M6", "octave": "P8", "major ninth": "M9",
               "major thirteenth": "M13", "two octaves": "P15", "minor second": "m2",
               "minor seventh": "m7", "major seventh": "M7", "perfect eleventh": "P11",
               "minor tenth": "m10", "perfect twelfth": "P12"}
+_STEPS = "CDEFGAB"
+_NATURAL = {"C": 0, "D": 2, "E": 4, "F": 5, "G": 7, "A": 9, "B": 11}
+_ACCIDENTALS = {-2: "flat-flat", -1: "flat", 0: "natural", 1: "sharp", 2: "double-sharp"}
+_CLEFS = {"treble": ("G", 2, 0), "bass": ("F", 4, 0), "alto": ("C", 3, 0), "tenor": ("C", 4, 0),
+          "treble8vb": ("G", 2, -1)}
+_ARTICULATIONS = {"accent": "accent", "staccato": "staccato", "tenuto": "tenuto"}
 
 
 @dataclass(frozen=True, slots=True)
@@ -37,6 +52,45 @@ class ScoreInfo:
     version: str = ""
 
 
+@dataclass(frozen=True, slots=True)
+class Interval:
+    """Written minus sounding: letter steps and semitones (0, 0 at concert pitch)."""
+    steps: int = 0
+    semitones: int = 0
+
+    @property
+    def fifths(self) -> int:
+        """How far the interval moves a key signature round the circle of fifths."""
+        if not self.steps and not self.semitones:
+            return 0
+        return min((f for f in range(-14, 15) if (4 * f - self.steps) % 7 == 0
+                    and (7 * f - self.semitones) % 12 == 0), key=abs)
+
+
+def interval_of(instrument, concert: bool = False) -> Interval:  # noqa: ANN001
+    """The instrument's written-minus-sounding interval (``instruments.toml``)."""
+    if concert or not instrument.transposition:
+        return Interval()
+    number = int(_INTERVALS[instrument.interval][1:])
+    sign = 1 if instrument.transposition > 0 else -1
+    return Interval(sign * (number - 1), instrument.transposition)
+
+
+def transpose_name(name: str, ivl: Interval) -> str:
+    """A spelled name (with or without octave) moved by ``ivl``, keeping the letter
+    distance: Bb3 up a major second is C4, F# up a major sixth is D#."""
+    if not ivl.steps and not ivl.semitones:
+        return name
+    has_octave = name[-1].isdigit()
+    step, alter, octave = split_name(name)
+    midi = 12 * (octave + 1) + _NATURAL[step] + alter + ivl.semitones
+    idx = _STEPS.index(step) + ivl.steps
+    new_step, new_octave = _STEPS[idx % 7], octave + idx // 7
+    diff = midi - (12 * (new_octave + 1) + _NATURAL[new_step])
+    acc = "#" * diff if diff > 0 else "b" * -diff
+    return new_step + acc + (str(new_octave) if has_octave else "")
+
+
 def part_abbreviation(part) -> str:  # noqa: ANN001
     """'Tpt. 2' for 'Trumpet 2': a numbered part name keeps its number in the
     abbreviation, as score margins show it (common practice)."""
@@ -47,338 +101,228 @@ def part_abbreviation(part) -> str:  # noqa: ANN001
     return abbr
 
 
-def _instrument(part, index: int, concert: bool = False):  # noqa: ANN001
-    from music21 import instrument, interval
-
-    inst = instrument.Instrument()
-    spec = part.instrument
-    inst.partName = part.name
-    inst.partAbbreviation = part_abbreviation(part)
-    inst.instrumentName = spec.name
-    inst.instrumentAbbreviation = spec.abbreviation
-    inst.instrumentSound = spec.sound
-    inst.midiProgram = spec.program - 1
-    inst.midiChannel = index if index < 9 else index + 1
-    inst.partId = f"P{index + 1}"
-    inst.instrumentId = f"P{index + 1}-I1"
-    if spec.transposition and not concert:
-        name = _INTERVALS[spec.interval]
-        # music21's transposition: written -> sounding, so the interval goes down
-        ivl = interval.Interval(name)
-        inst.transposition = ivl.reverse() if spec.transposition > 0 else ivl
-    return inst
+def sub(parent: ET.Element, tag: str, value: object = None, /, **attrib: str) -> ET.Element:
+    """A child element with text ``value`` (if any) and attributes."""
+    el = ET.SubElement(parent, tag, attrib)
+    if value is not None:
+        el.text = str(value)
+    return el
 
 
-def _clef(name: str):  # noqa: ANN202
-    from music21 import clef
-
-    return {"treble": clef.TrebleClef, "bass": clef.BassClef, "alto": clef.AltoClef,
-            "treble8vb": clef.Treble8vbClef, "tenor": clef.TenorClef}[name]()
-
-
-def build_score(voiced: Voiced, info: ScoreInfo):  # noqa: ANN201
-    from music21 import (
-        metadata,
-        meter,  # noqa: F401
-        note,
-        stream,
-        tempo,
-    )
-
-    line = voiced.harmonized.line
-    bar_len = line.meter.bar
-    shift = 1 if line.pickup else 0
-    score = stream.Score(id="score")
-    score.atSoundingPitch = True
-    score.metadata = metadata.Metadata()
-    score.metadata.title = info.title
-    score.metadata.movementTitle = info.title
-    for k, part in enumerate(voiced.section.parts):
-        if info.only_part is not None and k != info.only_part:
-            continue
-        lead = k == (info.only_part or 0)     # this staff carries tempo, marks and symbols
-        p, measures = part_skeleton(part, k, part_abbreviation(part), voiced.harmonized, info.concert)
-        if lead:
-            beat = note.Note(type="quarter")
-            if line.tempo_scale != 1:      # a shuffle written in 12/8: the dotted quarter
-                beat.duration.dots = 1
-            measures[0].insert(0, marks.style_word(info.style))
-            measures[0].insert(0, tempo.MetronomeMark(number=info.tempo, referent=beat))
-        prev_chord = None
-        part_pitches = [ve.pitches[k] for ve in voiced.events]
-        shown: dict[tuple[int, str, int], int] = {}     # accidentals in force per measure
-        respell = bool(part.instrument.transposition) and not info.concert
-        for i, ve in enumerate(voiced.events):
-            n = ve.event.note
-            cut = pieces(n.onset, n.duration, line.meter, pickup=line.pickup)
-            if lead:
-                m_i, off = cut[0].measure, cut[0].offset
-                # a pickup on the chord of bar 1 takes no symbol of its own: the symbol
-                # stands over bar 1, as lead sheets write it (common practice)
-                pickup_on_first = n.onset < 0 and ve.event.role == "framework" and \
-                    bool(voiced.harmonized.framework) and ve.event.chord == voiced.harmonized.framework[0].chord
-                if ve.event.chord.symbol != prev_chord and not pickup_on_first:
-                    measures[m_i].insert(_offset(off), chord_symbol(ve.event.chord))
-                    prev_chord = ve.event.chord.symbol
-            way = direction_of(part_pitches[i - 1] if i else None, ve.pitches[k],
-                               part_pitches[i + 1] if i + 1 < len(part_pitches) else None)
-            bar_key = voiced.harmonized.key_at(int(n.onset // bar_len) + 1)
-            name = m21_name(spell_pitch(ve.pitches[k], bar_key, ve.event.chord, way))
-            for j, pc in enumerate(cut):
-                nt = piece_note(name, pc)
-                if j == 0 and n.articulation:
-                    nt.articulations.append(_articulation(n.articulation))
-                if not respell:     # transposing parts in written pitch: music21 respells them
-                    _accidental(nt, pc, shown, voiced.harmonized.key_at(pc.measure + 1 - shift))
-                measures[pc.measure].insert(_offset(pc.offset), nt)
-        marks.add_dynamics(measures, voiced, info.dynamics)
-        if lead:
-            marks.add_rehearsal(measures, voiced)
-        if lead and info.analysis:
-            marks.add_analysis(measures, voiced)
-        if lead and info.only_part is None:
-            marks.concert_symbols(measures)
-        finish_part(p, measures, line, shift, respell)
-        score.insert(0, p)
-    if info.only_part is None:
-        marks.add_part_groups(score, voiced.section)
-        marks.page_credits(score, info.title, info.concert)
-    else:
-        marks.page_credits(score, info.title, info.concert, voiced.section.parts[info.only_part].name)
-    return score
+def _ledger_steps(pitches: list[int], low: int, high: int) -> int:
+    """How far (in semitones) the notes stand outside a staff running ``low``..``high``
+    with one ledger line of grace either side: a proxy for the ledger lines a player reads."""
+    return sum(max(0, low - 3 - p) + max(0, p - high - 3) for p in pitches)
 
 
-def part_skeleton(part, index: int, abbreviation: str, harmonized, concert: bool):  # noqa: ANN001, ANN201
-    """An empty part ``P{index+1}`` and its measures: the pickup as an implicit measure 0
-    (MusicXML 4.0), instrument, clef, key and time in the first, a key signature
-    wherever the key changes by bar."""
-    from music21 import key, meter, stream
-
-    line = harmonized.line
-    shift = 1 if line.pickup else 0
-    p = stream.Part(id=f"P{index + 1}")
-    p.atSoundingPitch = True
-    p.partName = part.name
-    p.partAbbreviation = abbreviation
-    measures = []
-    for m_i in range(line.measures):
-        m = stream.Measure(number=m_i + 1 - shift)
-        if shift and m_i == 0:          # the pickup: measure 0, implicit (MusicXML 4.0)
-            m.showNumber = stream.enums.ShowNumber.NEVER
-            m.paddingLeft = float(line.meter.bar - line.pickup)
-        if m_i == 0:
-            m.insert(0, _instrument(part, index, concert))
-            m.insert(0, _clef(part.instrument.clef))
-            m.insert(0, key.Key(m21_name(harmonized.key.tonic_name), harmonized.key.signature_mode))
-            m.insert(0, meter.TimeSignature(str(line.meter)))
-        elif harmonized.key_at(m_i + 1 - shift) != harmonized.key_at(m_i - shift):
-            kc = harmonized.key_at(m_i + 1 - shift)   # a key change by bar
-            m.insert(0, key.Key(m21_name(kc.tonic_name), kc.signature_mode))
-        measures.append(m)
-    return p, measures
+def concert_clef(clef: str, pitches: list[int]) -> str:
+    """The clef of a transposing part in a concert score: written in treble for its
+    players, at concert pitch a low instrument (tenor and baritone saxophone, bass
+    clarinet) would sit under the treble staff; it takes the bass clef when its notes
+    need fewer ledger lines there (common practice of concert scores: each staff in
+    the clef its sounding range reads best in; staves E4-F5 treble, G2-A3 bass)."""
+    if clef != "treble" or not pitches:
+        return clef
+    treble = _ledger_steps(pitches, 64, 77)
+    bass = _ledger_steps(pitches, 43, 57)
+    return "bass" if bass < treble else clef
 
 
-def finish_part(p, measures: list, line, shift: int, written: bool) -> None:  # noqa: ANN001
-    """Rests into every gap, tuplet brackets, the final bar line, the measures into
-    the part; a transposing part is then put in written pitch with its accidentals."""
-    from music21 import bar
-
-    bar_len = line.meter.bar
-    for m_i, m in enumerate(measures):
-        m_start = -line.pickup if shift and m_i == 0 else (m_i - shift) * bar_len
-        m_len = line.pickup if shift and m_i == 0 else bar_len
-        _fill_rests(m, m_len, line.meter, m_start, line.pickup)
-        _tuplet_brackets(m)
-    for ps in line.passages[1:]:     # a form: a double bar where each passage begins
-        m_i = ps.first_bar - 1 + shift
-        if 0 < m_i < len(measures):
-            measures[m_i - 1].rightBarline = bar.Barline("double")
-    measures[-1].rightBarline = bar.Barline("final")
-    for m in measures:
-        p.append(m)
-    if written:
-        written_accidentals(p)
+@lru_cache(maxsize=4096)
+def _cut(onset: Fraction, duration: Fraction, meter: Meter, pickup: Fraction) -> tuple[Piece, ...]:
+    """The notation pieces of one note, shared by every part that plays it (each part of a
+    section and each layer part cut the same onsets)."""
+    return tuple(pieces(onset, duration, meter, pickup=pickup))
 
 
-def written_accidentals(p) -> None:  # noqa: ANN001
-    """Put a transposing part in written pitch now (music21 transposes notes, keys and
-    symbols by the instrument's interval, keeping the letter spelling) and print each
-    accidental where the written key signature and the measure so far do not already
-    give it (common practice of engraving).  The exporter then leaves the part as is."""
-    from music21 import key, note, stream
-
-    p.toWrittenPitch(inPlace=True)
-    sharps = 0
-    for m in p.getElementsByClass(stream.Measure):
-        for ks in m.getElementsByClass(key.KeySignature):
-            sharps = ks.sharps
-        sig = signature_alters(sharps)
-        shown: dict[tuple[str, int], int] = {}
-        for nt in sorted(m.getElementsByClass(note.Note), key=lambda n: n.offset):
-            step, octave = nt.pitch.step, nt.pitch.octave
-            alter = int(nt.pitch.alter)
-            tied_over = nt.tie is not None and nt.tie.type in ("stop", "continue")
-            need = alter != shown.get((step, octave), sig.get(step, 0)) and not tied_over
-            shown[(step, octave)] = alter
-            _show_accidental(nt, need)
+@dataclass(slots=True)
+class _Note:
+    offset: Fraction
+    duration: Fraction
+    name: str | None            # written spelled name with octave; None for a rest
+    tie_start: bool = False
+    tie_stop: bool = False
+    articulation: str = ""
+    whole_bar: bool = False
 
 
-def _show_accidental(nt, need: bool) -> None:  # noqa: ANN001
-    from music21 import pitch
+@dataclass(slots=True)
+class Staff:
+    """One part's measures under construction (``line``: the rhythm stage's Line)."""
+    line: object
+    keys: tuple[tuple[int, str], ...]  # written key signature (fifths, mode) of each written measure
+    clef: str
+    transpose: Interval = Interval()
+    double_before: frozenset[int] = frozenset()   # measures a double bar line precedes (new sections)
+    notes: list[list[_Note]] = field(default_factory=list)
+    marks: list[list[tuple[Fraction, int, ET.Element]]] = field(default_factory=list)
 
-    if nt.pitch.accidental is None:
-        if need:
-            nt.pitch.accidental = pitch.Accidental("natural")
-            nt.pitch.accidental.displayStatus = True
-        return
-    nt.pitch.accidental.displayStatus = need
+    def __post_init__(self) -> None:
+        n = self.line.measures      # type: ignore[attr-defined]
+        self.notes = [[] for _ in range(n)]
+        self.marks = [[] for _ in range(n)]
+
+    def cut(self, onset: Fraction, duration: Fraction) -> tuple[Piece, ...]:
+        line = self.line
+        return _cut(onset, duration, line.meter, line.pickup)   # type: ignore[attr-defined]
+
+    def add_note(self, name: str, onset: Fraction, duration: Fraction, articulation: str = "") -> Piece:
+        """A sounding spelled note; returns its first piece (where marks attach)."""
+        written = transpose_name(name, self.transpose)
+        cut = self.cut(onset, duration)
+        while cut[-1].measure >= len(self.notes):     # a note past the line's last bar
+            self.notes.append([])
+            self.marks.append([])
+            self.keys = (*self.keys, self.keys[-1])
+        for j, pc in enumerate(cut):
+            self.notes[pc.measure].append(_Note(pc.offset, pc.duration, written, pc.tie_start, pc.tie_stop,
+                                                articulation if j == 0 else ""))
+        return cut[0]
+
+    def add_mark(self, measure: int, offset: Fraction, order: int, el: ET.Element) -> None:
+        self.marks[measure].append((offset, order, el))
+
+    # -- writing ---------------------------------------------------------------------------
+
+    def divisions(self) -> int:
+        d = 1
+        for ms in self.notes:
+            for n in ms:
+                d = lcm(d, n.offset.denominator, n.duration.denominator)
+        return d
+
+    def measures(self, first_attrs: list[ET.Element], numbering: bool = True) -> list[ET.Element]:
+        """The ``<measure>`` elements; ``first_attrs`` go after the first measure's
+        divisions/key/time/clef (the ``<transpose>``)."""
+        line = self.line
+        meter: Meter = line.meter                   # type: ignore[attr-defined]
+        pickup: Fraction = line.pickup              # type: ignore[attr-defined]
+        shift = 1 if pickup else 0
+        self._fill_rests(meter, pickup, shift)
+        div = self.divisions()
+        out = []
+        for m_i, notes in enumerate(self.notes):
+            m = ET.Element("measure", number=str(m_i + 1 - shift))
+            if shift and m_i == 0:
+                m.set("implicit", "yes")         # the pickup: measure 0 (MusicXML 4.0)
+            if m_i == 0 and numbering:
+                sub(sub(m, "print"), "measure-numbering", "system")
+            if m_i == 0:
+                at = sub(m, "attributes")
+                sub(at, "divisions", div)
+                self._key(at, self.keys[0])
+                tm = sub(at, "time")
+                sub(tm, "beats", meter.numerator)
+                sub(tm, "beat-type", meter.denominator)
+                sign, ln, octave = _CLEFS[self.clef]
+                cl = sub(at, "clef")
+                sub(cl, "sign", sign)
+                sub(cl, "line", ln)
+                if octave:
+                    sub(cl, "clef-octave-change", octave)
+                at.extend(first_attrs)
+            elif self.keys[m_i] != self.keys[m_i - 1]:
+                self._key(sub(m, "attributes"), self.keys[m_i])
+            notes.sort(key=lambda n: n.offset)
+            start = meter.bar - pickup if shift and m_i == 0 else Q(0)   # bar position of offset 0
+            beamed = beams(notes, meter, start)
+            shown = accidentals(notes, self.keys[m_i][0])
+            brackets = tuplets(notes)
+            pending = sorted(self.marks[m_i], key=lambda x: (x[0], x[1]))
+            for i, n in enumerate(notes):
+                while pending and pending[0][0] < n.offset + n.duration:
+                    off, _, el = pending.pop(0)
+                    if off > n.offset:
+                        _offset(el, (off - n.offset) * div)
+                    m.append(el)
+                self._note(m, n, div, beamed.get(i, ()), shown.get(i), brackets.get(i))
+            m.extend(el for _, _, el in pending)
+            if m_i + 1 < len(self.notes) and (self.keys[m_i + 1] != self.keys[m_i] or m_i + 1 in self.double_before):
+                # a new key signature or a new section follows a double bar line (common practice)
+                sub(sub(m, "barline", location="right"), "bar-style", "light-light")
+            out.append(m)
+        bl = sub(out[-1], "barline", location="right")
+        sub(bl, "bar-style", "light-heavy")
+        return out
+
+    @staticmethod
+    def _key(at: ET.Element, key: tuple[int, str]) -> None:
+        k = sub(at, "key")
+        sub(k, "fifths", key[0])
+        sub(k, "mode", key[1])
+
+    def _fill_rests(self, meter: Meter, pickup: Fraction, shift: int) -> None:
+        bar = meter.bar
+        for m_i, notes in enumerate(self.notes):
+            m_start = -pickup if shift and m_i == 0 else (m_i - shift) * bar
+            m_len = pickup if shift and m_i == 0 else bar
+            t = Q(0)
+            gaps = []
+            for n in sorted(notes, key=lambda n: n.offset):
+                if n.offset > t:
+                    gaps.append((t, n.offset - t))
+                t = max(t, n.offset + n.duration)
+            if t < m_len:
+                gaps.append((t, m_len - t))
+            for off, dur in gaps:
+                for pc in pieces(m_start + off, dur, meter, pickup=pickup, rest=True):
+                    notes.append(_Note(pc.offset, pc.duration, None, whole_bar=pc.whole_bar))
+
+    @staticmethod
+    def _note(m: ET.Element, n: _Note, div: int, beams: tuple[tuple[int, str], ...],
+              accidental: int | None, tuplet: str | None) -> None:
+        el = sub(m, "note")
+        if n.name is None:
+            rest = sub(el, "rest")
+            if n.whole_bar:
+                rest.set("measure", "yes")
+        else:
+            step, alter, octave = split_name(n.name)
+            p = sub(el, "pitch")
+            sub(p, "step", step)
+            if alter or accidental == 0:
+                sub(p, "alter", alter)
+            sub(p, "octave", octave)
+        sub(el, "duration", int(n.duration * div))
+        if n.tie_stop:
+            sub(el, "tie", type="stop")
+        if n.tie_start:
+            sub(el, "tie", type="start")
+        triplet = is_triplet(n.duration)
+        value = n.duration * 3 / 2 if triplet else n.duration
+        kind = TYPES.get(value)
+        if kind is not None and not n.whole_bar:
+            sub(el, "type", kind[0])
+            for _ in range(kind[1]):
+                sub(el, "dot")
+        if accidental is not None:
+            sub(el, "accidental", _ACCIDENTALS.get(accidental, "natural"))
+        if triplet:
+            tm = sub(el, "time-modification")
+            sub(tm, "actual-notes", 3)
+            sub(tm, "normal-notes", 2)
+        for level, kind_ in beams:
+            sub(el, "beam", kind_, number=str(level))
+        if n.tie_start or n.tie_stop or n.articulation or tuplet:
+            nt = sub(el, "notations")
+            if n.tie_stop:
+                sub(nt, "tied", type="stop")
+            if n.tie_start:
+                sub(nt, "tied", type="start")
+            if tuplet:
+                sub(nt, "tuplet", type=tuplet, bracket="yes")
+            if n.articulation:
+                sub(sub(nt, "articulations"), _ARTICULATIONS[n.articulation])
 
 
-def _accidental(nt, pc, shown: dict[tuple[int, str, int], int], k) -> None:  # noqa: ANN001
-    """Print an accidental only where the key signature and the measure so far do
-    not already give it (common practice of engraving); a tied-over note never."""
-    sig = signature_alters(k.fifths)
-    step, octave = nt.pitch.step, nt.pitch.octave
-    alter = int(nt.pitch.alter)
-    slot = (pc.measure, step, octave)
-    need = alter != shown.get(slot, sig.get(step, 0)) and not pc.tie_stop
-    shown[slot] = alter
-    _show_accidental(nt, need)
-
-
-def signature_alters(fifths: int) -> dict[str, int]:
-    """The alteration a key signature of ``fifths`` gives each letter (sharps F C G ...)."""
-    order = "FCGDAEB"
-    return {x: 1 for x in order[:fifths]} if fifths >= 0 else {x: -1 for x in order[::-1][:-fifths]}
-
-
-def piece_note(name: str, pc):  # noqa: ANN001, ANN201
-    """A music21 Note for one notation piece: its value and its tie to the next piece."""
-    from music21 import note
-
-    nt = note.Note(name)
-    nt.duration = _duration(pc.duration)
-    if pc.tie_start and pc.tie_stop:
-        nt.tie = _tie("continue")
-    elif pc.tie_start:
-        nt.tie = _tie("start")
-    elif pc.tie_stop:
-        nt.tie = _tie("stop")
-    return nt
-
-
-def _tie(kind: str):  # noqa: ANN202
-    from music21 import tie
-
-    return tie.Tie(kind)
-
-
-def _offset(q: Fraction) -> float | Fraction:
-    """music21 keeps triplet offsets exact only as Fractions."""
-    return q if q.denominator % 3 == 0 else float(q)
-
-
-def _duration(q: Fraction):  # noqa: ANN202
-    from music21 import duration
-
-    return duration.Duration(q)
-
-
-def _articulation(name: str):  # noqa: ANN202
-    from music21 import articulations
-
-    return {"accent": articulations.Accent, "staccato": articulations.Staccato,
-            "tenuto": articulations.Tenuto}[name]()
-
-
-def _tuplet_brackets(m) -> None:  # noqa: ANN001
-    """Bracket each run of triplets that fills a beat division (tuplet start/stop)."""
-    run: list = []
-    total = Fraction(0)
-    for n in m.notesAndRests:
-        tup = n.duration.tuplets
-        if not tup:
-            run, total = [], Fraction(0)
-            continue
-        run.append(n)
-        total += Fraction(n.quarterLength).limit_denominator(96) * 3 / 2
-        if total.denominator == 1 and total in (1, 2):    # a full triplet group: 3 in the time of 2
-            if len(run) == 1:
-                run[0].duration.tuplets[0].type = "startStop"
-            else:
-                run[0].duration.tuplets[0].type = "start"
-                run[-1].duration.tuplets[0].type = "stop"
-            run, total = [], Fraction(0)
-
-
-def _fill_rests(m, bar_len: Fraction, meter=None, start: Fraction = Fraction(0),  # noqa: ANN001
-                pickup: Fraction = Fraction(0)) -> None:
-    """Rests in every gap of measure ``m`` (``bar_len`` long, starting at time
-    ``start``), cut by the notation rules for rests of the meter."""
-    from music21 import note
-
-    filled = sorted((Fraction(n.offset).limit_denominator(96), Fraction(n.quarterLength).limit_denominator(96))
-                    for n in m.notesAndRests)
-    t = Fraction(0)
-    gaps = []
-    for off, dur in filled:
-        if off > t:
-            gaps.append((t, off - t))
-        t = max(t, off + dur)
-    if t < bar_len:
-        gaps.append((t, bar_len - t))
-    for off, dur in gaps:
-        for pc in pieces(start + off, dur, meter or bar_len, pickup=pickup, rest=True):
-            r = note.Rest()
-            r.duration = _duration(pc.duration)
-            if pc.whole_bar:
-                r.fullMeasure = True
-            m.insert(_offset(pc.offset), r)
-
-
-def swing_ratio(line) -> tuple[int, int] | None:  # noqa: ANN001
-    """``(first, second)`` of the MusicXML 4.0 ``<swing>`` element for a swung
-    line written in straight eighths; None where playback is straight."""
-    if line.groove not in ("swing", "shuffle") or line.notate == "12/8":
-        return None
-    r = Fraction(line.swing).limit_denominator(100)
-    return r.numerator, r.denominator - r.numerator
-
-
-def _add_swing(data: bytes, ratio: tuple[int, int]) -> bytes:
-    """Put ``<swing>`` (MusicXML 4.0 playback; music21 cannot write it) into the
-    ``<sound>`` of the first part's opening tempo direction."""
-    import xml.etree.ElementTree as ET
-
-    at = data.index(b"<score-partwise")
-    head, body = data[:at], data[at:]
-    root = ET.fromstring(body)
-    part = root.find("part")
-    assert part is not None
-    measure = part.find("measure")
-    assert measure is not None
-    sound = next((s for s in measure.iter("sound") if "tempo" in s.attrib), None)
-    if sound is None:
-        direction = ET.Element("direction")
-        ET.SubElement(ET.SubElement(direction, "direction-type"), "words").text = "Swing"
-        sound = ET.SubElement(direction, "sound")
-        first_note = next((i for i, el in enumerate(measure) if el.tag == "note"), len(measure))
-        measure.insert(first_note, direction)
-    swing = ET.Element("swing")
-    ET.SubElement(swing, "first").text = str(ratio[0])
-    ET.SubElement(swing, "second").text = str(ratio[1])
-    ET.SubElement(swing, "swing-type").text = "eighth"
-    offset = sound.find("offset")      # <swing> comes before <offset> (XSD sequence)
-    if offset is not None:
-        sound.insert(list(sound).index(offset), swing)
-    else:
-        sound.append(swing)
-    ET.indent(root, space="  ")
-    return head + ET.tostring(root, encoding="utf-8", xml_declaration=False) + b"\n"
-
-
-def finish_xml(data: bytes, voiced: Voiced, info: ScoreInfo) -> bytes:
-    """What music21 leaves out: sound ids, measure numbering, our credit line."""
-    from arrange.writers.xmlfinish import finish
-
-    return finish(data, voiced, info)
+def _offset(el: ET.Element, divisions: Fraction) -> None:
+    """A mark that stands inside a note: MusicXML's <offset> from the note's start."""
+    off = ET.Element("offset")
+    off.text = str(int(divisions))
+    children = list(el)
+    at = len(children)
+    for i, c in enumerate(children):
+        if c.tag in ("staff", "sound", "frame"):
+            at = i
+            break
+    el.insert(at, off)

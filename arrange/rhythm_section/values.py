@@ -1,0 +1,79 @@
+"""The rhythm section's values: what each rhythm player reads, as plain data.
+
+Times are written ``Fraction`` quarter notes from the downbeat of bar 1 (as in
+:class:`~arrange.rhythm.line.Line`); pitches are sounding MIDI numbers.  The
+writers turn these into the written parts and into the MIDI mock-up, so the
+page and the playback read the same values.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from fractions import Fraction
+
+from arrange.theory.chords import Chord
+
+__all__ = ["BassNote", "Slash", "DrumHit", "Cue", "DrumPart", "RhythmSection", "PARTS"]
+
+# the rhythm parts a project may ask for, in score order (guitar, piano, bass,
+# drums: the usual order of a big-band score's rhythm section, common practice)
+PARTS = ("guitar", "piano", "bass", "drums")
+
+
+@dataclass(frozen=True, slots=True)
+class BassNote:
+    onset: Fraction
+    duration: Fraction
+    pitch: int            # sounding
+    role: str             # "root", "chord tone", "approach", "pattern"
+    chord: Chord          # the framework chord the note sounds under (its symbol)
+
+
+@dataclass(frozen=True, slots=True)
+class Slash:
+    """One comping slash: ``kind`` "time" (a stemless beat slash) or "hit" (a
+    rhythmic slash with its value, accented); ``rest`` marks a silent value inside
+    a bar of hits.  ``pitches`` is the chord the mock-up plays (sounding)."""
+    onset: Fraction
+    duration: Fraction
+    kind: str
+    chord: Chord
+    pitches: tuple[int, ...] = ()
+    rest: bool = False
+
+
+@dataclass(frozen=True, slots=True)
+class DrumHit:
+    onset: Fraction
+    duration: Fraction
+    key: int              # General MIDI percussion key (GM 1 percussion key map)
+    accent: int           # velocity added to the part's dynamic
+
+
+@dataclass(frozen=True, slots=True)
+class Cue:
+    """A section figure shown above the drum staff: its onset and written value."""
+    onset: Fraction
+    duration: Fraction
+    anticipated: bool = False
+
+
+@dataclass(frozen=True, slots=True)
+class DrumPart:
+    style: str                         # the word over the first bar: "Swing", "Latin" ...
+    time: tuple[Fraction, ...]         # onsets of the time slashes (one per beat)
+    cues: tuple[Cue, ...]              # the section's hits and anticipations
+    fills: tuple[int, ...]             # bars marked "Fill" (1-based)
+    hits: tuple[DrumHit, ...]          # what the mock-up plays
+
+
+@dataclass(frozen=True, slots=True)
+class RhythmSection:
+    parts: tuple[str, ...]             # asked parts, in score order (PARTS)
+    bass_style: str                    # walking, two-beat, tumbao, shuffle, roots-fifths
+    bass_instrument: str               # an instrument key of voicing_rules/instruments.toml
+    bass: tuple[BassNote, ...] = ()
+    comping: tuple[Slash, ...] = ()    # piano and guitar read the same slashes
+    drums: DrumPart | None = None
+    bar: Fraction = Fraction(4)        # written bar length in quarter notes
+    total: Fraction = Fraction(0)      # written length from bar 1
+    pickup: Fraction = Fraction(0)
