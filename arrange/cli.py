@@ -399,7 +399,11 @@ def _run_source(source: tuple[str, ...]) -> str:
         return files[f"{proj.slug}.report.md"].decode("utf-8")
     buf = io.StringIO()
     with contextlib.redirect_stdout(buf):
-        main.main(list(source), prog_name="arrange", standalone_mode=False)
+        try:
+            main.main(list(source), prog_name="arrange", standalone_mode=False)
+        except SystemExit as done:                 # the group's main always exits
+            if done.code not in (0, None):
+                raise
     return buf.getvalue()
 
 
