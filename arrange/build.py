@@ -10,12 +10,14 @@ from pathlib import Path
 from arrange import __version__
 from arrange.chain.core import build_chain, chain_length
 from arrange.errors import ArrangeError, LimitError
+from arrange.harmony.events import Harmonized
 from arrange.harmony.harmonizer import harmonize
 from arrange.project import Project
 from arrange.rhythm.line import lay_rhythm
 from arrange.rhythm_section import RhythmSection, build_rhythm_section
 from arrange.voicing.layers import VoicedLayer, build_layers
-from arrange.voicing.voicer import Voiced, voice
+from arrange.voicing.sections import Section
+from arrange.voicing.voicer import Voiced, VoicingOptions, voice
 
 __all__ = ["check_size", "written_notes", "MAX_SCORE_NOTES", "run_pipeline", "run_layers",
            "run_rhythm_section", "render_outputs", "render_project", "write_outputs", "BuildResult"]
@@ -120,15 +122,15 @@ def run_pipeline(project: Project) -> Voiced:
         from arrange.form import run_form
 
         harmonized, voicing_options = run_form(project)
-        return voice(harmonized, project.section, voicing_options)
+        return _voice(harmonized, project.section, voicing_options)
     if project.melody is not None:
         from arrange.rhythm.melody import lay_melody
 
         name = project.path.name if project.path else "project"
         melody_line = lay_melody(project.melody, project.meter, project.rhythm,
                                  where=f"{name}, key 'melody'")
-        return voice(harmonize(melody_line, project.key, project.harmony, where=where),
-                     project.section, project.voicing)
+        return _voice(harmonize(melody_line, project.key, project.harmony, where=where),
+                      project.section, project.voicing)
     c = project.chain
     assert c is not None
     # no lead_range given: the chain is placed into the lead instrument's practical range
@@ -139,7 +141,17 @@ def run_pipeline(project: Project) -> Voiced:
         raise _in_project(err, project, "chain") from None
     line = lay_rhythm(chain, project.meter, project.rhythm)
     harmonized = harmonize(line, project.key, project.harmony, where=where)
-    return voice(harmonized, project.section, project.voicing)
+    return _voice(harmonized, project.section, project.voicing)
+
+
+def _voice(harmonized: Harmonized, section: Section, options: VoicingOptions) -> Voiced:
+    """The voicing stage: a tutti section (several sections voiced as one) through
+    :mod:`arrange.voicing.tutti`, any other section through :func:`voice`."""
+    if section.groups:
+        from arrange.voicing.tutti import voice_tutti
+
+        return voice_tutti(harmonized, section, options)
+    return voice(harmonized, section, options)
 
 
 def run_rhythm_section(project: Project, voiced: Voiced) -> RhythmSection | None:

@@ -75,7 +75,7 @@ def _overlaps(text: str | None) -> tuple[int, ...] | None:
         return None
     out = []
     for i, tok in enumerate(text.replace(" ", "").split(","), start=1):
-        from arrange.inputs.checked import signed
+        from arrange.checked import signed
 
         if signed(tok) is None:
             from arrange.errors import ChainError

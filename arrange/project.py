@@ -12,9 +12,9 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
+from arrange.checked import MAX_DEPTH, bad_character, check_data, read_regular
 from arrange.errors import ArrangeError, ProjectError
 from arrange.harmony import harmonizer as harmony
-from arrange.inputs.checked import MAX_DEPTH, bad_character, check_data, read_regular
 from arrange.inputs.melody_file import Melody
 from arrange.rhythm import line as rhythm
 from arrange.rhythm_section.options import RhythmSectionOptions

@@ -19,8 +19,8 @@ from itertools import product
 from pathlib import Path
 from typing import Any
 
+from arrange.checked import whole
 from arrange.errors import ArrangeError, ProjectError
-from arrange.inputs.checked import whole
 from arrange.project import Project, load_project, project_from_data, slugify
 from arrange.rhythm.groove import GROOVE_ONLY
 from arrange.theory.pitch import pitch_name

@@ -289,3 +289,33 @@ def test_bad_rhythm_section_values_exit_2(tmp_path: Path, bad: str, word: str) -
     text = SWING.replace('parts = ["piano", "guitar", "bass", "drums"]', bad)
     res = run_cli("build", str(write_project(tmp_path, text)), "-o", str(tmp_path / "out"))
     assert res.exit_code == 2 and word in res.output and "Traceback" not in res.output
+
+
+@pytest.mark.parametrize("style", ["walking", "two-beat", "tumbao", "shuffle", "roots-fifths"])
+@pytest.mark.parametrize("meter", ["4/4", "3/4", "6/8"])
+def test_every_bass_style_keeps_the_chord_on_the_downbeat(tmp_path: Path, style: str, meter: str) -> None:
+    """The stage's values in every style and meter (common practice: the bar's first beat
+    sounds a tone of its chord; a bass line never overlaps itself; E1..G3 from memory)."""
+    from arrange.build import run_pipeline, run_rhythm_section
+    from arrange.project import load_project
+
+    groove = "straight" if meter == "6/8" else "swing"
+    text = SWING.replace('groove = "swing"', f'groove = "{groove}"').replace(
+        'meter = "4/4"', f'meter = "{meter}"').replace(
+        'parts = ["piano", "guitar", "bass", "drums"]', f'parts = ["bass", "drums"]\nbass = "{style}"')
+    project = load_project(write_project(tmp_path, text))
+    voiced = run_pipeline(project)
+    rs = run_rhythm_section(project, voiced)
+    notes = rs.bass
+    assert notes and all(28 <= n.pitch <= 55 for n in notes)
+    for a, b in zip(notes, notes[1:], strict=False):
+        assert a.onset + a.duration <= b.onset
+    bar = voiced.harmonized.line.meter.bar
+    for fc in voiced.harmonized.framework:
+        if fc.onset % bar:
+            continue
+        sounding = [n for n in notes if n.onset <= fc.onset < n.onset + n.duration]
+        if sounding:
+            assert sounding[0].pitch % 12 in fc.chord.pitch_classes, (style, meter, fc)
+    if style == "two-beat" and meter == "4/4":
+        assert {n.onset % bar for n in notes} <= {0, 2}

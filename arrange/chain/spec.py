@@ -9,8 +9,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+from arrange.checked import signed
 from arrange.errors import DesignError
-from arrange.inputs.checked import signed
 from arrange.theory.keys import Key
 from arrange.theory.pitch import pitch_name
 

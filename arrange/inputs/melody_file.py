@@ -99,7 +99,7 @@ def read_file_data(path: Path, where: str, what: str = "melody file") -> bytes:
     if path.suffix.lower() not in SUFFIXES:
         raise ProjectError(f"{what} {str(path)!r} has the suffix {path.suffix or '(none)'!r}",
                            where=where, accepted=ACCEPTED)
-    from arrange.inputs.checked import read_regular
+    from arrange.checked import read_regular
 
     # a regular file only (no device or FIFO, after links), its size checked before reading
     data = read_regular(path, MAX_BYTES, where=where, what=what, accepted=ACCEPTED)

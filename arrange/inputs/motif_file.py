@@ -18,8 +18,8 @@ from __future__ import annotations
 import re
 from pathlib import Path
 
+from arrange.checked import read_regular
 from arrange.errors import ProjectError
-from arrange.inputs.checked import read_regular
 
 __all__ = ["read_motif_file", "SUFFIXES", "MAX_BYTES"]
 

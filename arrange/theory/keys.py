@@ -16,8 +16,8 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 
+from arrange.checked import whole
 from arrange.errors import HarmonyError
-from arrange.inputs.checked import whole
 from arrange.theory.chords import Chord, chord_scale_for, parse_chord
 from arrange.theory.scales import CHORD_SCALES, MODES, tensions_in_scale
 

@@ -29,8 +29,8 @@ from functools import lru_cache
 
 import numpy as np
 
+from arrange.checked import whole
 from arrange.errors import VoicingError
-from arrange.inputs.checked import whole
 from arrange.theory.chords import Chord
 from arrange.theory.pitch import parse_pitch, pitch_name
 from arrange.voicing.sections import Section, read_rules

@@ -15,7 +15,7 @@ from arrange.errors import ProjectError, VoicingError
 from arrange.tables import Table
 from arrange.theory.pitch import parse_pitch, pitch_name
 
-__all__ = ["Instrument", "Part", "Section", "data_dir", "instruments", "sections", "get_section",
+__all__ = ["Instrument", "Part", "Section", "data_dir", "instruments", "sections", "get_section", "tutti_section",
            "section_from_table", "read_rules", "describe_range", "MAX_PARTS"]
 
 MAX_PARTS = 16
@@ -47,6 +47,10 @@ class Section:
     name: str
     description: str
     parts: tuple[Part, ...]
+    # a tutti: its groups as (name, first part, end), the lead group first; and the layout
+    # of voicing_rules/tutti.toml the other groups follow
+    groups: tuple[tuple[str, int, int], ...] = ()
+    layout: str = ""
 
     @property
     def lead(self) -> Part:
@@ -137,11 +141,57 @@ def _parts(raw: object, where: str) -> tuple[Part, ...]:
 
 @lru_cache(maxsize=1)
 def sections() -> dict[str, Section]:
-    out = {}
-    for key, d in read_rules("sections.toml").items():
-        where = f"voicing_rules/sections.toml [{key}]"
-        out[key] = Section(key, d.get("description", ""), _parts(d["parts"], where))
+    out: dict[str, Section] = {}
+    data = read_rules("sections.toml")
+    for key, d in data.items():
+        if "tutti" not in d:
+            out[key] = Section(key, d.get("description", ""), _parts(d["parts"], f"voicing_rules/sections.toml [{key}]"))
+    for key, d in data.items():
+        if "tutti" in d:
+            out[key] = tutti_section(key, d.get("description", ""), d["tutti"], d.get("layout", "octaves"),
+                                     out, f"voicing_rules/sections.toml [{key}]")
     return out
+
+
+def tutti_section(name: str, description: str, members: object, layout: object,
+                  known: dict[str, Section], where: str) -> Section:
+    """Several sections voiced as one: ``members`` names sections (or holds inline
+    ``{ name = ..., parts = [...] }`` tables), the one that carries the lead first."""
+    known_layouts = read_rules("tutti.toml").get("layouts", {})     # checked in full by tutti_layouts
+    if not isinstance(members, list) or len(members) < 2:
+        raise VoicingError(f"tutti = {members!r}", where=where,
+                           accepted="a list of two or more sections, the lead's first, e.g. "
+                                    "[\"trumpets-4\", \"saxes-5\", \"trombones-4\"]")
+    if layout not in known_layouts:
+        raise VoicingError(f"layout {layout!r} is not known", where=where,
+                           accepted=", ".join(sorted(known_layouts)) + " (voicing_rules/tutti.toml)")
+    parts: list[Part] = []
+    groups: list[tuple[str, int, int]] = []
+    for i, m in enumerate(members, start=1):
+        here = f"{where}, tutti entry {i}"
+        if isinstance(m, str):
+            if m not in known:
+                raise VoicingError(f"section {m!r} is not known", where=here,
+                                   accepted=", ".join(sorted(k for k, s in known.items() if not s.groups)))
+            sec = known[m]
+        elif isinstance(m, dict):
+            t = Table(m, here)
+            sec = Section(t.string("name"), "", _parts(t.raw("parts"), here))
+            t.finish()
+        else:
+            raise VoicingError(f"{m!r}", where=here, accepted="a section name or { name = ..., parts = [...] }")
+        if sec.groups:
+            raise VoicingError(f"{sec.name!r} is itself a tutti", where=here, accepted="plain sections")
+        groups.append((sec.name, len(parts), len(parts) + len(sec.parts)))
+        parts.extend(sec.parts)
+    if len(parts) > MAX_PARTS:
+        raise VoicingError(f"{len(parts)} parts", where=where, accepted=f"at most {MAX_PARTS} parts in all")
+    names = [p.name for p in parts]
+    twice = sorted({n for n in names if names.count(n) > 1})
+    if twice:
+        raise VoicingError(f"part names {', '.join(twice)} appear twice", where=where,
+                           accepted="sections whose parts have different names")
+    return Section(name, description, tuple(parts), tuple(groups), str(layout))
 
 
 def get_section(name: str, *, where: str = "section") -> Section:
@@ -153,7 +203,15 @@ def get_section(name: str, *, where: str = "section") -> Section:
 
 
 def section_from_table(table: Table) -> Section:
-    """``[section]``: ``name`` of a known section, or ``parts`` inline (with a ``name``)."""
+    """``[section]``: ``name`` of a known section, or ``parts`` inline (with a ``name``),
+    or ``tutti`` (sections voiced as one) with a ``layout``."""
+    if table.has("tutti"):
+        name = table.string("name", "tutti")
+        try:
+            return tutti_section(name, "defined in the project", table.raw("tutti"),
+                                 table.string("layout", "octaves"), sections(), table.at("tutti"))
+        except VoicingError as err:
+            raise ProjectError(err.what, where=err.where, accepted=err.accepted) from None
     if table.has("parts"):
         name = table.string("name", "custom")
         parts = _parts(table.raw("parts"), table.at("parts"))

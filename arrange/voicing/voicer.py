@@ -18,9 +18,9 @@ from fractions import Fraction
 
 import numpy as np
 
+from arrange.checked import whole
 from arrange.errors import VoicingError
 from arrange.harmony.events import Event, Harmonized
-from arrange.inputs.checked import whole
 from arrange.tables import Table
 from arrange.theory.pitch import pitch_name
 from arrange.voicing import rules

@@ -78,7 +78,10 @@ def folder_lock(folder: Path, wait: float | None = None) -> Iterator[None]:
     import fcntl
 
     limit = LOCK_WAIT if wait is None else wait
-    fd = os.open(folder, os.O_RDONLY | getattr(os, "O_DIRECTORY", 0))
+    try:
+        fd = os.open(folder, os.O_RDONLY | getattr(os, "O_DIRECTORY", 0))
+    except OSError as err:
+        raise _os_error(err, folder) from None
     try:
         deadline = time.monotonic() + limit
         while True:

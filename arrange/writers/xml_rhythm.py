@@ -185,7 +185,7 @@ def _rests(ms: _Measures, start: Fraction, end: Fraction, meter, voice: str = "1
 
 def _slash_note(m: ET.Element, pc: Piece, *, stem: str, accent: bool, voice: str = "1",
                 display: tuple[str, int] = ("B", 4), unpitched: bool = False, cue: bool = False,
-                head: str = "slash") -> ET.Element:
+                head: str = "slash", alter: int = 0) -> ET.Element:
     n = _sub(m, "note")
     if cue:
         _sub(n, "cue")
@@ -193,8 +193,10 @@ def _slash_note(m: ET.Element, pc: Piece, *, stem: str, accent: bool, voice: str
     if unpitched:
         _sub(p, "display-step", display[0])
         _sub(p, "display-octave", str(display[1]))
-    else:
+    else:        # a slash stands on the middle line, as the key signature spells that line
         _sub(p, "step", display[0])
+        if alter:
+            _sub(p, "alter", str(alter))
         _sub(p, "octave", str(display[1]))
     _value(n, pc.duration)
     if not cue:            # a cue note takes no <tie> (XSD); its tied notation still shows
@@ -252,10 +254,11 @@ def _comp_part(ms: _Measures, rs: RhythmSection, meter, rs_part: str) -> None:  
             _symbols_before(ms, m, t, t + pc.duration, changes, done)
             # the guitar's 8vb clef: the file holds sounding pitch (as the guitar's other parts)
             at = ("B", 3) if rs_part == "guitar" else ("B", 4)
+            alter = _signature(ms.harmonized.key_at(int(t // rs.bar) + 1).fifths).get("B", 0)
             if s.kind == "time":
-                _slash_note(m, pc, stem="none", accent=False, display=at)
+                _slash_note(m, pc, stem="none", accent=False, display=at, alter=alter)
             else:
-                _slash_note(m, pc, stem="up", accent=j == 0, display=at)
+                _slash_note(m, pc, stem="up", accent=j == 0, display=at, alter=alter)
 
 
 def _bass_part(ms: _Measures, rs: RhythmSection, meter) -> None:  # noqa: ANN001

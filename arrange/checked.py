@@ -14,7 +14,7 @@ import re
 from pathlib import Path
 from typing import Any
 
-from ..errors import ProjectError
+from arrange.errors import ProjectError
 
 __all__ = ["whole", "signed", "bad_character", "check_data", "read_regular", "MAX_DEPTH", "MAX_ITEMS", "MAX_DIGITS"]
 
