@@ -294,14 +294,28 @@ def sections(as_json: bool) -> None:
             lo, hi = p.instrument.practical
             click.echo(f"    {p.name:<18} {p.instrument.key:<16} {pitch_name(lo)}-{pitch_name(hi)} "
                        f"sounding, written {p.instrument.transposition:+d}")
+    click.echo(_limits_text())
+
+
+def _limits_text() -> str:
+    """The low-interval limits every section is voiced with (voicing_rules/limits.toml)."""
+    from arrange.theory.pitch import pitch_name
+    from arrange.voicing.rules import INTERVAL_NAMES, low_interval_limits
+
+    lines = ["low-interval limits: the lowest note the lower of two adjacent voices takes "
+             "(sounding)"]
+    for semis, low in enumerate(low_interval_limits().tolist()):
+        if low >= 0 and semis < len(INTERVAL_NAMES):
+            lines.append(f"    {INTERVAL_NAMES[semis]:<18} {pitch_name(low)} and above")
+    return "\n".join(lines)
 
 
 
 
 def starter_text(name: str) -> str:
-    from arrange.starter import STARTER
+    from arrange.starter import starter_text as text
 
-    return STARTER.format(name=name)
+    return text(name)
 
 
 @main.command(short_help="Write a commented starter project to build first.")
@@ -318,6 +332,96 @@ def new(project: Path) -> None:
     write_batch(project.parent if str(project.parent) else Path("."),
                 {project.name: starter_text(project.name).encode("utf-8")})
     click.echo(str(project))
+
+
+@main.command(short_help="Explain the trade terms the tool uses, with examples.")
+@click.argument("term", required=False)
+@click.option("--json", "as_json", is_flag=True, help="Print a JSON list of the entries.")
+@guarded
+def explain(term: str | None, as_json: bool) -> None:
+    """Explain TERM (or every trade term the tool uses), each with an example line taken
+    from the tool's own output."""
+    from arrange.errors import InputError
+    from arrange.glossary import TERMS, find_term
+
+    terms = TERMS
+    if term is not None:
+        found = find_term(term)
+        if found is None:
+            raise InputError(f"{term!r} is not in the glossary", where="TERM",
+                             accepted=", ".join(t.term for t in TERMS))
+        terms = (found,)
+    entries: list[dict[str, Any]] = [{"term": t.term, "aliases": list(t.aliases), "meaning": t.meaning,
+                "example": _example(t), "example_from": t.example_from} for t in terms]
+    if as_json:
+        click.echo(json.dumps(entries))
+        return
+    import textwrap
+
+    for i, e in enumerate(entries):
+        also = f" (also: {', '.join(e['aliases'])})" if e["aliases"] else ""
+        click.echo(("\n" if i else "") + f"{e['term']}{also}")
+        click.echo(textwrap.fill(e["meaning"], width=78, initial_indent="  ", subsequent_indent="  "))
+        click.echo(f"  e.g., from {e['example_from']}:")
+        click.echo(f"    {e['example']}")
+
+
+_OUTPUTS: dict[tuple[str, ...], str] = {}
+
+
+def _example(term: Any) -> str:
+    """The first line of the term's source output that its pattern matches."""
+    import re
+
+    text = _OUTPUTS.get(term.source)
+    if text is None:
+        text = _OUTPUTS[term.source] = _run_source(term.source)
+    for line in text.splitlines():
+        if re.search(term.pick, line):
+            return line.rstrip()
+    raise RuntimeError(f"the glossary example of {term.term!r} is missing from {term.example_from}")
+
+
+def _run_source(source: tuple[str, ...]) -> str:
+    """The output of ``arrange SOURCE`` run in this process, or with no source the Markdown
+    report of the starter project (built in memory, nothing written)."""
+    import contextlib
+    import io
+
+    if not source:
+        import tomllib
+
+        from arrange.build import render_project
+        from arrange.project import project_from_data
+
+        proj = project_from_data(tomllib.loads(starter_text("cue.toml")), "starter")
+        _voiced, _layers, files = render_project(proj, ("report",))
+        return files[f"{proj.slug}.report.md"].decode("utf-8")
+    buf = io.StringIO()
+    with contextlib.redirect_stdout(buf):
+        try:
+            main.main(list(source), prog_name="arrange", standalone_mode=False)
+        except SystemExit as done:                 # the group's main always exits
+            if done.code not in (0, None):
+                raise
+    return buf.getvalue()
+
+
+def _build_errors(text: str) -> int | None:
+    """Errors in the build of a project text, run in memory (None: it does not build)."""
+    import tomllib
+
+    from arrange.build import run_layers, run_pipeline
+    from arrange.project import project_from_data
+
+    try:
+        project = project_from_data(tomllib.loads(text), "design --write-project")
+        voiced = run_pipeline(project)
+        layers = run_layers(project, voiced)
+    except ArrangeError:
+        return None
+    sev = [f.severity for f in voiced.findings] + [f.severity for v in layers for f in v.findings]
+    return sev.count("error")
 
 
 class _Progress:
@@ -424,7 +528,8 @@ def design(length: int, statements: int, overlap: int, start: str | None, max_st
                               where="--write-project", accepted="looser constraints")
         best = found.results[0]
         write_batch(write_project.parent if str(write_project.parent) else Path("."),
-                    {write_project.name: project_text(spec, best.chain, best.why).encode("utf-8")})
+                    {write_project.name: project_text(spec, best.chain, best.why,
+                                                      _build_errors).encode("utf-8")})
         click.echo(f"wrote {write_project}", err=True)
     if as_json:
         click.echo(json.dumps(found.to_json()))

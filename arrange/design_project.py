@@ -1,5 +1,10 @@
 """A starter project (TOML text) around the designer's best motif.
 
+The project builds cleanly: it names the lead range of its section (raised so the voices
+under the lead stay in their ranges), tries the sections in order of the line's register
+until one builds with no error (the caller's ``errors`` runs the stages in memory), declares a
+transition's second key from the bar of its dominant, and asks for a preview.
+
 The framework moves tonic, dominant, tonic; for a transition it moves from the
 first key's tonic to the second key's dominant and tonic.  The framework has as
 many bars as the rhythm stage's default groove gives the line in 4/4 (asked of
@@ -8,6 +13,7 @@ many bars as the rhythm stage's default groove gives the line in 4/4 (asked of
 from __future__ import annotations
 
 import json
+from collections.abc import Callable
 
 from arrange.chain.core import Chain
 from arrange.chain.spec import DesignSpec
@@ -56,7 +62,47 @@ def _bars(chain: Chain) -> int:
     return max(1, line.bars)
 
 
-def project_text(spec: DesignSpec, chain: Chain, why: str) -> str:
+# sections tried for the written project, by the line's register (the first that builds
+# with no error wins; common practice: trumpets or saxes carry a line above middle C,
+# trombones one below it)
+_HIGH = ("trumpets-4", "saxes-5", "horns-4", "trombones-4")
+_LOW = ("trombones-4", "saxes-5", "horns-4", "trumpets-4")
+
+
+def _lead_range(section: str) -> tuple[int, int]:
+    """The lead's practical range, raised so that a close voicing an octave under the
+    lead stays inside the lowest part's practical range."""
+    from arrange.voicing.sections import get_section
+
+    sec = get_section(section)
+    lo, hi = sec.lead.instrument.practical
+    floor = max(p.instrument.practical[0] for p in sec.parts[1:]) + 12 if len(sec.parts) > 1 else lo
+    low = max(lo, floor)
+    return (low, hi) if hi - low >= 12 else (lo, hi)
+
+
+def project_text(spec: DesignSpec, chain: Chain, why: str,
+                 errors: Callable[[str], int | None] | None = None) -> str:
+    """The project around ``chain``: the first section (by register) whose build has no
+    error, its lead range, a key change into a transition's second key, a preview.
+    ``errors`` builds a project text in memory and counts its errors (None: it does not
+    build); the command line passes one, so this module stays below the build."""
+    lead = sorted(chain.pitches)[len(chain.pitches) // 2]
+    order = _HIGH if lead >= 60 else _LOW
+    if errors is None:
+        return _text(spec, chain, why, order[0])
+    best: tuple[int, str] | None = None
+    for section in order:
+        text = _text(spec, chain, why, section)
+        count = errors(text)
+        if count == 0:
+            return text
+        if count is not None and (best is None or count < best[0]):
+            best = (count, text)
+    return best[1] if best is not None else _text(spec, chain, why, order[0])
+
+
+def _text(spec: DesignSpec, chain: Chain, why: str, section: str) -> str:
     start_key = spec.from_key or spec.key
     end_key = spec.to_key or start_key
     key_text = str(start_key) if start_key is not None else "C major"
@@ -70,10 +116,15 @@ def project_text(spec: DesignSpec, chain: Chain, why: str) -> str:
         title = f"Transition {spec.from_key} to {spec.to_key}"
     else:
         title = "Designed Line"
-    lead = sorted(chain.pitches)[len(chain.pitches) // 2]
-    section = "trumpets-4" if lead >= 60 else "trombones-4"
     motif = " ".join(pitch_name(p) for p in chain.motif)
+    low, high = _lead_range(section)
     q = json.dumps
+    harmony = ["[harmony]",
+               f"# {bars} bar{'s' if bars != 1 else ''}: what the default groove gives this line in 4/4",
+               f"framework = {q(framework)}"]
+    if k2 != k1 and bars >= 2:
+        change = bars - 1 if bars >= 3 else 2          # from the new key's dominant (or tonic)
+        harmony.append(f"keys = [{q(f'{k2} from bar {change}')}]")
     return "\n".join([
         "# Written by arrange design around its best motif:",
         f"#   {why}",
@@ -87,16 +138,16 @@ def project_text(spec: DesignSpec, chain: Chain, why: str) -> str:
         f"motif = {q(motif)}",
         f"statements = {spec.statements}",
         f"overlap = {spec.overlap}",
+        f"lead_range = [{q(pitch_name(low))}, {q(pitch_name(high))}]   # {section}'s lead, "
+        "high enough for the voices under it",
         "",
-        "[harmony]",
-        f"# {bars} bar{'s' if bars != 1 else ''}: what the default groove gives this line in 4/4",
-        f"framework = {q(framework)}",
+        *harmony,
         "",
         "[section]",
         f"name = {q(section)}",
         'voicing = "close"',
         "",
         "[output]",
-        'formats = ["musicxml", "midi", "report"]',
+        'formats = ["musicxml", "midi", "report", "preview"]',
         "",
     ])

@@ -109,7 +109,7 @@ def test_every_result_rebuilt_meets_every_constraint(args: list[str]) -> None:
         start = pitch.Pitch(from_key.split()[0].replace("b", "-") + "4").midi
     previous = None
     for res in out["results"]:
-        assert set(res) == {"motif", "names", "chain", "score", "why"}
+        assert set(res) == {"motif", "names", "chain", "score", "why", "in_range", "travels"}
         motif = res["motif"]
         chain = build_chain(motif, k, o)
         assert res["chain"] == chain.to_json()          # the chain field is arrange chain --json
@@ -146,11 +146,18 @@ def test_every_result_rebuilt_meets_every_constraint(args: list[str]) -> None:
             assert line[0] % 12 in m21_tonic_triad(from_key)
             assert line[-1] % 12 in m21_tonic_triad(to_key)
             assert out["relaxed"] == []
-        # ranking: the README's score, best first, ties by the lower motif
+        # ranking (README): lines within two octaves first, then chains whose statement 3
+        # lies at new pitch classes, then the README's score, best first, ties by the lower motif
         assert res["score"] == readme_score(line)
+        assert res["in_range"] == (max(line) - min(line) <= 24)
+        assert res["travels"] == (chain.transposition % 12 != 0)
         if previous is not None:
-            assert (-previous["score"], previous["motif"]) < (-res["score"], motif)
+            assert _rank(previous) < _rank(res)
         previous = res
+
+
+def _rank(res: dict) -> tuple:
+    return (not res["in_range"], not res["travels"], -res["score"], res["motif"])
 
 
 # --------------------------------------------------------------- brute-force counts, written plainly

@@ -14,7 +14,9 @@ from __future__ import annotations
 
 import json
 import re
+import shlex
 import shutil
+import tomllib
 from pathlib import Path
 
 import pytest
@@ -139,6 +141,84 @@ def test_option_help_texts_are_closed_phrases() -> None:
 # --------------------------------------------------------------- the starter
 
 
+@pytest.fixture(scope="session")
+def starters(tmp_path_factory: pytest.TempPathFactory) -> dict:
+    """Two starters written into one folder and built into one output folder."""
+    folder = tmp_path_factory.mktemp("starters")
+    runs = {}
+    for stem in ("harbour-walk", "second-take"):
+        r = run_cli("new", f"{stem}.toml", cwd=folder)
+        assert r.exit_code == 0, r.output
+        b = run_cli("build", f"{stem}.toml", "-o", "out", cwd=folder)
+        runs[stem] = b
+    return {"folder": folder, "runs": runs}
+
+
+def _starter_report(starters: dict, slug: str) -> dict:
+    return json.loads((starters["folder"] / "out" / f"{slug}.report.json").read_text())
+
+
+def test_starter_builds_cleanly_and_shows_the_headline_features(starters: dict) -> None:
+    folder = starters["folder"]
+    r = starters["runs"]["harbour-walk"]
+    assert r.exit_code == 0, r.output
+    report = _starter_report(starters, "harbour-walk")
+    assert report["title"] == "Harbour Walk"                       # titled from the file name
+    assert report["warnings"] == []                                # no warning, no error
+    t = report["chain"]["statements"][2]["transposition"]
+    assert t % 12, "statement 3 lies at the pitch classes of statement 1: the chain does not travel"
+    assert any(e["role"] == "approach" for e in report["events"])
+    assert report.get("layers"), "the starter shows a background layer"
+    assert (folder / "out" / "harbour-walk.svg").is_file()        # the preview
+
+    # music21 reads the score back: statement 3 starts on another pitch class than
+    # statement 1 (a travelling chain), and a chord symbol that is not in the framework
+    # (an approach chord) stands above the lead
+    score = folder / "out" / "harbour-walk.musicxml"
+    lead = _lead_notes(score)
+    starts = [s["start"] for s in report["chain"]["statements"]]
+    events = [e["lead"] for e in report["events"]]
+    assert lead == events
+    assert (lead[starts[2]] - lead[starts[0]]) % 12
+    project = tomllib.loads((folder / "harbour-walk.toml").read_text())
+    from music21 import harmony
+
+    framework = {(harmony.ChordSymbol(_m21_fig(tok.split(":")[0])).root().pitchClass,
+                  harmony.ChordSymbol(_m21_fig(tok.split(":")[0])).chordKind)
+                 for tok in project["harmony"]["framework"].replace("|", " ").split()}
+    assert set(_symbols(score)) - framework, "no approach chord symbol in the score"
+
+
+def _m21_fig(symbol: str) -> str:
+    """Our chord symbol as music21 reads it (flat roots with '-', as test_layers does)."""
+    if len(symbol) > 1 and symbol[1] == "b":
+        symbol = symbol[0] + "-" + symbol[2:]
+    return symbol
+
+
+def test_two_starters_in_one_folder_write_different_files(starters: dict) -> None:
+    out = starters["folder"] / "out"
+    files = {}
+    for stem, r in starters["runs"].items():
+        assert r.exit_code == 0, r.output
+        files[stem] = {ln.strip() for ln in r.stdout.splitlines() if ln.strip()}
+    a, b = files["harbour-walk"], files["second-take"]
+    assert a and b and not (a & b)
+    assert all((starters["folder"] / p).is_file() for p in a | b)
+    assert {p.name for p in out.iterdir()} >= {Path(p).name for p in a | b}
+
+
+def test_build_summary_counts_files_errors_warnings_and_says_where_the_report_is(
+        starters: dict) -> None:
+    r = starters["runs"]["harbour-walk"]
+    line = _summary(r.output)
+    files = [ln for ln in r.stdout.splitlines() if ln.strip()]
+    assert re.search(rf"\b{len(files)} files\b", line), line
+    assert re.search(r"\b0 errors, 0 warnings\b", line), line
+    m = re.search(r"report[: ]+(\S+\.report\.md)", line)
+    assert m and (starters["folder"] / m.group(1)).is_file(), line
+
+
 def test_build_summary_counts_apart_on_a_project_with_findings(tmp_path: Path) -> None:
     """A low trombone soli, extremes allowed: the summary's counts are the report's
     (severity "error" and "warning" counted apart)."""
@@ -172,7 +252,106 @@ allow_extreme = true
 # --------------------------------------------------------------- the glossary
 
 
+GLOSSARY_TERMS = ("RI", "statement", "overlap", "compass", "aggregate", "approach chord",
+                  "drop 2", "low-interval limit")
+
+
+def test_explain_lists_every_term_with_an_example_from_the_tools_own_output(
+        starters: dict) -> None:
+    r = run_cli("explain", "--json")
+    assert r.exit_code == 0, r.output
+    entries = json.loads(r.stdout)
+    terms = {e["term"].lower(): e for e in entries}
+    for term in GLOSSARY_TERMS:
+        assert term.lower() in terms, term
+    starter_report = (starters["folder"] / "out" / "harbour-walk.report.md").read_text()
+    for e in entries:
+        assert e["meaning"].strip() and e["example"].strip(), e
+        source = e["example_from"]
+        if source.startswith("arrange "):
+            out = run_cli(*shlex.split(source)[1:])
+            assert out.exit_code == 0, (source, out.output)
+            text = out.stdout
+        else:
+            assert source == "the starter's report (arrange new, then arrange build)", source
+            text = starter_report
+        lines = [ln.rstrip() for ln in text.splitlines()]
+        assert e["example"].rstrip() in lines, (e["term"], e["example"], source)
+
+
+def test_explain_one_term_and_a_wrong_one() -> None:
+    r = run_cli("explain", "drop 2")
+    assert r.exit_code == 0 and "drop 2" in r.output.lower()
+    assert "overlap" not in r.output.splitlines()[0].lower()
+    r2 = run_cli("explain", "drop2")                              # spelling without the space
+    assert r2.exit_code == 0 and r2.output == r.output
+    bad = run_cli("explain", "flugelbinding")
+    assert bad.exit_code == 2
+    assert len(bad.output.strip().splitlines()) == 1 and "flugelbinding" in bad.output
+    assert "overlap" in bad.output                               # says what is accepted
+
+
 # --------------------------------------------------------------- design: ranking and projects
+
+
+def _design(*args: str) -> dict:
+    r = run_cli("design", *args, "--json")
+    assert r.exit_code == 0, r.output
+    return json.loads(r.stdout)
+
+
+@pytest.mark.parametrize("args", [
+    ("-n", "4"),
+    ("-n", "5", "--steps", "1,2,3,4,5,7"),
+    ("-n", "4", "--from-key", "F major", "--to-key", "Ab major"),
+])
+def test_design_ranks_travelling_lines_within_a_lead_range_first(args: tuple[str, ...]) -> None:
+    """The rule: lines within two octaves (a section lead's working compass; common
+    practice, from memory) whose statement 3 lies at new pitch classes rank first."""
+    found = _design(*args, "--top", "10")
+    assert found["results"]
+    for res in found["results"]:
+        chain = res["chain"]
+        lo, hi = min(chain["pitches"]), max(chain["pitches"])
+        assert hi - lo <= 24, (res["names"], hi - lo)
+        assert chain["transposition"] % 12, (res["names"], "repeats without travelling")
+
+
+TRANSITIONS = [("F major", "Ab major"), ("C major", "D major"), ("Bb major", "Eb major"),
+               ("D minor", "F major"), ("G major", "E minor")]
+
+
+@pytest.mark.parametrize(("k1", "k2"), TRANSITIONS)
+def test_write_project_builds_cleanly_for_a_transition(tmp_path: Path, k1: str, k2: str) -> None:
+    proj = tmp_path / "t.toml"
+    r = run_cli("design", "-n", "4", "--from-key", k1, "--to-key", k2, "--top", "3",
+                "--write-project", str(proj))
+    assert r.exit_code == 0, r.output
+    data = tomllib.loads(proj.read_text())                         # tomllib reads it back
+    assert "lead_range" in data["chain"]
+    out = tmp_path / "out"
+    b = run_cli("build", str(proj), "-o", str(out))
+    assert b.exit_code == 0, b.output
+    report = json.loads(next(out.glob("*.report.json")).read_text())
+    assert _severities(report)[0] == 0, [w for w in report["warnings"] if w["severity"] == "error"]
+    assert list(out.glob("*.svg")), "no preview written"
+    lo, hi = report["section"]["parts"][0]["range"]
+    low, high = (int(x) for x in _midi(data["chain"]["lead_range"]))
+    assert lo <= low < high <= hi                                  # the section lead's range
+    lead = _lead_notes(next(out.glob("*.musicxml")))
+    assert all(low <= p <= high for p in lead)
+    # the new key is declared: its signature appears in the score (music21 key.Key)
+    sigs = _signatures(next(out.glob("*.musicxml")))
+    assert sigs[0] == _m21_key(k1).sharps
+    if _m21_key(k2).sharps != _m21_key(k1).sharps:
+        assert _m21_key(k2).sharps in sigs[1:], (sigs, k2)
+    assert report["keys"] and report["keys"][-1]["key"] == k2
+
+
+def _midi(names: list[str]) -> list[int]:
+    from music21 import pitch
+
+    return [pitch.Pitch(n.replace("b", "-") if len(n) > 2 else n).midi for n in names]
 
 
 # --------------------------------------------------------------- moving the whole project
@@ -251,6 +430,40 @@ def test_transpose_out_of_the_leads_range_is_refused(harbour: dict, tmp_path: Pa
     assert len(r.output.strip().splitlines()) == 1 and "--transpose" in r.output
     assert "range" in r.output                                    # says why: the lead's range
     assert not out.exists()
+
+
+def test_transpose_key_in_the_project_file_and_a_bad_value(harbour: dict, tmp_path: Path) -> None:
+    """``transpose = "G major"`` at the top of the file is ``--transpose -3`` for this demo
+    (nearest octave in range, music21 reads both scores); a word that is neither a key nor
+    a number of semitones exits 2 on one line, writing nothing."""
+    src = tmp_path / f"{HARBOUR}.toml"
+    src.write_text('transpose = "G major"\n' + harbour["src"].read_text())
+    out = tmp_path / "out"
+    r = run_cli("build", str(src), "-o", str(out), *FMTS)
+    assert r.exit_code == 0, r.output
+    base = _lead_notes(harbour["base"] / f"{HARBOUR}.musicxml")
+    assert _shift_of(base, _lead_notes(out / f"{HARBOUR}.musicxml")) == -3
+    bad = run_cli("build", str(harbour["src"]), "--transpose", "up a bit", "-o", str(tmp_path / "bad"))
+    assert bad.exit_code == 2 and len(bad.output.strip().splitlines()) == 1
+    assert "--transpose" in bad.output and "semitones" in bad.output
+    assert not (tmp_path / "bad").exists()
+
+
+def test_vary_takes_a_plain_word_for_a_list_of_one(tmp_path: Path) -> None:
+    src = tmp_path / "cue.toml"
+    assert run_cli("new", str(src)).exit_code == 0
+    out = tmp_path / "out"
+    r = run_cli("build", str(src), "--vary", "approach=chromatic,dominant", "-o", str(out),
+                "--formats", "report")
+    assert r.exit_code == 0, r.output
+    seen = {}
+    for folder in (p for p in out.iterdir() if p.is_dir()):
+        report = json.loads(next(folder.glob("*.report.json")).read_text())
+        techniques = {e["technique"] for e in report["events"] if e["role"] == "approach"}
+        seen[folder.name] = techniques
+    assert set(seen) == {"approach-chromatic", "approach-dominant"}
+    assert seen["approach-chromatic"] <= {"chromatic"} and seen["approach-chromatic"]
+    assert seen["approach-dominant"] <= {"dominant"}
 
 
 # --------------------------------------------------------------- README set-up

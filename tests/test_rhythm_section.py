@@ -319,3 +319,50 @@ def test_every_bass_style_keeps_the_chord_on_the_downbeat(tmp_path: Path, style:
             assert sounding[0].pitch % 12 in fc.chord.pitch_classes, (style, meter, fc)
     if style == "two-beat" and meter == "4/4":
         assert {n.onset % bar for n in notes} <= {0, 2}
+
+
+FORM = '''title = "Two Passages"
+tempo = 132
+key = "F major"
+
+[section]
+name = "trumpets-4"
+
+[[passages]]
+name = "A"
+melody = "C5:4 | [F6] A4:4. G4:8 F4:4 C5:4 | [Gm7] Bb4:4 A4:8 G4:8 [C7] E4:4 G4:4 | [F6] F4:1 |"
+
+[[passages]]
+name = "B"
+melody = "[Bb6] D5:2 C5:2 | [C7] Bb4:2 G4:2 | [F6] F4:1 |"
+
+[rhythm_section]
+parts = ["bass", "drums"]
+'''
+
+
+def test_fills_where_each_passage_of_a_form_ends(tmp_path: Path) -> None:
+    """Common practice: the drummer fills into each new section of a form."""
+    from arrange.build import run_pipeline, run_rhythm_section
+    from arrange.project import load_project
+
+    project = load_project(write_project(tmp_path, FORM))
+    voiced = run_pipeline(project)
+    rs = run_rhythm_section(project, voiced)
+    ends = {p.last_bar for p in voiced.harmonized.line.passages}
+    assert len(ends) == 2 and ends <= set(rs.drums.fills)
+
+
+def test_tutti_rules_carry_their_sources() -> None:
+    """Every layout and spacing rule of voicing_rules/tutti.toml says where it comes from."""
+    import tomllib
+
+    from arrange.voicing.sections import data_dir
+    from arrange.voicing.tutti_layouts import layouts, tutti_rules
+
+    data = tomllib.loads((data_dir() / "tutti.toml").read_text(encoding="utf-8"))
+    assert set(layouts()) == set(data["layouts"]) >= {"octaves", "middle"}
+    assert all(la.source in ("common practice", "from memory") for la in layouts().values())
+    assert tutti_rules().guide_tone_parts >= 1
+    for key in ("root_reach", "guide_tone_parts"):
+        assert data["rules"][f"source_{key}"] in ("common practice", "from memory")

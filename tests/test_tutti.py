@@ -143,3 +143,21 @@ def test_inline_tutti_and_bad_layout(tmp_path: Path) -> None:
     res = run_cli("build", str(write_project(tmp_path, bad, "bad.toml")), "-o", str(tmp_path / "b"))
     assert res.exit_code == 2 and "sideways" in res.output and "octaves" in res.output
     assert not (tmp_path / "b").exists()
+
+
+def test_the_big_band_demo_has_saxes_brass_and_a_written_rhythm_section(tmp_path: Path) -> None:
+    """Done when: the demo renders a big band (saxes, trumpets, trombones) with a part for
+    each rhythm player (music21 reads the score; the drum staff in a percussion clef)."""
+    from conftest import DEMOS
+    from music21 import clef, converter
+
+    res = run_cli("build", str(DEMOS / "foundry-shift-shout.toml"), "-o", str(tmp_path), "--formats", "musicxml")
+    assert res.exit_code == 0, res.output
+    score = converter.parse(str(tmp_path / "foundry-shift-shout.musicxml"))
+    names = [p.partName for p in score.parts]
+    assert {"Alto Sax 1", "Baritone Sax", "Trumpet 1", "Trombone 1", "Bass Trombone"} <= set(names)
+    assert names[-4:] == ["Guitar", "Piano", "Bass", "Drums"]
+    drums = score.parts[-1].flatten()
+    assert isinstance(drums.getElementsByClass(clef.Clef)[0], clef.PercussionClef)
+    for part in score.parts[-4:-1]:
+        assert part.flatten().notes, part.partName      # every rhythm player has a part to play

@@ -31,7 +31,8 @@ from arrange.chain.spec import DesignSpec, make_spec, parse_steps, tonic_chord
 from arrange.theory.pitch import pitch_name
 
 __all__ = ["DesignSpec", "make_spec", "parse_steps", "Found", "Design", "search", "meets",
-           "score_of", "space_size", "motif_at", "check_space", "estimate_seconds", "MAX_SECONDS", "why"]
+           "score_of", "space_size", "motif_at", "check_space", "estimate_seconds", "MAX_SECONDS", "why",
+           "ranking_of"]
 
 _TIERS = ("strict", "end on a note of the second key's scale", "any last note")
 
@@ -42,10 +43,24 @@ class Found:
     chain: Chain
     score: float
     why: str
+    in_range: bool = True      # the line lies within the lead's compass (spec.lead_span)
+    travels: bool = True       # statement 3 lies at new pitch classes
 
     def to_json(self) -> dict[str, object]:
         return {"motif": list(self.motif), "names": [pitch_name(p) for p in self.motif],
-                "chain": self.chain.to_json(), "score": self.score, "why": self.why}
+                "chain": self.chain.to_json(), "score": self.score, "why": self.why,
+                "in_range": self.in_range, "travels": self.travels}
+
+    def rank(self) -> tuple[bool, bool, float, tuple[int, ...]]:
+        """The ranking rule: within the lead's compass first, then travelling chains, then
+        the score (higher first), then the motif (lower first)."""
+        return (not self.in_range, not self.travels, -self.score, self.motif)
+
+
+def ranking_of(spec: DesignSpec, chain: Chain) -> tuple[bool, bool]:
+    """(in_range, travels) of one chain, in plain Python (the kernel's bonuses)."""
+    lo, hi = chain.span
+    return hi - lo <= spec.lead_span, chain.transposition % 12 != 0
 
 
 @dataclass(frozen=True, slots=True)
@@ -141,7 +156,11 @@ def meets(spec: DesignSpec, chain: Chain) -> int | None:
 def why(spec: DesignSpec, chain: Chain) -> str:
     score, mean, classes, even = score_of(chain.pitches)
     lo, hi = chain.span
-    parts = [f"mean step {mean:.2f} semitones (smoothness {max(0.0, 1 - mean / 12):.3f})",
+    in_range, travels = ranking_of(spec, chain)
+    parts = [("within" if in_range else "beyond") + f" a lead's {spec.lead_span}-semitone compass",
+             ("travels" if travels else "does not travel") + ": statement 3 at "
+             + ("new pitch classes" if travels else "the pitch classes of statement 1"),
+             f"mean step {mean:.2f} semitones (smoothness {max(0.0, 1 - mean / 12):.3f})",
              f"{classes} of 7 interval classes among {len(chain.pitches) - 1} steps "
              f"(evenness {even:.3f})",
              f"statement 3 at {chain.transposition:+d}", f"compass {chain.compass_after_two:+d}",
@@ -234,8 +253,9 @@ def search(spec: DesignSpec, top: int = 10, *, count_only: bool = False,
         got = meets(spec, chain)
         if got is None or got > chosen:   # the two searches disagree: a fault, not bad input
             raise RuntimeError(f"design search and chain disagree on motif {motif}")
-        found.append(Found(motif, chain, score_of(chain.pitches)[0], why(spec, chain)))
-    found.sort(key=lambda f: (-f.score, f.motif))
+        found.append(Found(motif, chain, score_of(chain.pitches)[0], why(spec, chain),
+                           *ranking_of(spec, chain)))
+    found.sort(key=Found.rank)
     return Design(spec, counts[chosen], total, tuple(found), tuple(relaxed))
 
 

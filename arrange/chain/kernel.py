@@ -86,7 +86,8 @@ def _line(spec: DesignSpec, motif: Cols) -> Cols:
 
 def screen(spec: DesignSpec, motif: Cols, gidx: np.ndarray, *, with_scores: bool = True
            ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Candidates that meet ``spec``: (global indices, end tiers, scores)."""
+    """Candidates that meet ``spec``: (global indices, end tiers, ranks).  A rank is the
+    score plus 2 for a line within ``spec.lead_span`` and 1 for a chain that travels."""
     n, o, k = spec.length, spec.overlap, spec.statements
     b = _Block({"gidx": gidx, "motif": motif, "stmt": motif})
     lo, hi = motif[0].copy(), motif[0].copy()
@@ -159,6 +160,7 @@ def screen(spec: DesignSpec, motif: Cols, gidx: np.ndarray, *, with_scores: bool
         if j == 3:
             alive3 = b.a.get("alive3", b.a["alive2"])
             t = np.where(alive3, nxt[0] - m0, 0)
+            b.a["t"] = t
             if spec.transposition is not None:
                 if spec.transposition_class:
                     m &= (t - spec.transposition) % 12 == 0
@@ -194,6 +196,12 @@ def screen(spec: DesignSpec, motif: Cols, gidx: np.ndarray, *, with_scores: bool
     else:
         tier = np.zeros(len(gidx), dtype=np.int64)
     sc = scores(_line(spec, b.a["motif"])) if with_scores else np.zeros(len(gidx))
+    if with_scores:
+        # the ranking rule (README): lines within the lead's compass first, then lines whose
+        # statement 3 travels to new pitch classes, then the score (in 0..1)
+        fits = (b.a["hi"] - b.a["lo"]) <= spec.lead_span
+        travels = b.a["t"] % 12 != 0
+        sc = sc + 2.0 * fits + 1.0 * travels
     return gidx, tier, sc
 
 

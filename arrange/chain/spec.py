@@ -21,6 +21,7 @@ LENGTHS = (2, 8)
 MAX_STATEMENTS = 64     # a longer chain adds nothing a search can rank
 MAX_STEP = 24           # two octaves either way
 MAX_SPACE = 10 ** 9     # candidates searched without --force
+LEAD_SPAN = 24          # a section lead's working compass, two octaves (common practice, from memory)
 
 
 def tonic_chord(key: Key) -> tuple[int, int, int]:
@@ -51,6 +52,7 @@ class DesignSpec:
     from_key: Key | None = None
     to_key: Key | None = None
     relaxed_start: str | None = None     # why the start note could not be a tonic-chord note
+    lead_span: int = LEAD_SPAN           # ranking: lines within this compass rank first
 
     @property
     def distance(self) -> int:

@@ -70,9 +70,11 @@ def _fill(t0: Fraction, bar: Fraction) -> list[DrumHit]:
 
 
 def _fill_bars(line: Line) -> list[int]:
-    """The passage's last bar, and the last bar of every statement four bars or longer
-    (a phrase end; shorter statements run on without a fill)."""
+    """The passage's last bar, the last bar of every passage of a form, and the last bar
+    of every statement four bars or longer (a phrase end; shorter statements run on
+    without a fill)."""
     out = {line.bars} if line.bars >= 1 else set()
+    out |= {p.last_bar for p in line.passages if 1 <= p.last_bar <= line.bars}
     for s in line.spans:
         if s.last_bar - s.first_bar + 1 >= 4 and s.last_bar >= 1:
             out.add(min(s.last_bar, line.bars))
