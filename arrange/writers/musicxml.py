@@ -76,7 +76,10 @@ def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, symbols_ivl:
     prev_chord = None
     for i, ve in enumerate(voiced.events):
         n = ve.event.note
-        first = staff.add_note(names[i], n.onset, n.duration, n.articulation, written=True)
+        # a held lead note cut at a chord change (harmony.split): every part keeping its
+        # pitch across the cut is tied, the others move (common practice)
+        tied = n.tied and i > 0 and voiced.events[i - 1].pitches[k] == ve.pitches[k]
+        first = staff.add_note(names[i], n.onset, n.duration, n.articulation, written=True, tied=tied)
         firsts.append(first)
         # a pickup on the chord of bar 1 takes no symbol of its own: the symbol stands over
         # bar 1, as lead sheets write it (common practice)
