@@ -318,3 +318,43 @@ def test_form_warnings_name_bars_in_the_forms_numbering(lantern: tuple[Path, dic
     later = [w for w in report["warnings"] if w["bar"] and w["bar"] >= report["passages"][1]["first_bar"]
              and re.search(r": lead ", w["message"])]
     assert named and later, "the demo no longer has a harmony warning in a later passage to check"
+
+
+@pytest.fixture(scope="module")
+def form_band(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, dict]:
+    """The three-passage form with a written rhythm section and part files."""
+    folder = tmp_path_factory.mktemp("form-band")
+    text = FORM.replace('dynamics = "f"\n', 'dynamics = "f"\nparts = true\n') + \
+        '\n[rhythm_section]\nparts = ["piano", "guitar", "bass", "drums"]\n'
+    p = write_project(folder, text)
+    r = run_cli("build", str(p), "-o", str(folder / "out"))
+    assert r.exit_code == 0, r.output
+    return folder / "out", json.loads((folder / "out" / "three-passages.report.json").read_text())
+
+
+def test_form_double_bars_in_every_part_and_files_validate(form_band: tuple[Path, dict], musicxml_schema) -> None:
+    """music21 reads a double bar line before each later passage in every part of the score,
+    the rhythm section's included (common practice of chart layout: a new section follows a
+    double bar), and a final bar line at the end; the score and every part file validate
+    against the MusicXML 4.0 XSD (the schema in the `musicxml` package)."""
+    from music21 import converter, stream
+
+    out, report = form_band
+    starts = [p["first_bar"] for p in report["passages"]][1:]
+    score_path = out / "three-passages.musicxml"
+    musicxml_schema.validate(str(score_path))                              # MusicXML 4.0 XSD
+    part_files = sorted(out.glob("three-passages.part*.musicxml"))
+    assert len(part_files) == 4 + 4 + 4                                    # trumpets, pad, rhythm
+    for f in part_files:
+        musicxml_schema.validate(str(f))                                   # MusicXML 4.0 XSD
+    score = converter.parse(str(score_path))
+    names = [p.partName for p in score.parts]
+    assert names[-4:] == ["Piano", "Guitar", "Bass", "Drums"] or set(names[-4:]) == {"Piano", "Guitar", "Bass", "Drums"}
+    for f in [score_path, *part_files]:
+        for part in converter.parse(str(f)).parts:
+            by_number = {m.number: m for m in part.getElementsByClass(stream.Measure)}
+            for b in starts:
+                bl = by_number[b - 1].rightBarline
+                assert bl is not None and bl.type == "double", (f.name, part.partName, b)
+            last = by_number[max(by_number)].rightBarline
+            assert last is not None and last.type == "final", (f.name, part.partName)
