@@ -35,7 +35,7 @@ from arrange.material import (
 )
 from arrange.rhythm.line import Line, PassageSpan, RhythmOptions, Segment, StatementSpan, lay_rhythm
 from arrange.rhythm.line import read_options as read_rhythm
-from arrange.rhythm.melody import CHAIN_ONLY, lay_melody
+from arrange.rhythm.melody import CHAIN_ONLY, lay_melody, phrase_starts
 from arrange.rhythm.meter import Meter, parse_meter
 from arrange.tables import Table
 from arrange.theory.keys import Key, parse_key
@@ -65,12 +65,13 @@ class Passage:
     layers: tuple[int, ...] | None = None        # the project's [[layers]] that play here (None: all)
     by_statement: tuple[tuple[int, str], ...] = ()    # its section table's plan, statements of the passage
     by_bar: tuple[tuple[int, int, str], ...] = ()     # ... and bars of the passage (1 = its first bar)
+    phrases: int = 1                             # a melody's phrases (its statements)
 
     @property
     def statements(self) -> int:
         m = self.material
         if isinstance(m, Melody):
-            return 1
+            return self.phrases
         return int(m.statements)
 
     @property
@@ -175,8 +176,9 @@ def read_passages(top: Table, where: str, base: Path | None, meter: Meter, key: 
         t.finish()
         if isinstance(material, Melody):
             check_lead_range(material, section, t.at("melody"))
+        phrases = len(phrase_starts(material, meter)) if isinstance(material, Melody) else 1
         out.append(Passage(i, name, material, pkey, rhythm, harmony, voicing, dyn, at, approach, layers,
-                           by_statement, by_bar))
+                           by_statement, by_bar, phrases))
         prev_key = pkey
     for p in out:
         if isinstance(p.material, DesignedChain) and (p.index == 1 or p.index == len(out)):
