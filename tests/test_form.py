@@ -421,3 +421,40 @@ def test_bad_passage_section(tmp_path: Path, entry: str, needle: str) -> None:
     assert len(errors) == 1 and "Traceback" not in r.output, r.output
     assert "passage 2" in errors[0] and needle in errors[0], errors[0]
     assert snapshot(tmp_path / "out") == {}
+
+
+def test_demo_chart_layout_read_by_music21(lantern: tuple[Path, dict]) -> None:
+    """The demo as a player reads it (music21 over the score): one continuous bar numbering
+    from the pickup, a rehearsal letter at each passage and nowhere else, a double bar before
+    each passage in every part, the key change (Bb to Db major) on the double bar of the last
+    A, and the turn's last P statement a minor third (the key distance, from music21's keys)
+    above its first statement, so it lands in the new key (common practice of chart layout)."""
+    from music21 import converter, expressions, stream
+    from music21 import key as m21key
+
+    out, report = lantern
+    score = converter.parse(str(out / "lantern-walk-soli.musicxml"))
+    starts = [p["first_bar"] for p in report["passages"]]
+    assert starts[0] == 1 and len(starts) == 5
+    for part in score.parts:
+        measures = list(part.getElementsByClass(stream.Measure))
+        assert [m.number for m in measures] == list(range(0, len(measures)))
+        by_number = {m.number: m for m in measures}
+        for b in starts[1:]:
+            bl = by_number[b - 1].rightBarline
+            assert bl is not None and bl.type == "double", (part.partName, b)
+    lead = list(score.parts[0].getElementsByClass(stream.Measure))
+    letters = {m.number: [r.content for r in m.getElementsByClass(expressions.RehearsalMark)] for m in lead}
+    assert {n: v for n, v in letters.items() if v} == {b: [chr(65 + k)] for k, b in enumerate(starts)}
+    sounding = score.parts[0].toSoundingPitch()
+    keys = [(m.number, ks.sharps) for m in sounding.getElementsByClass(stream.Measure)
+            for ks in m.getElementsByClass(m21key.KeySignature)]
+    assert keys == [(0, m21key.Key("B-").sharps), (starts[4], m21key.Key("D-").sharps)]
+    events = report["events"]
+    turn = [s for s in report["statements"] if s["notes"] and events[s["notes"][0]]["passage"] == 4]
+    last_p = [s for s in turn if s["form"] == "P"][-1]
+    distance = (m21key.Key("D-").tonic.pitchClass - m21key.Key("B-").tonic.pitchClass) % 12
+    assert (events[last_p["notes"][0]]["lead"] - events[turn[0]["notes"][0]]["lead"]) % 12 == distance
+    # the report says which passage and phrase each note belongs to
+    assert all(e["passage"] in range(1, 6) for e in events)
+    assert all((e["phrase"] is None) == (e["passage"] == 4) for e in events)
