@@ -15,30 +15,35 @@ __all__ = ["m21_figure", "harmony_parts", "chord_changes"]
 
 def chord_changes(events: Sequence[Any], framework: Sequence[Any]) -> list[tuple[Fraction, Chord]]:
     """(time, chord) of every chord symbol over the lead: each chord at the beat where it
-    starts (common practice of lead sheets and charts: a symbol marks a change of harmony,
-    not a melody note).  ``events`` are the harmony stage's events (a lead note with the
-    chord that sounds from its onset: approach chords start there), ``framework`` its
-    framework chords (``onset``, ``duration``, ``chord``).
+    starts sounding (common practice of lead sheets and charts: a symbol marks a change of
+    harmony, not a melody note).  ``events`` are the harmony stage's events (a lead note
+    with the chord that sounds from its onset: approach chords start there; a held note the
+    harmony stage cuts at a framework chord is an event of its own at that beat),
+    ``framework`` its framework chords (``onset``, ``duration``, ``chord``).
 
-    A framework chord whose beat no lead note starts on (the lead rests there, or holds a
-    note across it) takes its symbol at its own beat, named as the first lead note inside
-    it sounds it when that note keeps the chord's root (a sixth chord named maj7 for its
-    voicing); a note that starts on a beat names the chord there.  A pickup on the chord of
-    bar 1 takes no symbol of its own: the symbol stands over bar 1, as lead sheets write
-    it.  A symbol is written only where the name changes."""
-    starts = {e.note.onset for e in events}
+    A framework chord whose beat falls where the lead rests takes its symbol at its own beat
+    (the rhythm section and pads play it there), named as the first lead note inside it
+    sounds it when that note keeps the chord's root (a sixth chord named maj7 for its
+    voicing).  A pickup on the chord of bar 1 takes no symbol of its own: the symbol stands
+    over bar 1, as lead sheets write it.  A symbol is written only where the name changes."""
+    spans = [(e.note.onset, e.note.onset + e.note.duration) for e in events]
     first = framework[0] if framework else None
+
+    def pickup_on_first(e: Any) -> bool:
+        return e.note.onset < 0 and first is not None and e.role == "framework" and e.chord == first.chord
+
+    over_bar_1 = any(pickup_on_first(e) for e in events)
     rows: list[tuple[Fraction, int, Chord]] = []          # (time, 0 framework beat / 1 note, chord)
     for fc in framework:
-        if fc.onset in starts:
-            continue
+        if any(a <= fc.onset < b for a, b in spans) and not (fc is first and over_bar_1):
+            continue                                        # a lead note sounds: its chord is there
         inside = [e for e in events if fc.onset < e.note.onset < fc.onset + fc.duration]
         chord = fc.chord
         if inside and inside[0].role == "framework" and inside[0].chord.root == fc.chord.root:
             chord = inside[0].chord
         rows.append((fc.onset, 0, chord))
     for e in events:
-        if e.note.onset < 0 and first is not None and e.role == "framework" and e.chord == first.chord:
+        if pickup_on_first(e):
             continue
         rows.append((e.note.onset, 1, e.chord))
     rows.sort(key=lambda r: (r[0], r[1]))
