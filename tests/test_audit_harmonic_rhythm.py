@@ -309,10 +309,10 @@ def _build(name: str, text: str, root: Path) -> Built:
         fw = [(Fraction(f["onset"]).limit_denominator(96), f["chord"]) for f in report["framework"]]
     written = converter.parse(next(f for f in out.glob("*.musicxml") if ".part" not in f.name))
     n_lead = len(report["section"]["parts"])
-    symbols = []       # the score prints them at concert pitch (QUALITY.md), read as written
-    for cs in written.parts[0].flatten().getElementsByClass(harmony.ChordSymbol):
-        symbols.append((Fraction(cs.offset).limit_denominator(96) - pickup, cs))
     parts = list(written.toSoundingPitch().parts)
+    symbols = []       # written for the staff they stand over; music21 gives them at concert pitch
+    for cs in parts[0].flatten().getElementsByClass(harmony.ChordSymbol):
+        symbols.append((Fraction(cs.offset).limit_denominator(96) - pickup, cs))
     lead = parts[:n_lead]
     b = Built(name, data, report, pickup, fw, [_notes(p, pickup) for p in lead], symbols, folder=folder)
     b.score_note_counts = [len(x) for x in b.lead_parts]
