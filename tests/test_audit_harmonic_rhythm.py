@@ -441,6 +441,22 @@ def ref_triad(cs: Any) -> set[int]:
     return {root} | {(root + i) % 12 for i in third | {i for i in (6, 7, 8) if i in ivs}}
 
 
+def _root_rub_named(b: Built, li: int, t: Fraction, r: Ref) -> bool:
+    """report.json's pad chord sounding at ``t`` says why its root is not at the bottom: the
+    root (music21 reads the name) would rub against a lead note (a pad thins rather than
+    rubs, common practice)."""
+    from music21 import pitch
+
+    pads = [la for la in b.report.get("layers", []) if la["role"] == "pad"]
+    for n in pads[li]["notes"]:
+        on = Fraction(n["onset"]).limit_denominator(96)
+        if on <= t < on + Fraction(n["duration"]).limit_denominator(96):
+            for m in re.finditer(r"(?:root )?([A-G][#b]?) (?:off the bottom: it )?clashes with", n.get("why", "")):
+                if pitch.Pitch(m.group(1).replace("b", "-")).pitchClass == r.bass:
+                    return True
+    return False
+
+
 def pad_violations(b: Built) -> list[str]:
     """A pad's lowest note at each framework beat is the root (slash: the bass), unless the
     lead section already sounds the root below it."""
@@ -458,6 +474,9 @@ def pad_violations(b: Built) -> list[str]:
                 continue
             if _clash_named(b, t):       # the pad keeps clear of a lead clash the report names
                 NAMED.append(f"{b.name}: pad {li + 1} at {t}: lead clash named in the report")
+                continue
+            if _root_rub_named(b, li, t, r):
+                NAMED.append(f"{b.name}: pad {li + 1} at {t}: its root would rub, named in the report")
                 continue
             lead_low = [n.pitch for part in b.lead_parts if (n := _at(part, t)) is not None]
             if lead_low and min(lead_low) < low and min(lead_low) % 12 == r.bass:

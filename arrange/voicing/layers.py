@@ -335,13 +335,16 @@ def _voice_layer(harmonized: Harmonized, voiced: Voiced, layer: Layer) -> Voiced
         lead = tuple(sorted({q for _i, _w, p in snd for q in p}))
         P, R, c = candidates(chord, layer.section, lead)
         rc = root_costs(P, chord, snd)
-        c = c + cross_costs(P, [(w, p) for _i, w, p in snd], chord, R) + rc
+        c = c + cross_costs(P, [(w, p) for _i, w, p in snd], chord, R)
         # a pad thins rather than rubs, then states the chord from its root (or slash bass):
         # where a least-clashing candidate has the root at the bottom, only those stay, so
-        # voice motion never outweighs the root (common practice of background writing)
+        # voice motion never outweighs the root (common practice of background writing);
+        # where none has, the thinned chord's why names the root among the tones left out
         order = np.argsort(c, kind="stable")
-        rooted = (rc == 0) & _fewest_clashes(P, R, chord, onset, voiced, snd)
-        if rooted.any():
+        bass = chord.bass if chord.bass is not None else chord.root
+        fewest = _fewest_clashes(P, R, chord, snd)
+        rooted = (rc == 0) & fewest
+        if (fewest & (P.min(axis=1) % 12 == bass % 12)).any():
             # guide tones first, as ever: each one that rubs against no lead-section note of
             # the chord's time (a pad leaves a guide tone out only to avoid a clash)
             safe = tuple(g for g in tone_order(chord)[:2] if not any(rubs(g, q % 12, chord) for q in lead))
@@ -360,15 +363,14 @@ def _voice_layer(harmonized: Harmonized, voiced: Voiced, layer: Layer) -> Voiced
     return VoicedLayer(layer, tuple(notes), tuple(_findings(harmonized, voiced, layer, tuple(notes), sounding)))
 
 
-def _fewest_clashes(P: np.ndarray, R: np.ndarray, chord: Chord, onset: Fraction, voiced: Voiced,
+def _fewest_clashes(P: np.ndarray, R: np.ndarray, chord: Chord,
                     snd: list[tuple[int, float, tuple[int, ...]]]) -> np.ndarray:
     """The candidates with the fewest minor seconds / ninths against the lead-section notes
-    sounding at the chord's attack, where the chord is stated (later passing notes weigh
-    in the costs and are reported, as before)."""
+    sounding during the chord (a pad thins rather than rubs: its ``why`` then names the
+    tones it leaves out, the root among them, and the lead notes they would rub)."""
     count = np.zeros(len(P), dtype=np.int64)
-    for i, _w, pitches in snd:
-        if voiced.events[i].event.note.onset <= onset:
-            count += (clash_pairs(P, np.array(pitches, dtype=np.int64), chord) & ~R[:, :, None]).sum(axis=(1, 2))
+    for _i, _w, pitches in snd:
+        count += (clash_pairs(P, np.array(pitches, dtype=np.int64), chord) & ~R[:, :, None]).sum(axis=(1, 2))
     return count == count.min() if len(count) else count.astype(bool)
 
 
@@ -383,8 +385,8 @@ def _holds_guides(P: np.ndarray, R: np.ndarray, guides: tuple[int, ...]) -> np.n
 
 
 def root_costs(P: np.ndarray, chord: Chord, snd: list[tuple[int, float, tuple[int, ...]]]) -> np.ndarray:
-    """``root_bottom`` for each candidate whose lowest voice is not the chord's root (its
-    bass for a slash chord), unless the lead section's lowest note at the chord's start is
+    """``root_bottom`` (nonzero: the filter of ``_voice_layer`` leaves the row out) for each
+    candidate whose lowest voice is not the chord's root (its bass for a slash chord), unless the lead section's lowest note at the chord's start is
     that root, below it (common practice: a background states the chord from its root).
     A resting voice carries the pitch above it, so the row's minimum is its lowest
     sounding note."""
@@ -406,8 +408,17 @@ def _why(chord: Chord, row: tuple[int | None, ...], snd: list[tuple[int, float, 
     played = {p % 12 for p in row if p is not None}
     full = min(n, len(order))
     rests = [layer.section.parts[k].name for k, p in enumerate(row) if p is None]
+    bass = chord.bass if chord.bass is not None else chord.root
+    low = min(p for p in row if p is not None)
+    rooted = ""
+    if low % 12 != bass % 12:
+        against = sorted({(q % 12, voiced.section.parts[k].name) for _e, _w, ps in snd
+                          for k, q in enumerate(ps) if (q - bass) % 12 == 1})   # a half step above
+        if against:
+            rooted = (f"root {_pc_name(bass)} off the bottom: it clashes with the lead's "
+                      f"{_pc_name(against[0][0])} ({against[0][1]})")
     if len(played) >= full and not rests:
-        return ""
+        return rooted
     lead_parts = voiced.section.parts
     left = []
     for pc in order:
@@ -419,13 +430,13 @@ def _why(chord: Chord, row: tuple[int | None, ...], snd: list[tuple[int, float, 
             q, part = against[0]
             left.append(f"{_pc_name(pc)} clashes with the lead's {_pc_name(q)} ({part})")
     if not left and not rests:
-        return ""
+        return rooted
     out = "thinned: " + ("; ".join(left) if left else "fewer tones")
     if rests:
         out += "; " + ", ".join(rests) + (" rests" if len(rests) == 1 else " rest")
     elif len(played) < n:
         out += "; clash-free tones doubled in octaves"
-    return out
+    return out + (f"; {rooted}" if rooted and bass % 12 in played else "")
 
 
 def _findings(harmonized: Harmonized, voiced: Voiced, layer: Layer, notes: tuple[LayerNote, ...],
