@@ -314,3 +314,20 @@ def test_audit_catches_a_missing_third() -> None:
     assert _guide_tones(harmony.ChordSymbol("C6")) == {"3rd": 4, "7th": 9}
     assert _guide_tones(harmony.ChordSymbol("G7sus4")) == {"3rd": 0, "7th": 5}
     assert Path(__file__).is_file()
+
+
+def test_a_section_that_cannot_voice_the_line_stops_the_build(tmp_path: Path) -> None:
+    # bad input: four trumpets under a lead held at the bottom of the trumpet's range (music21:
+    # Trumpet lowestNote written F#3, sounding E3): no voicing fits; exit 2, one line naming
+    # the bar, the part and the note, and nothing written
+    text = _project("Too Low", "C major", "C6 | Dm7 G7 | C6", "trumpets-4", "close", "G3 A3 F3 G3",
+                    statements=2).replace("statements = 2", 'statements = 2\nlead_range = ["E3", "E4"]')
+    path = tmp_path / "low.toml"
+    path.write_text(text, encoding="utf-8")
+    out = tmp_path / "out"
+    res = run_cli("build", str(path), "-o", str(out))
+    assert res.exit_code == 2, res.output
+    line = res.output.strip().splitlines()[-1]
+    assert "Traceback" not in res.output
+    assert "bar 1" in line and "Trumpet" in line and "cannot play" in line and "extreme range" in line
+    assert not out.exists() or not any(out.iterdir())

@@ -38,13 +38,22 @@ def test_drop_shapes_hand_worked(vtype: str, expected: tuple[int, ...]) -> None:
 @pytest.mark.parametrize("symbol, lead, expected", [
     ("Cmaj7", 74, (74, 71, 67, 64)),   # 9 for the root: D5 B4 G4 E4
     ("G7", 76, (76, 71, 67, 65)),      # 13 for the fifth: E5 B4 G4 F4
-    ("Cm7", 77, (77, 72, 70, 67)),     # 11 for the third: F5 C5 Bb4 G4
+    ("Cm7", 77, (77, 75, 72, 70)),     # 11 for the fifth: F5 Eb5 C5 Bb4 (the third stays)
     ("C7", 70, (70, 67, 64, 60)),      # chord tones only: Bb4 G4 E4 C4
 ])
 def test_substitutions_hand_worked(symbol: str, lead: int, expected: tuple[int, ...]) -> None:
     found = [s for s, _c in structures(lead, parse_chord(symbol), "close", recipes())]
     assert expected in found
     assert all(s[0] == lead for s in found)
+
+
+def test_eleven_for_third_is_opt_in() -> None:
+    # the house option: the 11 in place of a minor chord's third, only when asked
+    cm7 = parse_chord("Cm7")
+    plain = [s for s, _c in structures(77, cm7, "close", recipes())]
+    assert all(any(p % 12 == 3 for p in s) for s in plain)          # Eb always sounds
+    asked = [s for s, _c in structures(77, cm7, "close", recipes(), frozenset({"eleven_for_third"}))]
+    assert (77, 72, 70, 67) in asked                                # F5 C5 Bb4 G4
 
 
 def _build(tmp_path: Path, section: str, voicing: str, extra: str = "", lead_range: str = '["F4", "F5"]',
