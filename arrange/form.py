@@ -12,6 +12,7 @@ bar before it.  The voicing stage and the layers then see one line.
 """
 from __future__ import annotations
 
+import re
 from collections.abc import Callable
 from dataclasses import dataclass, replace
 from fractions import Fraction
@@ -111,7 +112,7 @@ def read_passages(top: Table, where: str, base: Path | None, meter: Meter, key: 
         if t.has("meter"):
             theirs = parse_meter(t.string("meter"), where=t.at("meter"))
             if (theirs.numerator, theirs.denominator) != (meter.numerator, meter.denominator):
-                raise t.error("meter", f"passage {i} is in {theirs} but the form is in {meter}",
+                raise t.error("meter", f"passage {i} ({name!r}) is in {theirs} but the form is in {meter}",
                               f"{meter} (one meter for the whole form, so no passage starts or ends mid-bar)")
         kinds = [k for k in ("melody", "chain") if t.has(k)]
         if len(kinds) != 1:
@@ -125,7 +126,7 @@ def read_passages(top: Table, where: str, base: Path | None, meter: Meter, key: 
             if material.meter is not None:
                 theirs = parse_meter(material.meter, where=t.at("melody"))
                 if (theirs.numerator, theirs.denominator) != (meter.numerator, meter.denominator):
-                    raise t.error("melody", f"passage {i}'s melody file {material.source!r} is in "
+                    raise t.error("melody", f"passage {i} ({name!r}): its melody file {material.source!r} is in "
                                   f"{material.meter} but the form is in {meter}",
                                   f"a melody in {meter} (one meter for the whole form, so no passage "
                                   "starts or ends mid-bar)")
@@ -283,6 +284,7 @@ def run_form(project: Any) -> tuple[Harmonized, VoicingOptions]:
         after = passages[k + 1] if k + 1 < len(passages) else None
         before = built[-1][1] if built else None
         line, options, design, about = _passage_line(p, project.meter, project.section, before, after)
+        _check_framework(p, line, options)
         h = harmonize(line, p.key, options, where=f"{p.where} harmony")
         built.append((p, h, design, about))
     joined = join(built, project.meter)
@@ -292,6 +294,25 @@ def run_form(project: Any) -> tuple[Harmonized, VoicingOptions]:
                          if (v := built[k][0].voicing) is not None)
     base: VoicingOptions = project.voicing
     return joined, replace(base, by_statement=by_statement + base.by_statement)
+
+
+def _label(p: Passage) -> str:
+    return f"passage {p.index} ({p.name!r})"
+
+
+def _check_framework(p: Passage, line: Line, options: HarmonyOptions) -> None:
+    """A passage's own framework must fit its material: as many bars as the passage fills,
+    or a number of bars that repeats whole over them.  Longer, chords would never sound;
+    cut mid-way, the changes would restart mid-tune.  (A single project still repeats its
+    framework over any chain, as before.)"""
+    n = len(options.framework)
+    if not n or n == line.bars or (n < line.bars and line.bars % n == 0):
+        return
+    plural = "s" if line.bars != 1 else ""
+    raise ProjectError(f"{_label(p)}: its framework has {n} bars but its material fills {line.bars} bar{plural}",
+                       where=f"{p.where}, key 'harmony.framework'",
+                       accepted=f"{line.bars} bar{plural} of chords (or a number that divides {line.bars}), "
+                                "or none with a melody file (its own changes)")
 
 
 def _passage_notes(h: Harmonized) -> list[tuple[int, Any]]:
@@ -342,7 +363,7 @@ def join(built: list[tuple[Passage, Harmonized, tuple[tuple[str, float, str], ..
             notes.append(note)
             events.append(replace(ev, note=note))
         framework += [replace(fc, bar=fc.bar + bars_before, onset=fc.onset + off) for fc in h.framework]
-        warnings += [(kind, None if e is None else e + base, msg) for kind, e, msg in h.warnings]
+        warnings += [(kind, None if e is None else e + base, _renumber(msg, bars_before)) for kind, e, msg in h.warnings]
         if p.key != current_key:
             keys.append((bars_before + 1, p.key))
             current_key = p.key
@@ -364,6 +385,15 @@ def join(built: list[tuple[Passage, Harmonized, tuple[tuple[str, float, str], ..
     events = [replace(ev, note=joined.notes[i]) for i, ev in enumerate(events)]
     return Harmonized(joined, built[0][1].key, tuple(framework), tuple(events), tuple(warnings),
                       tuple(sorted(keys, key=lambda x: x[0])))
+
+
+_BAR = re.compile(r"\bbar (\d+)\b")
+
+
+def _renumber(message: str, bars_before: int) -> str:
+    """A passage's warning names its bars in the passage's own count; the form's one
+    numbering is that plus the bars of the passages before it."""
+    return _BAR.sub(lambda m: f"bar {int(m.group(1)) + bars_before}", message) if bars_before else message
 
 
 def _hold(events: list[Any], notes: list[Any], end: Fraction) -> None:

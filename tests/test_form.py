@@ -250,3 +250,111 @@ def test_demo_aaba_tune_as_sax_soli_with_pad_and_turn(lantern: tuple[Path, dict]
                for ks in m.getElementsByClass(key.KeySignature)]
     assert changes == [(0, -2), (report["passages"][4]["first_bar"], -5)]
     assert len(score.parts) == 9                                   # five saxophones, four trombones
+
+
+# A passage whose framework does not fit its material: "Theme up" has a pickup and three
+# bars; a framework of two or five bars would cut its changes mid-way or leave chords that
+# never sound.  Exit 2, one line naming the passage by number and name, nothing written.
+FRAMEWORK_BAD = [
+    ("longer", "Ab6 | Bbm7 Eb7 | Ab6 | Db6 | Ab6", "5 bars"),
+    ("cut", "Ab6 | Bbm7 Eb7", "2 bars"),
+]
+
+
+@pytest.mark.parametrize(("what", "framework", "needle"), FRAMEWORK_BAD, ids=[b[0] for b in FRAMEWORK_BAD])
+def test_passage_framework_that_does_not_fit_is_refused(tmp_path: Path, what: str, framework: str,
+                                                        needle: str) -> None:
+    text = FORM.replace('voicing = "spread"\n',
+                        f'voicing = "spread"\nharmony = {{ framework = "{framework}" }}\n')
+    p = write_project(tmp_path, text)
+    r = run_cli("build", str(p), "-o", str(tmp_path / "out"))
+    assert r.exit_code == 2, (what, r.output)
+    assert "Traceback" not in r.output
+    errors = [x for x in r.output.splitlines() if x.startswith("arrange: error")]
+    assert len(errors) == 1 and not errors[0].endswith("..."), r.output      # one whole line
+    line = errors[0]
+    assert "passage 3" in line and "Theme up" in line and needle in line and "3 bars" in line, line
+    assert snapshot(tmp_path / "out") == {}
+
+
+def test_passage_framework_that_fits_or_repeats_whole_builds(tmp_path: Path) -> None:
+    """Three bars for three bars: accepted; music21 reads the passage's own Fm7 above its
+    second bar (chord symbols at concert pitch in the score)."""
+    from music21 import harmony
+
+    text = FORM.replace('voicing = "spread"\n', 'voicing = "spread"\nharmony = { framework = "Ab6 | Fm7 | Ab6" }\n')
+    p = write_project(tmp_path, text)
+    r = run_cli("build", str(p), "-o", str(tmp_path / "out"))
+    assert r.exit_code == 0, r.output
+    report = json.loads((tmp_path / "out" / "three-passages.report.json").read_text())
+    first = report["passages"][2]["first_bar"]
+    _score, measures = _measures(tmp_path / "out" / "three-passages.musicxml")
+    second = next(m for m in measures if m.number == first + 1)
+    assert "Fm7" in [h.figure for h in second.getElementsByClass(harmony.ChordSymbol)]
+
+
+def test_form_warnings_name_bars_in_the_forms_numbering(lantern: tuple[Path, dict]) -> None:
+    """Every warning whose message names a bar names the bar of the score (the form's one
+    numbering, which the `bar` field holds), and a harmony warning's lead note is in that bar
+    of the lead part as music21 reads it (sounding pitch)."""
+    import re
+
+    from music21 import converter, stream
+
+    out, report = lantern
+    lead = converter.parse(str(out / "lantern-walk-soli.musicxml")).parts[0].toSoundingPitch()
+    by_number = {m.number: m for m in lead.getElementsByClass(stream.Measure)}
+    named = 0
+    for w in report["warnings"]:
+        m = re.search(r"\bbar (\d+)\b", w["message"])
+        if m is None:
+            continue
+        named += 1
+        assert int(m.group(1)) == w["bar"], w
+        lead_note = re.search(r": lead ([A-G][#b]?) ", w["message"])
+        if lead_note:
+            names = {n.pitch.name.replace("-", "b") for n in by_number[w["bar"]].notes if n.isNote}
+            assert lead_note.group(1) in names, (w, names)
+    later = [w for w in report["warnings"] if w["bar"] and w["bar"] >= report["passages"][1]["first_bar"]
+             and re.search(r": lead ", w["message"])]
+    assert named and later, "the demo no longer has a harmony warning in a later passage to check"
+
+
+@pytest.fixture(scope="module")
+def form_band(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, dict]:
+    """The three-passage form with a written rhythm section and part files."""
+    folder = tmp_path_factory.mktemp("form-band")
+    text = FORM.replace('dynamics = "f"\n', 'dynamics = "f"\nparts = true\n') + \
+        '\n[rhythm_section]\nparts = ["piano", "guitar", "bass", "drums"]\n'
+    p = write_project(folder, text)
+    r = run_cli("build", str(p), "-o", str(folder / "out"))
+    assert r.exit_code == 0, r.output
+    return folder / "out", json.loads((folder / "out" / "three-passages.report.json").read_text())
+
+
+def test_form_double_bars_in_every_part_and_files_validate(form_band: tuple[Path, dict], musicxml_schema) -> None:
+    """music21 reads a double bar line before each later passage in every part of the score,
+    the rhythm section's included (common practice of chart layout: a new section follows a
+    double bar), and a final bar line at the end; the score and every part file validate
+    against the MusicXML 4.0 XSD (the schema in the `musicxml` package)."""
+    from music21 import converter, stream
+
+    out, report = form_band
+    starts = [p["first_bar"] for p in report["passages"]][1:]
+    score_path = out / "three-passages.musicxml"
+    musicxml_schema.validate(str(score_path))                              # MusicXML 4.0 XSD
+    part_files = sorted(out.glob("three-passages.part*.musicxml"))
+    assert len(part_files) == 4 + 4 + 4                                    # trumpets, pad, rhythm
+    for f in part_files:
+        musicxml_schema.validate(str(f))                                   # MusicXML 4.0 XSD
+    score = converter.parse(str(score_path))
+    names = [p.partName for p in score.parts]
+    assert names[-4:] == ["Piano", "Guitar", "Bass", "Drums"] or set(names[-4:]) == {"Piano", "Guitar", "Bass", "Drums"}
+    for f in [score_path, *part_files]:
+        for part in converter.parse(str(f)).parts:
+            by_number = {m.number: m for m in part.getElementsByClass(stream.Measure)}
+            for b in starts:
+                bl = by_number[b - 1].rightBarline
+                assert bl is not None and bl.type == "double", (f.name, part.partName, b)
+            last = by_number[max(by_number)].rightBarline
+            assert last is not None and last.type == "final", (f.name, part.partName)

@@ -111,7 +111,12 @@ class _Measures:
     def start(self, measure: int) -> Fraction:
         return (measure - (1 if self.pickup else 0)) * self.bar
 
-    def finish(self) -> None:
+    def finish(self, sections: set[int] | frozenset[int] = frozenset()) -> None:
+        """Bar lines: a double bar before each measure in ``sections`` (a new passage or key,
+        as the lead's staves write it; common practice), a final bar line at the end."""
+        for k in sorted(sections):
+            if 0 < k < len(self.measures):
+                _sub(_sub(self.measures[k - 1], "barline", location="right"), "bar-style", "light-light")
         last = self.measures[-1]
         bl = _sub(last, "barline", location="right")
         _sub(bl, "bar-style", "light-heavy")
@@ -379,17 +384,20 @@ def rhythm_part_elements(rs: RhythmSection, harmonized: Harmonized,
         fifths = None if part == "drums" else written_key(harmonized.key).fifths   # the one signature rule
         _attributes(ms.measures[0], _CLEFS[part], fifths, str(meter),
                     transpose_octave=-1 if part == "bass" else 0)
+        sections = {ms.index((p.first_bar - 1) * rs.bar) for p in line.passages[1:]}
         for bar, key in harmonized.keys:
-            if bar > 1 and part != "drums":
-                m = ms.measures[ms.index((bar - 1) * rs.bar)]
-                _attributes_first(m, key.fifths)
+            if bar > 1:
+                sections.add(ms.index((bar - 1) * rs.bar))
+                if part != "drums":
+                    m = ms.measures[ms.index((bar - 1) * rs.bar)]
+                    _attributes_first(m, written_key(key).fifths)      # the one signature rule
         if part in ("piano", "guitar"):
             _comp_part(ms, rs, meter, part)
         elif part == "bass":
             _bass_part(ms, rs, meter)
         else:
             _drum_part(ms, rs, meter)
-        ms.finish()
+        ms.finish(sections)
         out.append((sp, el))
     return out
 
