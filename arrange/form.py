@@ -35,7 +35,7 @@ from arrange.material import (
 )
 from arrange.rhythm.line import Line, PassageSpan, RhythmOptions, Segment, StatementSpan, lay_rhythm
 from arrange.rhythm.line import read_options as read_rhythm
-from arrange.rhythm.melody import CHAIN_ONLY, lay_melody
+from arrange.rhythm.melody import CHAIN_ONLY, lay_melody, phrase_starts
 from arrange.rhythm.meter import Meter, parse_meter
 from arrange.tables import Table
 from arrange.theory.keys import Key, parse_key
@@ -63,12 +63,15 @@ class Passage:
     where: str
     approach: tuple[str, ...] | None = None      # a designed chain's approach techniques
     layers: tuple[int, ...] | None = None        # the project's [[layers]] that play here (None: all)
+    by_statement: tuple[tuple[int, str], ...] = ()    # its section table's plan, statements of the passage
+    by_bar: tuple[tuple[int, int, str], ...] = ()     # ... and bars of the passage (1 = its first bar)
+    phrases: int = 1                             # a melody's phrases (its statements)
 
     @property
     def statements(self) -> int:
         m = self.material
         if isinstance(m, Melody):
-            return 1
+            return self.phrases
         return int(m.statements)
 
     @property
@@ -167,12 +170,15 @@ def read_passages(top: Table, where: str, base: Path | None, meter: Meter, key: 
         else:
             harmony = read_harmony(h_table)
         voicing = t.string("voicing", None, choices=VOICINGS) if t.has("voicing") else None
+        voicing, by_statement, by_bar = _section_plan(t, section, i, name, voicing)
         dyn = _dynamics(t, dynamics)
         layers = _layers(t, layer_count)
         t.finish()
         if isinstance(material, Melody):
             check_lead_range(material, section, t.at("melody"))
-        out.append(Passage(i, name, material, pkey, rhythm, harmony, voicing, dyn, at, approach, layers))
+        phrases = len(phrase_starts(material, meter)) if isinstance(material, Melody) else 1
+        out.append(Passage(i, name, material, pkey, rhythm, harmony, voicing, dyn, at, approach, layers,
+                           by_statement, by_bar, phrases))
         prev_key = pkey
     for p in out:
         if isinstance(p.material, DesignedChain) and (p.index == 1 or p.index == len(out)):
@@ -181,6 +187,61 @@ def read_passages(top: Table, where: str, base: Path | None, meter: Meter, key: 
                                accepted="a designed chain between two passages: it carries the line from "
                                         "the one before into the key of the one after")
     return tuple(out)
+
+
+_PLAN_KEYS = ("name", "voicing", "by_statement", "by_bar")
+
+
+def _section_plan(t: Table, section: Section, i: int, name: str, voicing: str | None
+                  ) -> tuple[str | None, tuple[tuple[int, str], ...], tuple[tuple[int, int, str], ...]]:
+    """A passage's ``section = { voicing = ..., by_statement = {...}, by_bar = {...} }``: its
+    voicing plan, statements and bars counted inside the passage.  ``name`` may only repeat the
+    project's section: the section's staves run through the whole chart."""
+    from arrange.checked import whole
+
+    if not t.has("section"):
+        return voicing, (), ()
+    raw = t.raw("section")
+    label = f"passage {i} ({name!r})"
+    if not isinstance(raw, dict):
+        raise t.error("section", f"{label}: {raw!r} is not a table",
+                      "section = { voicing = \"drop2\", by_statement = { 2 = \"spread\" }, by_bar = { \"3-4\" = \"close\" } }")
+    unknown = [k for k in raw if k not in _PLAN_KEYS]
+    if unknown:
+        raise t.error("section", f"{label}: key {str(unknown[0])[:40]!r} is not a passage's section key",
+                      "name (the project's section), voicing, by_statement, by_bar; the section and "
+                      "allow_extreme are the project's [section]")
+    if "name" in raw and raw["name"] != section.name:
+        raise t.error("section", f"{label} names section {str(raw['name'])[:40]!r} but the project's is "
+                      f"{section.name!r}", f"one section for the whole form ({section.name!r}, its staves run "
+                      "through the chart): give the passage a voicing plan here, or a [[layers]] section for "
+                      "other instruments")
+    if "voicing" in raw:
+        if voicing is not None:
+            raise t.error("section", f"{label} gives both voicing and section.voicing", "one of them")
+        v = raw["voicing"]
+        if v not in VOICINGS:
+            raise t.error("section", f"{label}: voicing {str(v)[:40]!r} is not known", ", ".join(VOICINGS))
+        voicing = v
+    plans = []
+    for key in ("by_statement", "by_bar"):
+        table = raw.get(key, {})
+        if not isinstance(table, dict):
+            raise t.error("section", f"{label}: {key} = {table!r}", f"{key} = {{ 2 = \"spread\" }}")
+        entries = []
+        for k, v in table.items():
+            if v not in VOICINGS:
+                raise t.error("section", f"{label}: {key} voicing {str(v)[:40]!r} is not known", ", ".join(VOICINGS))
+            text = str(k)
+            lo_t, _, hi_t = text.partition("-") if key == "by_bar" else (text, "", "")
+            lo, hi = whole(lo_t.strip()), whole(hi_t.strip()) if hi_t else whole(lo_t.strip())
+            if lo is None or hi is None or lo < 1 or hi < lo:
+                raise t.error("section", f"{label}: {key} key {text[:40]!r}",
+                              "statement numbers 1, 2, ... of the passage" if key == "by_statement"
+                              else "bars of the passage: \"2\" or \"2-4\" (1 = its first bar)")
+            entries.append((lo, hi, v))
+        plans.append(sorted(entries))
+    return voicing, tuple((lo, v) for lo, _hi, v in plans[0]), tuple(plans[1])
 
 
 def _layers(t: Table, count: int) -> tuple[int, ...] | None:
@@ -288,12 +349,29 @@ def run_form(project: Any) -> tuple[Harmonized, VoicingOptions]:
         h = harmonize(line, p.key, options, where=f"{p.where} harmony")
         built.append((p, h, design, about))
     joined = join(built, project.meter)
-    # a passage's voicing type goes to its statements (its pickup included)
+    # a passage's voicing type and plan go to its statements (its pickup included) and bars,
+    # counted through the form
     passage_of = {n.statement: k for k, n in _passage_notes(joined)}
-    by_statement = tuple((s, v) for s, k in sorted(passage_of.items())
-                         if (v := built[k][0].voicing) is not None)
+    by_statement: list[tuple[int, str]] = [(s, v) for s, k in sorted(passage_of.items())
+                                           if (v := built[k][0].voicing) is not None]
+    by_bar: list[tuple[int, int, str]] = []
+    for k, (p, _h, _d, _a) in enumerate(built):
+        own = [s for s, j in sorted(passage_of.items()) if j == k]
+        span = joined.line.passages[k]
+        bars = span.last_bar - span.first_bar + 1
+        for s, v in p.by_statement:
+            if s > len(own):
+                raise ProjectError(f"{_label(p)}: section.by_statement names statement {s}", where=p.where,
+                                   accepted=f"statements 1 to {len(own)} of this passage")
+            by_statement.append((own[s - 1], v))
+        for lo, hi, v in p.by_bar:
+            if hi > bars:
+                raise ProjectError(f"{_label(p)}: section.by_bar names bar {hi}", where=p.where,
+                                   accepted=f"bars 1 to {bars} of this passage (1 = its first bar)")
+            by_bar.append((lo + span.first_bar - 1, hi + span.first_bar - 1, v))
     base: VoicingOptions = project.voicing
-    return joined, replace(base, by_statement=by_statement + base.by_statement)
+    return joined, replace(base, by_statement=tuple(by_statement) + base.by_statement,
+                           by_bar=tuple(by_bar) + base.by_bar)
 
 
 def _label(p: Passage) -> str:

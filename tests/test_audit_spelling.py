@@ -235,12 +235,15 @@ def built(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Built]:
         parts = _score_parts(report)
         for extra in list(score.parts)[len(parts):]:     # the rhythm section's parts: not voiced here
             score.remove(extra)
+        sounding = score.toSoundingPitch(inPlace=False)
+        # the symbols at concert pitch: over a transposed staff they are written for it
+        # (a reader's toSoundingPitch gives the concert symbol back)
         chords = [(float(cs.offset), cs) for cs in
-                  score.parts[0].flatten().getElementsByClass(harmony.ChordSymbol)]
+                  sounding.parts[0].flatten().getElementsByClass(harmony.ChordSymbol)]
         b = Built(name, o, "concert_score = true" in text, report,
                   (o / f"{stem}.report.md").read_text(encoding="utf-8"), score,
-                  score.toSoundingPitch(inPlace=False), parts,
-                  sorted(o.glob(f"{stem}.part*.musicxml"))[:len(parts)], keys, chords)
+                  sounding, parts,
+                  sorted((o / f"{stem}-parts").glob("part*.musicxml"))[:len(parts)], keys, chords)
         for k, f in enumerate(b.part_files):
             w = converter.parse(str(f))
             b.files.append((f.name, k, w, w.toSoundingPitch(inPlace=False)))
@@ -618,7 +621,7 @@ def test_seven_alt_is_accepted_and_voiced_from_the_altered_scale(tmp_path: Path)
     assert 'text="7alt"' in xml
     score = converter.parse(str(tmp_path / "out" / "altered.musicxml"))
     sounding = score.toSoundingPitch(inPlace=False)
-    symbols = list(score.parts[0].flatten().getElementsByClass(harmony.ChordSymbol))
+    symbols = list(sounding.parts[0].flatten().getElementsByClass(harmony.ChordSymbol))
     alts = [cs for cs in symbols if cs.root().name in ("D", "C") and cs.chordKind == "dominant-seventh"]
     assert alts
     for cs in alts:

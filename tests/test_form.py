@@ -283,7 +283,7 @@ def test_passage_framework_that_does_not_fit_is_refused(tmp_path: Path, what: st
 
 def test_passage_framework_that_fits_or_repeats_whole_builds(tmp_path: Path) -> None:
     """Three bars for three bars: accepted; music21 reads the passage's own Fm7 above its
-    second bar (chord symbols at concert pitch in the score)."""
+    second bar (at sounding pitch: the score's symbols are written for their staff)."""
     from music21 import harmony
 
     text = FORM.replace('voicing = "spread"\n', 'voicing = "spread"\nharmony = { framework = "Ab6 | Fm7 | Ab6" }\n')
@@ -292,7 +292,10 @@ def test_passage_framework_that_fits_or_repeats_whole_builds(tmp_path: Path) -> 
     assert r.exit_code == 0, r.output
     report = json.loads((tmp_path / "out" / "three-passages.report.json").read_text())
     first = report["passages"][2]["first_bar"]
-    _score, measures = _measures(tmp_path / "out" / "three-passages.musicxml")
+    from music21 import converter, stream
+
+    sounding = converter.parse(str(tmp_path / "out" / "three-passages.musicxml")).toSoundingPitch()
+    measures = list(sounding.parts[0].getElementsByClass(stream.Measure))
     second = next(m for m in measures if m.number == first + 1)
     assert "Fm7" in [h.figure for h in second.getElementsByClass(harmony.ChordSymbol)]
 
@@ -347,7 +350,7 @@ def test_form_double_bars_in_every_part_and_files_validate(form_band: tuple[Path
     starts = [p["first_bar"] for p in report["passages"]][1:]
     score_path = out / "three-passages.musicxml"
     musicxml_schema.validate(str(score_path))                              # MusicXML 4.0 XSD
-    part_files = sorted(out.glob("three-passages.part*.musicxml"))
+    part_files = sorted((out / "three-passages-parts").glob("part*.musicxml"))
     assert len(part_files) == 4 + 4 + 4                                    # trumpets, pad, rhythm
     for f in part_files:
         musicxml_schema.validate(str(f))                                   # MusicXML 4.0 XSD
@@ -362,3 +365,103 @@ def test_form_double_bars_in_every_part_and_files_validate(form_band: tuple[Path
                 assert bl is not None and bl.type == "double", (f.name, part.partName, b)
             last = by_number[max(by_number)].rightBarline
             assert last is not None and last.type == "final", (f.name, part.partName)
+
+
+def _voicing_spans(out: Path, report: dict, events: list[int], parts: int) -> list[int]:
+    """Per lead attack in ``events``: the span in semitones from the top part to the lowest
+    of the section's ``parts`` sounding with it, read by music21 at sounding pitch."""
+    from music21 import converter, stream
+
+    score = converter.parse(str(out / "three-passages.musicxml"))
+    staves = [p.toSoundingPitch() for p in score.parts[:parts]]
+    measures = [{m.number: m for m in s.getElementsByClass(stream.Measure)} for s in staves]
+    spans = []
+    for i in events:
+        e = report["events"][i]
+        at = (e["beat"] - 1)                     # quarter notes into the bar (4/4)
+        pitches = []
+        for ms in measures:
+            m = ms[e["bar"]]
+            start = at - (m.paddingLeft or 0)           # a pickup bar counts from its first note
+            sounding = [n for n in m.notes if n.isNote and n.offset <= start < n.offset + n.quarterLength]
+            pitches += [n.pitch.midi for n in sounding]
+        spans.append(max(pitches) - min(pitches))
+    return spans
+
+
+def test_each_passage_has_its_own_voicing_plan(tmp_path: Path) -> None:
+    """A passage's `section` table gives its voicing plan, with statements and bars counted
+    inside the passage.  Read back with music21: close position stays within an octave under
+    the lead; drop 2 and spread open wider than an octave (common practice of section
+    voicing, as QUALITY.md states it)."""
+    text = FORM.replace('name = "Theme"\n', 'name = "Theme"\nsection = { name = "trumpets-4", by_bar = { "2" = "drop2" } }\n') \
+        .replace('name = "Turn"\n', 'name = "Turn"\nsection = { voicing = "close", by_statement = { 2 = "spread" } }\n')
+    p = write_project(tmp_path, text)
+    r = run_cli("build", str(p), "-o", str(tmp_path / "out"))
+    assert r.exit_code == 0, r.output
+    report = json.loads((tmp_path / "out" / "three-passages.report.json").read_text())
+    events = report["events"]
+    theme_second_bar = [i for i, e in enumerate(events) if e["passage"] == 1 and e["bar"] == 2]
+    theme_other = [i for i, e in enumerate(events) if e["passage"] == 1 and e["bar"] != 2]
+    turn = [s for s in report["statements"] if s["notes"] and events[s["notes"][0]]["passage"] == 2]
+    spread = turn[1]["notes"]
+    close = turn[0]["notes"] + turn[2]["notes"] + turn[3]["notes"]
+    out = tmp_path / "out"
+    assert all(s > 12 for s in _voicing_spans(out, report, theme_second_bar, 4))
+    assert all(s <= 12 for s in _voicing_spans(out, report, theme_other, 4))
+    assert all(s > 12 for s in _voicing_spans(out, report, spread, 4))
+    assert all(s <= 12 for s in _voicing_spans(out, report, close, 4))
+
+
+@pytest.mark.parametrize(("entry", "needle"), [
+    ('section = { name = "saxes-5" }', "one section for the whole form"),
+    ('section = { by_statement = { 5 = "spread" } }', "statements 1 to 4"),
+    ('section = { by_bar = { "9" = "drop2" } }', "bars 1 to"),
+    ('section = { allow_extreme = true }', "allow_extreme"),
+], ids=["other section", "statement past", "bar past", "project key"])
+def test_bad_passage_section(tmp_path: Path, entry: str, needle: str) -> None:
+    text = FORM.replace('name = "Turn"\n', f'name = "Turn"\n{entry}\n')
+    p = write_project(tmp_path, text)
+    r = run_cli("build", str(p), "-o", str(tmp_path / "out"))
+    assert r.exit_code == 2, r.output
+    errors = [x for x in r.output.splitlines() if x.startswith("arrange: error")]
+    assert len(errors) == 1 and "Traceback" not in r.output, r.output
+    assert "passage 2" in errors[0] and needle in errors[0], errors[0]
+    assert snapshot(tmp_path / "out") == {}
+
+
+def test_demo_chart_layout_read_by_music21(lantern: tuple[Path, dict]) -> None:
+    """The demo as a player reads it (music21 over the score): one continuous bar numbering
+    from the pickup, a rehearsal letter at each passage and nowhere else, a double bar before
+    each passage in every part, the key change (Bb to Db major) on the double bar of the last
+    A, and the turn's last P statement a minor third (the key distance, from music21's keys)
+    above its first statement, so it lands in the new key (common practice of chart layout)."""
+    from music21 import converter, expressions, stream
+    from music21 import key as m21key
+
+    out, report = lantern
+    score = converter.parse(str(out / "lantern-walk-soli.musicxml"))
+    starts = [p["first_bar"] for p in report["passages"]]
+    assert starts[0] == 1 and len(starts) == 5
+    for part in score.parts:
+        measures = list(part.getElementsByClass(stream.Measure))
+        assert [m.number for m in measures] == list(range(0, len(measures)))
+        by_number = {m.number: m for m in measures}
+        for b in starts[1:]:
+            bl = by_number[b - 1].rightBarline
+            assert bl is not None and bl.type == "double", (part.partName, b)
+    lead = list(score.parts[0].getElementsByClass(stream.Measure))
+    letters = {m.number: [r.content for r in m.getElementsByClass(expressions.RehearsalMark)] for m in lead}
+    assert {n: v for n, v in letters.items() if v} == {b: [chr(65 + k)] for k, b in enumerate(starts)}
+    sounding = score.parts[0].toSoundingPitch()
+    keys = [(m.number, ks.sharps) for m in sounding.getElementsByClass(stream.Measure)
+            for ks in m.getElementsByClass(m21key.KeySignature)]
+    assert keys == [(0, m21key.Key("B-").sharps), (starts[4], m21key.Key("D-").sharps)]
+    events = report["events"]
+    turn = [s for s in report["statements"] if s["notes"] and events[s["notes"][0]]["passage"] == 4]
+    last_p = [s for s in turn if s["form"] == "P"][-1]
+    distance = (m21key.Key("D-").tonic.pitchClass - m21key.Key("B-").tonic.pitchClass) % 12
+    assert (events[last_p["notes"][0]]["lead"] - events[turn[0]["notes"][0]]["lead"]) % 12 == distance
+    # the report says which passage and phrase each note belongs to
+    assert all(e["passage"] in range(1, 6) for e in events)
+    assert all((e["phrase"] is None) == (e["passage"] == 4) for e in events)

@@ -110,7 +110,8 @@ def test_corpus_melody_keeps_its_changes(reel: Path) -> None:
     from music21 import converter, corpus
 
     source = _symbols(corpus.parse("nottingham-dataset/reelsa-c.abc", number=TUNE).parts[0])
-    ours = _symbols(converter.parse(str(reel / "reel-soli.musicxml")).parts[0])
+    # the score's symbols are written for their staff: read at sounding pitch
+    ours = _symbols(converter.parse(str(reel / "reel-soli.musicxml")).parts[0].toSoundingPitch())
     assert len(source) >= 15 and ours
     times = sorted({t for t, _ in source} | {t for t, _ in ours})
     assert [(t, _sounding(ours, t)) for t in times] == [(t, _sounding(source, t)) for t in times]
@@ -217,7 +218,7 @@ def test_compact_text_melody(tmp_path: Path) -> None:
             (F(4), F(1, 2), 70), (F(9, 2), F(1, 2), 69), (F(5), F(1), 67), (F(13, 2), F(1, 2), 64),
             (F(7), F(5, 2), 67), (F(10), F(3), 65)]
     assert _lead(lead) == want
-    syms = _symbols(score.parts[0])
+    syms = _symbols(lead)                                   # symbols at sounding pitch
     assert [t for t, _ in syms] == [F(1), F(4), F(7), F(10)]
     assert syms[1][1] == frozenset({7, 10, 2, 5})          # Gm7
 
@@ -306,3 +307,109 @@ def test_part_number_and_chords_in_the_melody(tmp_path: Path) -> None:
     assert r.exit_code == 0, r.output
     ours = converter.parse(str(tmp_path / "out" / "reel-soli.musicxml")).parts[0].toSoundingPitch()
     assert [pitch for _t, _d, pitch in _lead(ours)] == [69, 72, 70, 69]
+
+
+PHRASES = '''title = "Phrase Test"
+tempo = 120
+melody = "file:phrases.musicxml"
+
+[section]
+name = "trumpets-4"
+voicing = "close"
+
+[output]
+formats = ["musicxml", "report"]
+dynamics = ["p", "mf", "f"]
+'''
+
+
+def _phrase_file(path: Path) -> None:
+    """Six bars of 4/4 in F major, written with music21: an eighth rest inside the first
+    phrase (shorter than a beat: no boundary), a half rest before the second, a breath mark
+    ending the second with no rest after it, and a fermata on the last note."""
+    from music21 import articulations, expressions, harmony, key, meter, note, stream
+
+    part = stream.Part()
+    spec = [
+        ["F4:1", "G4:1", "A4:0.5", "r:0.5", "C5:1"],       # bar 1: an eighth rest, same phrase
+        ["Bb4:1", "A4:1", "r:2"],                          # bar 2: a half rest ends phrase 1
+        ["C5:1", "D5:1", "C5:1", "A4:1"],                  # bar 3: phrase 2
+        ["G4:2", "F4:1", "G4:1,"],                         # bar 4: a breath mark after G4
+        ["A4:1", "Bb4:1", "C5:2"],                         # bar 5: phrase 3 starts without a rest
+        ["F4:4!"],                                         # bar 6: a fermata
+    ]
+    for b, bar in enumerate(spec, start=1):
+        m = stream.Measure(number=b)
+        if b == 1:
+            m.append(key.Key("F"))
+            m.append(meter.TimeSignature("4/4"))
+            m.insert(0, harmony.ChordSymbol("F6"))
+        for tok in bar:
+            name, value = tok.split(":")
+            breath, fermata = value.endswith(","), value.endswith("!")
+            ql = float(value.rstrip(",!"))
+            n = note.Rest(quarterLength=ql) if name == "r" else note.Note(name, quarterLength=ql)
+            if breath:
+                n.articulations.append(articulations.BreathMark())
+            if fermata:
+                n.expressions.append(expressions.Fermata())
+            m.append(n)
+        part.append(m)
+    stream.Score([part]).write("musicxml", fp=str(path))
+
+
+def _phrases_by_music21(path: Path) -> list[int]:
+    """The phrase of each note by the README's rule, counted from music21's reading of the
+    file: a rest of a beat (a quarter in 4/4) or more, or a breath mark or fermata on the note
+    before, starts a new phrase."""
+    from music21 import articulations, converter, expressions
+
+    flat = converter.parse(str(path)).parts[0].flatten()
+    out: list[int] = []
+    phrase, rest, marked = 1, 0.0, False
+    for el in flat.notesAndRests:
+        if el.isRest:
+            rest += el.quarterLength
+            continue
+        if el.isNote:
+            if out and (rest >= 1 or marked):
+                phrase += 1
+            out.append(phrase)
+            rest = 0.0
+            marked = any(isinstance(a, articulations.BreathMark) for a in el.articulations) or \
+                any(isinstance(x, expressions.Fermata) for x in el.expressions)
+    return out
+
+
+def test_melody_splits_into_phrases(tmp_path: Path) -> None:
+    """With no chain, a melody's statements are its phrases: the report gives each note its
+    phrase (as music21's reading of the file and the README's rule give it), and the
+    per-statement dynamics land on each phrase's first note (music21 reads them back)."""
+    from music21 import converter, dynamics, stream
+
+    _phrase_file(tmp_path / "phrases.musicxml")
+    want = _phrases_by_music21(tmp_path / "phrases.musicxml")
+    assert want == [1] * 6 + [2] * 7 + [3] * 4
+    p = write_project(tmp_path, PHRASES)
+    r = run_cli("build", str(p), "-o", str(tmp_path / "out"))
+    assert r.exit_code == 0, r.output
+    report = json.loads((tmp_path / "out" / "phrase-test.report.json").read_text())
+    assert [e["phrase"] for e in report["events"]] == want
+    assert [e["statement"] for e in report["events"]] == want
+    assert [(s["form"], s["phrase"]) for s in report["statements"]] == [("melody", 1), ("melody", 2), ("melody", 3)]
+    md = (tmp_path / "out" / "phrase-test.report.md").read_text()
+    assert "phrase 2" in md and "a rest of a beat or more" in md
+    lead = converter.parse(str(tmp_path / "out" / "phrase-test.musicxml")).parts[0]
+    marks = [(m.number, d.offset, d.value) for m in lead.getElementsByClass(stream.Measure)
+             for d in m.getElementsByClass(dynamics.Dynamic)]
+    assert marks == [(1, 0.0, "p"), (3, 0.0, "mf"), (5, 0.0, "f")]
+
+
+def test_compact_text_breath_mark_starts_a_phrase(tmp_path: Path) -> None:
+    text = PHRASES.replace('melody = "file:phrases.musicxml"',
+                           'melody = "[F6] F4:4 G4:4 A4:4 C5:4 , | Bb4:4 A4:4 r:2 | C5:1 |"')
+    p = write_project(tmp_path, text)
+    r = run_cli("build", str(p), "-o", str(tmp_path / "out"))
+    assert r.exit_code == 0, r.output
+    report = json.loads((tmp_path / "out" / "phrase-test.report.json").read_text())
+    assert [e["phrase"] for e in report["events"]] == [1, 1, 1, 1, 2, 2, 3]

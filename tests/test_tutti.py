@@ -60,10 +60,10 @@ def _chords_and_columns(out: Path):  # noqa: ANN202
     from music21 import converter, harmony
 
     written = converter.parse(str(out / "tutti-check.musicxml"))
-    # the score's chord symbols are at concert pitch (music21 would transpose them with the part)
-    symbols = [(Fraction(cs.offset), cs)
-               for cs in written.parts[0].flatten().getElementsByClass(harmony.ChordSymbol)]
     score = written.toSoundingPitch()
+    # the score's chord symbols are written for the staff they stand over: read at sounding pitch
+    symbols = [(Fraction(cs.offset), cs)
+               for cs in score.parts[0].flatten().getElementsByClass(harmony.ChordSymbol)]
     parts = [(p.partName, p.flatten()) for p in score.parts]
     lead = parts[0][1]
     columns = []

@@ -51,6 +51,7 @@ class Melody:
     total: Fraction                        # whole bars from bar 1
     chords: tuple[tuple[Fraction, str], ...]   # (onset, chord symbol) as the file writes them
     source: str                            # the file name, for messages and the report
+    breaks: tuple[Fraction, ...] = ()      # onsets of notes marked as a phrase's end (breath mark, fermata)
 
 
 def parse_bars(text: object, *, where: str) -> tuple[int, int]:
@@ -219,6 +220,7 @@ def _melody(p: Any, path: Path, where: str, bars: tuple[int, int] | None) -> Mel
         if first.paddingLeft or 0 < content < bar:
             pickup = content
     notes = [(on - pickup, dur, pitch) for on, dur, pitch in lead_notes(p)]
+    breaks = [on - pickup for on in phrase_marks(p)]
     chords = []
     for cs in p.flatten().getElementsByClass(harmony.ChordSymbol):
         if isinstance(cs, harmony.NoChord):
@@ -236,6 +238,7 @@ def _melody(p: Any, path: Path, where: str, bars: tuple[int, int] | None) -> Mel
         keep_pickup = lo == 1
         notes = [(on - start, min(dur, stop - on), pt) for on, dur, pt in notes
                  if (start <= on < stop) or (keep_pickup and on < 0)]
+        breaks = [on - start for on in breaks if start <= on < stop or (keep_pickup and on < 0)]
         sounding = [cs for on, cs in chords if on <= start]      # the chord already sounding at the first bar
         chords = [(on - start, cs) for on, cs in chords if start <= on < stop or (keep_pickup and on < 0)]
         if sounding and not keep_pickup and not any(on == 0 for on, _cs in chords):
@@ -250,7 +253,22 @@ def _melody(p: Any, path: Path, where: str, bars: tuple[int, int] | None) -> Mel
         pickup = Fraction(0)
     symbols = tuple((on, chord_text(cs)) for on, cs in chords)
     return Melody(tuple(MelodyNote(pt, on, dur) for on, dur, pt in notes), meter_text, key_text, pickup,
-                  Fraction(total_bars) * bar, symbols, path.name)
+                  Fraction(total_bars) * bar, symbols, path.name, tuple(sorted(set(breaks))))
+
+
+def phrase_marks(part: Any) -> list[Fraction]:
+    """Flat offsets of the lead notes that end a phrase by a mark the file writes: a breath
+    mark or a fermata (the next note starts a new phrase)."""
+    from music21 import articulations, expressions, harmony
+
+    out = []
+    for n in part.stripTies().flatten().notes:
+        if isinstance(n, harmony.Harmony) or n.duration.isGrace:
+            continue
+        if any(isinstance(a, articulations.BreathMark) for a in n.articulations) or \
+                any(isinstance(x, expressions.Fermata) for x in n.expressions):
+            out.append(_grid(n.offset))
+    return out
 
 
 def chord_text(cs: Any) -> str:

@@ -8,6 +8,8 @@ Our own compact text, made for soli lines typed by hand:
 * ``r:VALUE`` is a rest;
 * ``|`` is a bar line, checked: it must fall where a bar ends.  Notes before the
   first ``|`` that fill less than a bar are a pickup;
+* ``,`` is a breath mark: the phrase ends with the note before it (a rest of a beat or
+  more ends one too);
 * ``[CHORD]`` is a chord symbol (``[Gm7]``), sounding from the next note or rest on
   (a project ``framework`` overrides the symbols).
 
@@ -26,7 +28,7 @@ from arrange.theory.pitch import parse_pitch
 __all__ = ["read_melody_text", "TEXT_HELP", "MAX_TOKENS"]
 
 TEXT_HELP = ("notes PITCH:VALUE (e.g. F4:4, Bb4:8., C5:2~8), rests r:VALUE, bar lines |, chord "
-             "symbols [Gm7], separated by spaces, e.g. \"C5:4 | [F6] A4:4. G4:8 F4:2 |\"")
+             "symbols [Gm7], a breath mark , (a phrase ends), separated by spaces, e.g. \"C5:4 | [F6] A4:4. G4:8 F4:2 |\"")
 MAX_TOKENS = 4096
 
 
@@ -41,6 +43,7 @@ def read_melody_text(text: str, bar: Fraction, *, where: str) -> Melody:
     t = Fraction(0)
     notes: list[MelodyNote] = []
     chords: list[tuple[Fraction, str]] = []
+    breaks: list[Fraction] = []
     first_bar_line: Fraction | None = None
     for i, w in enumerate(words, start=1):
         at = f"{where}, token {i} {w!r}"
@@ -55,6 +58,12 @@ def read_melody_text(text: str, bar: Fraction, *, where: str) -> Melody:
                     raise ProjectError(f"a bar line {t - first_bar_line} quarter notes after the first "
                                        "falls inside a bar", where=at,
                                        accepted=f"bar lines every {bar} quarter notes")
+                continue
+            if w == ",":
+                if not notes:
+                    raise ProjectError("a breath mark before the first note", where=at,
+                                       accepted="',' after a note: the phrase ends with that note")
+                breaks.append(notes[-1].onset)
                 continue
             if w.startswith("[") and w.endswith("]"):
                 chords.append((t, parse_chord(w[1:-1], where=at).symbol))
@@ -78,4 +87,5 @@ def read_melody_text(text: str, bar: Fraction, *, where: str) -> Melody:
     end = t - shift
     total = max(bar, -(-end // bar) * bar)
     return Melody(tuple(notes), None, None, pickup, total,
-                  tuple((on - shift, sym) for on, sym in chords), "project text")
+                  tuple((on - shift, sym) for on, sym in chords), "project text",
+                  tuple(sorted({b - shift for b in breaks})))

@@ -20,6 +20,7 @@ def _statement_table(voiced: Voiced, dynamics: tuple[str, ...]) -> list[dict[str
 
     line = voiced.harmonized.line
     letters = rehearsal_plan(voiced)
+    phrases = phrase_numbers(line)
     out = []
     for st in line.segments:
         own = [i for i, ve in enumerate(voiced.events) if ve.event.note.statement == st.index]
@@ -29,6 +30,7 @@ def _statement_table(voiced: Voiced, dynamics: tuple[str, ...]) -> list[dict[str
             first_bar = line.bar_of(n.onset)
         voicings = list(dict.fromkeys(voiced.events[i].voicing for i in own))
         out.append({"statement": st.index, "form": st.form, "transposition": st.transposition,
+                    "phrase": phrases.get(st.index), "passage": _passage_of(line, st.start),
                     "bar": first_bar, "rehearsal": letters.get(first_bar) if first_bar is not None else None,
                     "dynamic": dynamic_of(st.index, dynamics), "voicings": voicings,
                     "notes": [i for i in own]})
@@ -53,6 +55,7 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
               "range": list(p.instrument.practical),
               "extreme": list(p.instrument.extreme)} for p in voiced.section.parts]
     events = []
+    phrases = phrase_numbers(line)
     spelled = _lead_names(voiced)
     names = spelled_parts(voiced)[0]      # as the score spells them, at concert pitch
     for i, ve in enumerate(voiced.events):
@@ -60,6 +63,7 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
         n = ev.note
         events.append({
             "index": i, "statement": n.statement, "passage": _passage_of(line, i),
+            "phrase": phrases.get(n.statement),
             "bar": int(n.onset // line.meter.bar) + 1,
             "onset": json_number(n.onset), "duration": json_number(n.duration),
             "beat": json_number(n.onset % line.meter.bar * Fraction(line.meter.denominator, 4) + 1),
@@ -94,6 +98,20 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
         "events": events,
         "warnings": warnings,
     }
+
+
+def phrase_numbers(line: Any) -> dict[int, int]:
+    """Statement -> its phrase number inside its passage, for a melody's phrases (the
+    statements of a line with no chain); chain statements have none."""
+    out: dict[int, int] = {}
+    count: dict[int, int] = {}
+    for seg in line.segments:
+        if seg.form != "melody":
+            continue
+        passage = _passage_of(line, seg.start)
+        count[passage] = count.get(passage, 0) + 1
+        out[seg.index] = count[passage]
+    return out
 
 
 def _passage_of(line: Any, index: int) -> int:
@@ -162,12 +180,17 @@ def report_markdown(data: dict[str, Any]) -> bytes:
                 f"{ch['compass_after_two']:+d}; statement 3 lies {ch['transposition']:+d} semitones "
                 f"from statement 1; {ch['pitch_classes']} pitch classes.", ""]
     else:
-        out += ["## Statements and melodies", ""]
+        from arrange.rhythm.melody import PHRASE_RULE
+
+        out += ["## Statements and melodies", "", PHRASE_RULE[0].upper() + PHRASE_RULE[1:] + ".", ""]
     out += ["| statement | form | transposition | starts at note | bar | rehearsal | dynamic |",
             "| --- | --- | --- | --- | --- | --- | --- |"]
+    many = len({st.get("passage") for st in data["statements"]}) > 1
     for st in data["statements"]:
         first = st["notes"][0] + 1 if st["notes"] else ""
-        out.append(f"| {st['statement']} | {st['form']} | {st['transposition']:+d} | {first} | "
+        form = st["form"] if st.get("phrase") is None else \
+            f"melody, phrase {st['phrase']}" + (f" of passage {st['passage']}" if many else "")
+        out.append(f"| {st['statement']} | {form} | {st['transposition']:+d} | {first} | "
                    f"{st['bar'] or ''} | {st['rehearsal'] or ''} | {st['dynamic']} |")
     out += ["", "## Harmonization", "",
             "| note | bar | beat | lead | chord | role | technique | why |",
