@@ -169,8 +169,9 @@ def _moments(b: Built) -> list[Moment]:
 
     parts = list(b.score.parts)[:b.parts]
     flat = [p.flatten() for p in parts]
-    # symbols as written over the top staff: at concert pitch (toSoundingPitch would move them)
-    top = list(b.written.parts)[0].flatten()
+    # symbols over the top staff are written for that staff (a transposing part's in its
+    # key): music21's toSoundingPitch moves them to concert pitch with the notes
+    top = flat[0]
     symbols = sorted(((Fraction(cs.offset).limit_denominator(96), cs)
                       for cs in top.getElementsByClass(harmony.ChordSymbol)), key=lambda x: x[0])
     spans: list[list[tuple[Fraction, Fraction, int, bool]]] = []

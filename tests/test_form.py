@@ -407,6 +407,12 @@ def test_each_passage_has_its_own_voicing_plan(tmp_path: Path) -> None:
     spread = turn[1]["notes"]
     close = turn[0]["notes"] + turn[2]["notes"] + turn[3]["notes"]
     out = tmp_path / "out"
+    # a note four trumpets cannot open inside their extreme range (music21 Trumpet lowestNote
+    # written F#3) takes another type, named in the report ("shape"); the rest open wide
+    shaped = {w["event"] for w in report["warnings"] if w["kind"] == "shape"}
+    theme_second_bar = [i for i in theme_second_bar if i not in shaped]
+    spread = [i for i in spread if i not in shaped]
+    assert theme_second_bar and spread
     assert all(s > 12 for s in _voicing_spans(out, report, theme_second_bar, 4))
     assert all(s <= 12 for s in _voicing_spans(out, report, theme_other, 4))
     assert all(s > 12 for s in _voicing_spans(out, report, spread, 4))
