@@ -9,7 +9,7 @@ from pathlib import Path
 
 from arrange import __version__
 from arrange.chain.core import build_chain, chain_length
-from arrange.errors import ArrangeError, LimitError
+from arrange.errors import ArrangeError, LimitError, VoicingError
 from arrange.harmony.events import Harmonized
 from arrange.harmony.harmonizer import harmonize
 from arrange.project import Project
@@ -20,7 +20,8 @@ from arrange.voicing.sections import Section
 from arrange.voicing.voicer import Voiced, VoicingOptions, voice
 
 __all__ = ["check_size", "written_notes", "MAX_SCORE_NOTES", "run_pipeline", "run_layers",
-           "run_rhythm_section", "render_outputs", "render_project", "write_outputs", "BuildResult"]
+           "run_rhythm_section", "render_outputs", "render_project", "write_outputs", "BuildResult",
+           "refuse_errors", "default_lead_range"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -133,15 +134,37 @@ def run_pipeline(project: Project) -> Voiced:
                       project.section, project.voicing)
     c = project.chain
     assert c is not None
-    # no lead_range given: the chain is placed into the lead instrument's practical range
-    lead_range = c.lead_range or project.section.lead.instrument.practical
-    try:
-        chain = build_chain(c.motif, c.statements, c.overlap, lead_range)
-    except ArrangeError as err:
-        raise _in_project(err, project, "chain") from None
-    line = lay_rhythm(chain, project.meter, project.rhythm)
-    harmonized = harmonize(line, project.key, project.harmony, where=where)
-    return _voice(harmonized, project.section, project.voicing)
+    # no lead_range given: the chain is placed into the lead instrument's practical range;
+    # where the section cannot voice it there inside its extreme ranges, an octave higher,
+    # then lower (inside the lead's extreme range); a lead_range given is kept as written
+    lo, hi = default_lead_range(project.section)
+    ranges = [c.lead_range] if c.lead_range else [(lo + k, hi + k) for k in (0, 12, -12)]
+    first_error: ArrangeError | None = None
+    for lead_range in ranges:
+        try:
+            chain = build_chain(c.motif, c.statements, c.overlap, lead_range)
+        except ArrangeError as err:
+            raise _in_project(err, project, "chain") from None
+        line = lay_rhythm(chain, project.meter, project.rhythm)
+        harmonized = harmonize(line, project.key, project.harmony, where=where)
+        try:
+            return _voice(harmonized, project.section, project.voicing)
+        except VoicingError as err:
+            first_error = first_error or err
+    assert first_error is not None
+    raise first_error
+
+
+def default_lead_range(section: Section) -> tuple[int, int]:
+    """Where a chain with no ``lead_range`` is placed: the lead's practical range, its
+    floor raised so a close voicing fits under it inside every part's practical range (the
+    lead group's parts, in a tutti); at least an octave wide."""
+    parts = section.parts[:section.groups[0][2]] if section.groups else section.parts
+    lo, hi = parts[0].instrument.practical
+    # a close voicing puts part k (0-based) about a minor third per part under the lead,
+    # the parts past the fourth doubling about an octave under it
+    need = max(p.instrument.practical[0] + min(3 * k, 12) for k, p in enumerate(parts))
+    return min(max(lo, need), hi - 12), hi
 
 
 def _voice(harmonized: Harmonized, section: Section, options: VoicingOptions) -> Voiced:
@@ -150,8 +173,25 @@ def _voice(harmonized: Harmonized, section: Section, options: VoicingOptions) ->
     if section.groups:
         from arrange.voicing.tutti import voice_tutti
 
-        return named_as_sounding(voice_tutti(harmonized, section, options))
-    return named_as_sounding(voice(harmonized, section, options))
+        voiced = voice_tutti(harmonized, section, options)
+    else:
+        voiced = voice(harmonized, section, options)
+    refuse_errors(voiced)
+    return named_as_sounding(voiced)
+
+
+def refuse_errors(voiced: Voiced) -> None:
+    """An error in the music (a note beyond an extreme range) stops the build before
+    anything is written: exit 2, the first error's bar, part and note named."""
+    from arrange.errors import VoicingError
+
+    errors = [f for f in voiced.findings if f.severity == "error"]
+    if errors:
+        first = errors[0]
+        more = f" (and {len(errors) - 1} more)" if len(errors) > 1 else ""
+        raise VoicingError(f"{first.part or 'the section'}: {first.message}{more}", where="[section]",
+                           accepted="a lead range or section whose parts reach every note, "
+                                    "or allow_extreme = true")
 
 
 def named_as_sounding(voiced: Voiced) -> Voiced:
@@ -206,12 +246,13 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
     slug = project.slug
     out = project.output
     info = None
-    if "musicxml" in formats or "preview" in formats or out.parts:
+    pdf = "pdf" in formats
+    if "musicxml" in formats or "preview" in formats or out.parts or pdf:
         from arrange.writers.musicxml import ScoreInfo, musicxml_bytes
 
         info = ScoreInfo(project.title, project.tempo, _style(project), dynamics=out.dynamics,
                          analysis=out.analysis, concert=out.concert_score, version=__version__)
-    if info is not None and ("musicxml" in formats or "preview" in formats):
+    if info is not None and ("musicxml" in formats or "preview" in formats or pdf):
         xml = musicxml_bytes(voiced, info, layers)   # the full score only when it is written or drawn
         if rhythm is not None:
             from arrange.writers.xml_rhythm import add_rhythm_parts
@@ -228,28 +269,35 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
                 files[f"{slug}.png"] = png_bytes(svg)
             elif notes is not None:
                 notes.append("preview: PNG skipped, resvg-py is not installed (pip install resvg-py)")
-    if out.parts and info is not None:
+        if pdf:
+            from arrange.writers.pdf import pdf_bytes
+
+            kind = "Concert score" if out.concert_score else "Transposed score"
+            files[f"{slug}.pdf"] = pdf_bytes(xml, project.title, kind, out.paper, part=False)
+    if (out.parts or pdf) and info is not None:
         from arrange.project import slugify
         from arrange.writers.musicxml import part_bytes
 
         parts_dir = f"{slug}-parts"        # one folder, replaced as a whole (writers.files)
-
-        for k, part_xml in part_bytes(voiced, info).items():
-            name = voiced.section.parts[k].name
-            files[f"{parts_dir}/part{k + 1:02d}-{slugify(name)}.musicxml"] = part_xml
+        named: list[tuple[str, bytes]] = [(voiced.section.parts[k].name, part_xml)
+                                          for k, part_xml in part_bytes(voiced, info).items()]
         if layers:
             from arrange.writers.xml_layers import layer_part_bytes
 
-            first = len(voiced.section.parts)
-            for j, (name, part_xml) in enumerate(layer_part_bytes(voiced, info, layers)):
-                files[f"{parts_dir}/part{first + j + 1:02d}-{slugify(name)}.musicxml"] = part_xml
+            named += layer_part_bytes(voiced, info, layers)
         if rhythm is not None:
             from arrange.writers.xml_rhythm import rhythm_part_files
 
-            first = len(voiced.section.parts) + sum(len(vl.layer.section.parts) for vl in layers)
-            for j, (name, part_xml) in enumerate(rhythm_part_files(
-                    rhythm, voiced.harmonized, project.title, project.tempo, _style(project), __version__)):
-                files[f"{parts_dir}/part{first + j + 1:02d}-{slugify(name)}.musicxml"] = part_xml
+            named += rhythm_part_files(rhythm, voiced.harmonized, project.title, project.tempo, _style(project),
+                                       __version__)
+        for k, (name, part_xml) in enumerate(named, start=1):
+            stem = f"{parts_dir}/part{k:02d}-{slugify(name)}"
+            if out.parts:
+                files[f"{stem}.musicxml"] = part_xml
+            if pdf:
+                from arrange.writers.pdf import pdf_bytes
+
+                files[f"{stem}.pdf"] = pdf_bytes(part_xml, project.title, name, out.paper)
     midi = None
     if "midi" in formats or out.audio:
         from arrange.writers.midi import MidiOptions, midi_bytes
