@@ -186,6 +186,8 @@ def accents(harmonized: Harmonized) -> tuple[int, ...]:
     beat = Fraction(4, harmonized.line.meter.denominator)
     out = []
     for i, n in enumerate(notes):
+        if n.tied:          # a held note's later piece (harmony.split) is no attack to punch
+            continue
         next_beat = (n.onset // beat + 1) * beat
         anticipation = n.weight >= 2 and n.onset + n.duration > next_beat
         prev_p = notes[i - 1].pitch if i else -1
