@@ -4,7 +4,7 @@ from __future__ import annotations
 from fractions import Fraction
 from typing import Any
 
-__all__ = ["json_number", "bar_of_event", "channel_for", "spelled_parts", "written_parts"]
+__all__ = ["json_number", "bar_of_event", "channel_for", "spelled_parts", "written_parts", "bass_names"]
 
 
 def json_number(q: Fraction) -> float | int:
@@ -76,6 +76,52 @@ def spelled_parts(voiced: Any, layers: tuple[Any, ...] = ()) -> tuple[tuple[tupl
         _SPELLED.clear()
     _SPELLED[(id(voiced), id(layers))] = (voiced, layers, out)
     return out
+
+
+def bass_names(voiced: Any, layers: tuple[Any, ...], bass: Any) -> tuple[str, ...]:
+    """Concert names of the written bass line (``RhythmSection.bass``) by the one rule:
+    each note spelled by key, chord and direction (``spell_pitch``), then made to agree
+    with every note the score already spells (``spelled_parts``: lead section and layers,
+    which keep their names), so one pitch class reads one way at one moment."""
+    from arrange.theory.spelling import direction_of, spell_pitch, with_octave
+    from arrange.theory.written import split_name
+
+    if not bass:
+        return ()
+    h = voiced.harmonized
+    bar_len = h.line.meter.bar
+    lead, lay = spelled_parts(voiced, layers)
+    notes: list[tuple[Fraction, Fraction, int, str]] = []
+    for k, names in enumerate(lead):
+        for i, ve in enumerate(voiced.events):
+            n = ve.event.note
+            notes.append((n.onset, n.onset + n.duration, ve.pitches[k], names[i]))
+    for vl, grid in zip(layers, lay, strict=True):
+        for k, names in enumerate(grid):
+            for i, ln in enumerate(vl.notes):
+                if names[i] is not None and ln.pitches[k] is not None:
+                    notes.append((ln.onset, ln.onset + ln.duration, ln.pitches[k], names[i]))
+    by_pc: dict[int, list[tuple[Fraction, Fraction, str]]] = {}
+    for on, end, midi, name in notes:
+        by_pc.setdefault(midi % 12, []).append((on, end, name))
+    for v in by_pc.values():
+        v.sort()
+    pitches = [bn.pitch for bn in bass]
+    out = []
+    for i, bn in enumerate(bass):
+        way = direction_of(pitches[i - 1] if i else None, pitches[i], pitches[i + 1] if i + 1 < len(pitches) else None)
+        own = spell_pitch(bn.pitch, h.key_at(max(1, int(bn.onset // bar_len) + 1)), bn.chord, way)
+        t0, t1 = bn.onset, bn.onset + bn.duration
+        here = [(on, name) for on, end, name in by_pc.get(bn.pitch % 12, ()) if on < t1 and t0 < end]
+        # the spelling sounding at the attack, else the first that enters while it holds
+        # (a tie keeps one name: where the horns respell the pitch class under a held bass
+        # note, by an approach chord's degree, the bass keeps the name of its attack)
+        at_attack = [name for on, name in here if on <= t0]
+        later = [name for on, name in here if on > t0]
+        pick = at_attack[-1] if at_attack else later[0] if later else None
+        name = own if pick is None else split_name(pick)[0]
+        out.append(name if pick is None else with_octave(name, bn.pitch))
+    return tuple(out)
 
 
 _WRITTEN: dict[tuple[int, int, bool], tuple[Any, Any, Any]] = {}

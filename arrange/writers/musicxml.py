@@ -60,9 +60,11 @@ def harmony(chord, ivl: Interval) -> ET.Element:  # noqa: ANN001
     return h
 
 
-def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, symbols_ivl: Interval | None = None) -> Staff:
-    """Part ``k`` of the lead section; ``lead``: this staff carries tempo, letters and
-    symbols (symbols over a transposed lead stay concert in the score: ``symbols_ivl``)."""
+def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, symbols_ivl: Interval | None = None,
+               top: bool | None = None) -> Staff:
+    """Part ``k`` of the lead section; ``lead``: this staff carries the symbols (over a
+    transposed lead they stay concert in the score: ``symbols_ivl``); ``top`` (default
+    ``lead``): it also carries tempo, style and letters (:func:`top_marks`)."""
     h = voiced.harmonized
     line = h.line
     part = voiced.section.parts[k]
@@ -88,14 +90,48 @@ def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, symbols_ivl:
             prev_chord = ve.event.chord.symbol
     for i, dyn in marks.entrances(voiced, info.dynamics):
         staff.add_mark(firsts[i].measure, firsts[i].offset, 4, marks.dynamic(dyn))
-    if lead:
-        heading(staff, info, line)
-        shift = 1 if line.pickup else 0
-        for bar, letter in marks.rehearsal_plan(voiced).items():
-            staff.add_mark(bar - 1 + shift, Fraction(0), 0, marks.rehearsal(letter))
+    if lead if top is None else top:
+        top_marks(staff, voiced, info)
     if lead and info.analysis and info.only_part is None:     # analysis: the score only, never a part
         _analysis(staff, voiced, firsts)
     return staff
+
+
+def top_marks(staff: Staff, voiced: Voiced, info: ScoreInfo) -> None:
+    """Style word, metronome mark and rehearsal letters: over the score's top staff."""
+    line = voiced.harmonized.line
+    heading(staff, info, line)
+    shift = 1 if line.pickup else 0
+    for bar, letter in marks.rehearsal_plan(voiced).items():
+        staff.add_mark(bar - 1 + shift, Fraction(0), 0, marks.rehearsal(letter))
+
+
+# score order, top to bottom, by the family of a part's MusicXML sound id (common practice of
+# score layout; in a big band: saxophones, trumpets, trombones, then the rhythm section, which
+# the rhythm writer appends below everything)
+_SCORE_ORDER = (("wind.", 0), ("brass.french-horn", 1), ("brass.trumpet", 2), ("brass.flugelhorn", 2),
+                ("brass.cornet", 2), ("brass.trombone", 3), ("brass.tuba", 4), ("brass.", 4))
+
+
+def score_rank(sound: str) -> int:
+    return next((r for prefix, r in _SCORE_ORDER if sound.startswith(prefix)), 5)
+
+
+def score_order(staves: list[StaffPart], groups: list[tuple[int, int]]
+                ) -> tuple[list[StaffPart], list[tuple[int, int]]]:
+    """The staves in score order: each bracket (or lone staff) moves whole, by the family of
+    its first part; a stable sort, so like families keep the order they were given."""
+    firsts = {a: b for a, b in groups}
+    blocks: list[list[int]] = []
+    j = 0
+    while j < len(staves):
+        end = firsts.get(j, j)
+        blocks.append(list(range(j, end + 1)))
+        j = end + 1
+    blocks.sort(key=lambda b: score_rank(staves[b[0]].part.instrument.sound))   # type: ignore[attr-defined]
+    order = [j for b in blocks for j in b]
+    where = {old: new for new, old in enumerate(order)}
+    return [staves[j] for j in order], [(where[a], where[b]) for a, b in groups]
 
 
 def _analysis(staff: Staff, voiced: Voiced, firsts: list) -> None:
@@ -124,7 +160,7 @@ def musicxml_bytes(voiced: Voiced, info: ScoreInfo, layers: tuple = ()) -> bytes
                         [StaffPart(staff, parts[k], part_abbreviation(parts[k]), k)], [])
     lead_ivl = interval_of(parts[0].instrument, info.concert)
     staves = [StaffPart(lead_staff(voiced, k, info, lead=k == 0,
-                                   symbols_ivl=Interval() if lead_ivl.semitones else None),
+                                   symbols_ivl=Interval() if lead_ivl.semitones else None, top=False),
                         p, part_abbreviation(p), k) for k, p in enumerate(parts)]
     groups = marks.part_groups([(voiced.section, 0)], bracket_all=False)
     if layers:
@@ -133,6 +169,8 @@ def musicxml_bytes(voiced: Voiced, info: ScoreInfo, layers: tuple = ()) -> bytes
         more, layer_groups = layer_staves(voiced, layers, info, len(parts))
         staves += more
         groups += layer_groups
+    staves, groups = score_order(staves, groups)
+    top_marks(staves[0].staff, voiced, info)
     return document(info.title, info.version, "Concert score" if info.concert else "Transposed score",
                     staves, groups)
 
