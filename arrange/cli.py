@@ -555,9 +555,16 @@ def entry() -> None:
     an exit without the interpreter's final clean-up.  Every file is written and closed by
     then (``files.write_batch``), so tearing down the modules and collecting every object
     one by one (about a tenth of a short build) changes nothing but the time; the output
-    streams are flushed first."""
+    streams are flushed first.
+
+    numpy's bundled OpenBLAS starts a worker thread per processor when numpy is imported,
+    and those threads spin for a while: on a 2-core machine about a fifth of a short
+    build's processor time.  The stages' numpy work is element-wise on small integer
+    arrays (no BLAS call), so the program asks for one BLAS thread unless the user's
+    environment says otherwise; results are the same."""
     import os
 
+    os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
     code: Any = 0
     try:
         main()

@@ -10,6 +10,7 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 from fractions import Fraction
+from functools import lru_cache
 
 from arrange.errors import RhythmError
 
@@ -45,7 +46,7 @@ class Meter:
     @property
     def bar(self) -> Fraction:
         """Bar length in quarter notes."""
-        return Fraction(4 * self.numerator, self.denominator)
+        return _bar(self.numerator, self.denominator)
 
     @property
     def groups(self) -> tuple[tuple[Fraction, ...], ...]:
@@ -55,12 +56,7 @@ class Meter:
     @property
     def beats(self) -> tuple[Fraction, ...]:
         """Onsets of the beats inside a bar (quarter notes)."""
-        out, t = [], Fraction(0)
-        for g in self.groups:
-            for b in g:
-                out.append(t)
-                t += b
-        return tuple(out)
+        return _beats(str(self))
 
     @property
     def compound(self) -> bool:
@@ -90,6 +86,22 @@ class Meter:
 
     def __str__(self) -> str:
         return f"{self.numerator}/{self.denominator}"
+
+
+# asked for at every note the writers cut and beam: worked out once per meter
+@lru_cache(maxsize=None)
+def _bar(numerator: int, denominator: int) -> Fraction:
+    return Fraction(4 * numerator, denominator)
+
+
+@lru_cache(maxsize=None)
+def _beats(meter: str) -> tuple[Fraction, ...]:
+    out, t = [], Fraction(0)
+    for g in _GROUPS[meter]:
+        for b in g:
+            out.append(t)
+            t += b
+    return tuple(out)
 
 
 def parse_meter(text: str, *, where: str = "meter") -> Meter:

@@ -25,6 +25,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from fractions import Fraction
+from functools import lru_cache
 
 from arrange.rhythm.meter import Meter
 
@@ -107,8 +108,14 @@ def _split(a: Fraction, b: Fraction, s: Fraction, children: list[Fraction], *, r
     return out
 
 
-def _in_bar(a: Fraction, b: Fraction, meter: Meter, rest: bool) -> list[tuple[Fraction, Fraction]]:
-    """Pieces of ``[a, b)``, both measured from the bar line, ``b <= bar``."""
+@lru_cache(maxsize=4096)
+def _in_bar(a: Fraction, b: Fraction, meter: Meter, rest: bool) -> tuple[tuple[Fraction, Fraction], ...]:
+    """Pieces of ``[a, b)``, both measured from the bar line, ``b <= bar`` (the same
+    spans recur bar after bar: worked out once each)."""
+    return tuple(_bar_pieces(a, b, meter, rest))
+
+
+def _bar_pieces(a: Fraction, b: Fraction, meter: Meter, rest: bool) -> list[tuple[Fraction, Fraction]]:
     groups = meter.groups
     if len(groups) == 1:
         beats = list(groups[0])

@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass
+from functools import lru_cache
 
 from arrange.checked import whole
 from arrange.errors import HarmonyError
@@ -33,6 +34,33 @@ _PARENT = {"major": 0, "ionian": 0, "dorian": 1, "phrygian": 2, "lydian": 3, "mi
            "aeolian": 5, "minor": 5, "harmonic minor": 5, "melodic minor": 5, "locrian": 6}
 _CHURCH = ("ionian", "dorian", "phrygian", "lydian", "mixolydian", "aeolian", "locrian")
 
+
+# a key's scale, spelled names and signature are asked for at every note a writer
+# spells: worked out once per key (pure functions of the key's three fields)
+@lru_cache(maxsize=None)
+def _scale(tonic: int, mode: str) -> tuple[int, ...]:
+    return tuple((tonic + i) % 12 for i in MODES[mode])
+
+
+@lru_cache(maxsize=None)
+def _names(tonic: int, tonic_name: str, mode: str) -> tuple[str, ...]:
+    start = LETTERS.index(tonic_name[0])
+    out = []
+    for k, pc in enumerate(_scale(tonic, mode)):
+        letter = LETTERS[(start + k) % 7]
+        diff = (pc - _PC[letter] + 6) % 12 - 6
+        out.append(letter + ("#" * diff if diff > 0 else "b" * -diff))
+    return tuple(out)
+
+
+@lru_cache(maxsize=None)
+def _fifths(tonic: int, tonic_name: str, mode: str) -> int:
+    names = _names(tonic, tonic_name, "minor" if "minor" in mode else mode)
+    parent = names[(7 - _PARENT[mode]) % 7] if _PARENT[mode] else names[0]
+    base = {"F": -1, "C": 0, "G": 1, "D": 2, "A": 3, "E": 4, "B": 5}[parent[0]]
+    return base + 7 * (parent.count("#") - parent.count("b"))
+
+
 @dataclass(frozen=True, slots=True)
 class Key:
     tonic: int          # pitch class
@@ -41,27 +69,18 @@ class Key:
 
     @property
     def scale(self) -> tuple[int, ...]:
-        return tuple((self.tonic + i) % 12 for i in MODES[self.mode])
+        return _scale(self.tonic, self.mode)
 
     @property
     def names(self) -> tuple[str, ...]:
         """The spelled scale, one letter per degree: F major -> F G A Bb C D E."""
-        start = LETTERS.index(self.tonic_name[0])
-        out = []
-        for k, pc in enumerate(self.scale):
-            letter = LETTERS[(start + k) % 7]
-            diff = (pc - _PC[letter] + 6) % 12 - 6
-            out.append(letter + ("#" * diff if diff > 0 else "b" * -diff))
-        return tuple(out)
+        return _names(self.tonic, self.tonic_name, self.mode)
 
     @property
     def fifths(self) -> int:
         """Key signature: sharps positive, flats negative (harmonic and melodic minor
         take the natural minor's signature, as printed music does)."""
-        names = Key(self.tonic, self.tonic_name, "minor" if "minor" in self.mode else self.mode).names
-        parent = names[(7 - _PARENT[self.mode]) % 7] if _PARENT[self.mode] else names[0]
-        base = {"F": -1, "C": 0, "G": 1, "D": 2, "A": 3, "E": 4, "B": 5}[parent[0]]
-        return base + 7 * (parent.count("#") - parent.count("b"))
+        return _fifths(self.tonic, self.tonic_name, self.mode)
 
     @property
     def signature_mode(self) -> str:

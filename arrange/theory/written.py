@@ -22,6 +22,7 @@ from bisect import bisect_left, bisect_right
 from collections.abc import Sequence
 from fractions import Fraction
 from functools import lru_cache
+from math import lcm
 
 from arrange.theory.chords import ROOT_NAMES, Chord, interval_name, spell_name
 from arrange.theory.keys import LETTERS, Key, fifths_of, interval_steps, name_at, written_key
@@ -148,16 +149,22 @@ def agree(notes: Sequence[tuple[Fraction, Fraction, int, str]]) -> tuple[str, ..
     that spelling.  A tied note is one entry, so a tie never changes its spelling.  Each
     pitch class keeps its notes sorted by onset, so a note looks only at those that can
     overlap it (n log n for a whole score)."""
-    onsets: dict[int, list[Fraction]] = {}
-    placed: dict[int, list[tuple[Fraction, Fraction, str]]] = {}
-    longest: dict[int, Fraction] = {}
+    # times as whole ticks of their common denominator: the same order, compared as ints
+    den = 1
+    for onset, end, _midi, _name in notes:
+        den = lcm(den, onset.denominator, end.denominator)
+    onsets: dict[int, list[int]] = {}
+    placed: dict[int, list[tuple[int, int, str]]] = {}
+    longest: dict[int, int] = {}
     out = []
-    for onset, end, midi, name in notes:
+    for onset_q, end_q, midi, name in notes:
+        onset = onset_q.numerator * (den // onset_q.denominator)
+        end = end_q.numerator * (den // end_q.denominator)
         pc = midi % 12
         pc_name = split_name(name)[0]
         starts = onsets.setdefault(pc, [])
         here = placed.setdefault(pc, [])
-        lo = bisect_right(starts, onset - longest.get(pc, Fraction(0)))
+        lo = bisect_right(starts, onset - longest.get(pc, 0))
         hi = bisect_left(starts, end)
         for o, e, other in here[lo:hi]:
             if o < end and onset < e and other != pc_name:
@@ -166,6 +173,6 @@ def agree(notes: Sequence[tuple[Fraction, Fraction, int, str]]) -> tuple[str, ..
         at = bisect_right(starts, onset)
         starts.insert(at, onset)
         here.insert(at, (onset, end, pc_name))
-        longest[pc] = max(longest.get(pc, Fraction(0)), end - onset)
+        longest[pc] = max(longest.get(pc, 0), end - onset)
         out.append(_with_octave(pc_name, midi))
     return tuple(out)

@@ -57,21 +57,26 @@ def _tick(q: Fraction) -> int:
 
 
 def _note(events: list[tuple[int, int, Any]], channel: int, pitch: int, on: int, off: int, velocity: int) -> None:
-    import mido
-
-    events.append((on, 3, mido.Message("note_on", channel=channel, note=pitch, velocity=velocity)))
-    events.append((off, 2, mido.Message("note_off", channel=channel, note=pitch, velocity=0)))
+    # the message itself is made once, with its delta time, in track_from (mido checks
+    # every field of every message it makes: one check per note event, not two)
+    events.append((on, 3, ("note_on", channel, pitch, velocity)))
+    events.append((off, 2, ("note_off", channel, pitch, 0)))
 
 
 def track_from(events: list[tuple[int, int, Any]]) -> Any:
-    """A mido track from (absolute tick, order at that tick, message) rows."""
+    """A mido track from (absolute tick, order at that tick, message) rows; a message is
+    a mido message or a note row ``(type, channel, note, velocity)`` from :func:`_note`."""
     import mido
 
     trk = mido.MidiTrack()
     events.sort(key=lambda e: (e[0], e[1]))
     last = 0
     for tick, _order, msg in events:
-        trk.append(msg.copy(time=tick - last))
+        if isinstance(msg, tuple):
+            kind, channel, note, velocity = msg
+            trk.append(mido.Message(kind, channel=channel, note=note, velocity=velocity, time=tick - last))
+        else:
+            trk.append(msg.copy(time=tick - last))
         last = tick
     trk.append(mido.MetaMessage("end_of_track", time=0))
     return trk
