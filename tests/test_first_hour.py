@@ -38,7 +38,7 @@ def _symbols(score_path: Path) -> list[tuple[int, str]]:
     """(root pitch class, chord kind) of every chord symbol above the lead (music21)."""
     from music21 import converter, harmony
 
-    score = converter.parse(str(score_path))
+    score = converter.parse(str(score_path)).toSoundingPitch()    # symbols written for their staff
     out = []
     for cs in score.parts[0].flatten().getElementsByClass(harmony.ChordSymbol):
         out.append((cs.root().pitchClass, cs.chordKind))

@@ -29,6 +29,8 @@ from pathlib import Path
 import pytest
 from conftest import BASIC, DEMOS, ROOT, in_report_order, run_cli, write_project
 
+from arrange.writers.symbols import m21_figure
+
 Q = Fraction
 
 # the beat groups of common notation practice, in quarter notes from the bar line:
@@ -234,22 +236,31 @@ def _symbol(cs) -> str:  # noqa: ANN001
     return root + text + (f"/{bass}" if bass != root else "")
 
 
-def test_music21_reads_the_chord_symbols_of_every_event(built) -> None:
-    """At each lead note the last chord symbol printed names the report's chord: concert
-    pitch in the score; in a transposed part written for it, so that music21's
-    ``toSoundingPitch`` gives the concert symbol back."""
+def _lead_symbols(path: Path, report: dict) -> list[tuple[Fraction, str]]:
+    """(offset in the part, symbol) of the chord symbols over the file's lead staff (the
+    score stands in score order: the lead found by name), read by music21 at sounding pitch:
+    ``toSoundingPitch`` of a transposed staff (a reader takes a part's ``<harmony>`` as
+    written pitch, MusicXML 4.0)."""
     from music21 import harmony
 
+    part = in_report_order(_m21(path), report)[0]
+    if report["section"]["parts"][0]["transposition"] and "Concert score" not in path.read_text():
+        part = part.toSoundingPitch()
+    return sorted((Q(cs.getOffsetInHierarchy(part)).limit_denominator(96), _symbol(cs))
+                  for cs in part.flatten().getElementsByClass(harmony.ChordSymbol))
+
+
+def test_music21_reads_the_chord_symbols_of_every_event(built) -> None:
+    """At each lead note the last chord symbol printed names the report's chord, read at
+    sounding pitch: the score's and the part's symbols over a transposed staff are written
+    for it, so that music21's ``toSoundingPitch`` gives the concert symbol back."""
+    transposed = 0
     for path, report, ks in _files(built):
         if ks[0] >= len(report["section"]["parts"]) or (len(ks) == 1 and ks[0] != 0):
             continue       # symbols stand over the lead part only
-        score = _m21(path)
-        part = in_report_order(score, report)[0]          # the lead part
-        if len(ks) == 1 and report["section"]["parts"][0]["transposition"]:
-            part = part.toSoundingPitch()
+        transposed += bool(report["section"]["parts"][0]["transposition"]) and len(ks) > 1
         pickup = Q(report["rhythm"]["pickup"]).limit_denominator(96)
-        syms = sorted((Q(cs.getOffsetInHierarchy(part)).limit_denominator(96), _symbol(cs))
-                      for cs in part.flatten().getElementsByClass(harmony.ChordSymbol))
+        syms = _lead_symbols(path, report)
         assert syms, path.name
         for e in report["events"]:
             on = (Q(e["onset"]).limit_denominator(96) + pickup) * _scale(report)
@@ -257,6 +268,43 @@ def test_music21_reads_the_chord_symbols_of_every_event(built) -> None:
             if not last and e["onset"] < 0:
                 continue         # a pickup under bar 1's chord: the symbol stands over bar 1
             assert last and last[-1] == e["chord"], (path.name, e["index"], last[-1:], e["chord"])
+    assert transposed           # a transposed score with a transposed lead was read
+
+
+def test_a_chord_starting_where_the_lead_rests_has_its_symbol_at_its_beat(tmp_path: Path) -> None:
+    """A chord symbol marks where the harmony changes, not a melody note (common practice of
+    lead sheets and charts): a framework chord that starts on a beat where the lead rests
+    takes its symbol on that beat (music21 reads the score), and at every framework beat the
+    symbol in force names the chord there (same root) or the lead note sounding across it."""
+    from music21 import harmony
+
+    text = (BASIC.replace('framework = "F6 | F6 | Gm7 C7 | F6"',
+                          'framework = "F6:3 D7:1 | Gm7:3 C7:1 | F6:3 D7:1 | Gm7 C7 | F6"')
+            .replace("[harmony]", '[rhythm]\ngroove = "straight"\ncell = "4 4 4 r4"\n\n[harmony]'))
+    proj = write_project(tmp_path, text)
+    r = run_cli("build", str(proj), "-o", str(tmp_path / "o"), "--formats", "musicxml,report")
+    assert r.exit_code == 0, r.output
+    report = json.loads((tmp_path / "o" / "test-cue.report.json").read_text())
+    syms = _lead_symbols(tmp_path / "o" / "test-cue.musicxml", report)
+    pickup = Q(report["rhythm"]["pickup"]).limit_denominator(96)
+    spans = [(Q(e["onset"]).limit_denominator(96), Q(e["onset"] + e["duration"]).limit_denominator(96))
+             for e in report["events"]]
+    rested = 0
+    for fc in report["framework"]:
+        on = Q(fc["onset"]).limit_denominator(96)
+        sounding = [(a, b) for a, b in spans if a <= on < b]
+        last = [(o, s) for o, s in syms if o <= on + pickup]
+        assert last, fc
+        o, sym = last[-1]
+        root = harmony.ChordSymbol(m21_figure(fc["chord"])).root().pitchClass
+        if not sounding:                 # the lead rests: the symbol stands on the chord's beat
+            rested += 1
+            assert o == on + pickup and harmony.ChordSymbol(m21_figure(sym)).root().pitchClass == root, \
+                (fc["bar"], fc["chord"], float(o), sym)
+        else:                            # the lead sounds: its chord is the one in force
+            held = next(e for e in report["events"] if Q(e["onset"]).limit_denominator(96) == sounding[0][0])
+            assert sym == held["chord"], (fc["bar"], fc["chord"], sym, held["chord"])
+    assert rested >= 2
 
 
 # ---------------------------------------------------------------------------------------------
@@ -528,6 +576,34 @@ def test_the_preview_draws_every_staff_in_its_own_key(built) -> None:
                 assert got[n][str(m.number)] == sharps, (slug, n, m.number)
                 checked += 1
     assert checked
+
+
+_HARM_SVG = re.compile(r'class="harm">.*?class="text bounding-box">\s*<rect x="(-?\d+)" y="(-?\d+)" '
+                       r'height="(\d+)" width="(\d+)".*?font-size="(\d+)px">([^<]*)<', re.S)
+
+
+def test_no_two_chord_symbols_closer_than_three_quarters_of_an_em(built) -> None:
+    """verovio's own bounding boxes (its ``svgBoundingBoxes`` option) of every chord symbol
+    on every page the preview draws: two symbols keep about 3/4 em apart (common practice of
+    engraving: "Bb7 Cmaj7" never reads "Bb7Cmaj7"), measured in the symbol's font size."""
+    from arrange.writers import preview
+
+    pairs = 0
+    for slug, (folder, _report) in built.items():
+        tk = preview.toolkit_for((folder / f"{slug}.musicxml").read_bytes())   # what the preview draws
+        tk.setOptions({"svgBoundingBoxes": True})
+        for page in range(1, tk.getPageCount() + 1):
+            boxes = [m.groups() for m in _HARM_SVG.finditer(tk.renderToSVG(page))]
+            for i, a in enumerate(boxes):
+                x1, y1, h1, w1, em = (int(v) for v in a[:5])
+                for b in boxes[i + 1:]:
+                    x2, y2, h2, w2, _ = (int(v) for v in b[:5])
+                    dx = max(0, x2 - (x1 + w1), x1 - (x2 + w2))
+                    dy = max(0, y2 - (y1 + h1), y1 - (y2 + h2))
+                    gap = (dx * dx + dy * dy) ** 0.5 / em
+                    assert gap >= 0.75, (slug, page, a[5], b[5], round(gap, 2))
+                    pairs += 1
+    assert pairs
 
 
 # ---------------------------------------------------------------------------------------------

@@ -112,7 +112,10 @@ def test_parts_in_written_pitch_with_their_own_key(built) -> None:
     assert part.parts[0].atSoundingPitch is False
 
 
-def test_chord_symbols_concert_in_score_transposed_in_part(built) -> None:
+def test_chord_symbols_written_for_the_staff_in_score_and_part(built) -> None:
+    """Over a transposed staff the symbols are written for it, in the score as in the part
+    (MusicXML 4.0: a part's notes and harmonies are in written pitch where it has a
+    ``<transpose>``), so music21's ``toSoundingPitch`` gives the concert symbol back."""
     from music21 import converter, harmony
 
     out, report = built
@@ -122,8 +125,10 @@ def test_chord_symbols_concert_in_score_transposed_in_part(built) -> None:
     cs_score = score.parts[0].flatten().getElementsByClass(harmony.ChordSymbol)[0]
     cs_part = part.parts[0].flatten().getElementsByClass(harmony.ChordSymbol)[0]
     assert first.startswith("Bb")
-    assert cs_score.root().name == "B-"      # concert, as it sounds (common practice)
-    assert cs_part.root().name == "C"        # with the Bb part, a major 2nd up
+    assert cs_score.root().name == "C"       # with the Bb staff, a major 2nd up
+    assert cs_part.root().name == "C"
+    sounding = score.toSoundingPitch().parts[0].flatten().getElementsByClass(harmony.ChordSymbol)[0]
+    assert sounding.root().name == "B-"      # concert, as it sounds
 
 
 def test_score_marks(built) -> None:

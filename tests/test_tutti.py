@@ -62,10 +62,10 @@ def _chords_and_columns(out: Path):  # noqa: ANN202
     written = converter.parse(str(out / "tutti-check.musicxml"))
     # the lead trumpet (the score puts the saxophones above it: score order)
     k = [p.partName for p in written.parts].index("Trumpet 1")
-    # the score's chord symbols are at concert pitch (music21 would transpose them with the part)
-    symbols = [(Fraction(cs.offset), cs)
-               for cs in written.parts[k].flatten().getElementsByClass(harmony.ChordSymbol)]
     score = written.toSoundingPitch()
+    # the score's chord symbols are written for the staff they stand over: read at sounding pitch
+    symbols = [(Fraction(cs.offset), cs)
+               for cs in score.parts[k].flatten().getElementsByClass(harmony.ChordSymbol)]
     parts = [(p.partName, p.flatten()) for p in score.parts]
     lead = parts[k][1]
     columns = []

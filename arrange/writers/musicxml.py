@@ -12,59 +12,37 @@ written pitch.  Staves come from :mod:`.xml_score`, marks from :mod:`.marks`.
 """
 from __future__ import annotations
 
-import xml.etree.ElementTree as ET
 from fractions import Fraction
 
 from arrange.voicing.voicer import Voiced
 from arrange.writers import marks
 from arrange.writers.common import written_parts
-from arrange.writers.symbols import harmony_parts
+from arrange.writers.symbols import chord_changes
+from arrange.writers.xml_harmony import harmony_element
 from arrange.writers.xml_document import StaffPart, document, heading, passage_bars, swing_ratio, written_keys  # noqa: F401
 from arrange.writers.xml_layers import layer_staves
-from arrange.writers.xml_score import (
-    Interval,
-    ScoreInfo,
-    Staff,
-    concert_clef,
-    interval_of,
-    part_abbreviation,
-    split_name,
-    sub,
-    transpose_name,
-)
+from arrange.writers.xml_score import ScoreInfo, Staff, concert_clef, interval_of, part_abbreviation
 
-__all__ = ["ScoreInfo", "musicxml_bytes", "part_bytes", "swing_ratio", "lead_staff", "harmony"]
+__all__ = ["ScoreInfo", "musicxml_bytes", "part_bytes", "swing_ratio", "lead_staff", "at_time"]
 
-def harmony(chord, ivl: Interval) -> ET.Element:  # noqa: ANN001
-    """``<harmony>``: root, kind (its text our canonical symbol), bass, and the degrees
-    that make the kind our chord, not printed twice (``print-object="no"``)."""
-    h = ET.Element("harmony")
-    root = sub(h, "root")
-    step, alter, _ = split_name(transpose_name(chord.root_name, ivl))
-    sub(root, "root-step", step)
-    if alter:
-        sub(root, "root-alter", alter)
-    kind, degrees = harmony_parts(chord)
-    sub(h, "kind", kind, text=chord.quality)
-    if chord.bass_name:
-        bass = sub(h, "bass")
-        b_step, b_alter, _ = split_name(transpose_name(chord.bass_name, ivl))
-        sub(bass, "bass-step", b_step)
-        if b_alter:
-            sub(bass, "bass-alter", b_alter)
-    for value, alter_, kind_ in degrees:
-        d = sub(h, "degree", **{"print-object": "no"})
-        sub(d, "degree-value", value)
-        sub(d, "degree-alter", alter_)
-        sub(d, "degree-type", kind_)
-    return h
+def at_time(line, t: Fraction) -> tuple[int, Fraction]:  # noqa: ANN001
+    """(written measure index, offset in it) of time ``t`` (quarter notes from bar 1's
+    downbeat; a pickup is measure 0)."""
+    shift = 1 if line.pickup else 0
+    if t < 0:
+        return 0, t + line.pickup
+    bar = line.meter.bar
+    m = int(t // bar)
+    return m + shift, t - m * bar
 
 
-def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, symbols_ivl: Interval | None = None,
-               top: bool | None = None) -> Staff:
-    """Part ``k`` of the lead section; ``lead``: this staff carries the symbols (over a
-    transposed lead they stay concert in the score: ``symbols_ivl``); ``top`` (default
-    ``lead``): it also carries tempo, style and letters (:func:`top_marks`)."""
+def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, top: bool | None = None) -> Staff:
+    """Part ``k`` of the lead section; ``lead``: this staff carries the chord symbols;
+    ``top`` (default ``lead``): it also carries tempo, style and letters (:func:`top_marks`;
+    in the full score they go over the top staff, score order).  Symbols stand at the beat
+    each chord starts (``symbols.chord_changes``) and over a transposed staff are written
+    for it (the transposed score as its parts: one convention for every page a player or a
+    reader takes the symbols from)."""
     h = voiced.harmonized
     line = h.line
     part = voiced.section.parts[k]
@@ -75,19 +53,14 @@ def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, symbols_ivl:
     staff = Staff(line, written_keys(h, ivl), clef, ivl, passage_bars(line))
     names = written_parts(voiced, (), info.concert)[0][k]     # theory.written, one rule for all
     firsts = []
-    prev_chord = None
     for i, ve in enumerate(voiced.events):
         n = ve.event.note
-        first = staff.add_note(names[i], n.onset, n.duration, n.articulation, written=True)
-        firsts.append(first)
-        # a pickup on the chord of bar 1 takes no symbol of its own: the symbol stands over
-        # bar 1, as lead sheets write it (common practice)
-        pickup_on_first = n.onset < 0 and ve.event.role == "framework" and \
-            bool(h.framework) and ve.event.chord == h.framework[0].chord
-        if lead and ve.event.chord.symbol != prev_chord and not pickup_on_first:
-            staff.add_mark(first.measure, first.offset, 5,
-                           harmony(ve.event.chord, ivl if symbols_ivl is None else symbols_ivl))
-            prev_chord = ve.event.chord.symbol
+        firsts.append(staff.add_note(names[i], n.onset, n.duration, n.articulation, written=True))
+    if lead:
+        for t, chord in chord_changes([ve.event for ve in voiced.events], h.framework):
+            m, off = at_time(line, t)
+            if m < len(staff.notes):
+                staff.add_mark(m, off, 5, harmony_element(chord, ivl=ivl))
     for i, dyn in marks.entrances(voiced, info.dynamics):
         staff.add_mark(firsts[i].measure, firsts[i].offset, 4, marks.dynamic(dyn))
     if lead if top is None else top:
@@ -158,10 +131,8 @@ def musicxml_bytes(voiced: Voiced, info: ScoreInfo, layers: tuple = ()) -> bytes
         staff = lead_staff(voiced, k, info, lead=True)
         return document(info.title, info.version, parts[k].name,
                         [StaffPart(staff, parts[k], part_abbreviation(parts[k]), k)], [])
-    lead_ivl = interval_of(parts[0].instrument, info.concert)
-    staves = [StaffPart(lead_staff(voiced, k, info, lead=k == 0,
-                                   symbols_ivl=Interval() if lead_ivl.semitones else None, top=False),
-                        p, part_abbreviation(p), k) for k, p in enumerate(parts)]
+    staves = [StaffPart(lead_staff(voiced, k, info, lead=k == 0, top=False), p, part_abbreviation(p), k)
+              for k, p in enumerate(parts)]
     groups = marks.part_groups([(voiced.section, 0)], bracket_all=False)
     if layers:
         if not groups:

@@ -14,7 +14,8 @@ import re
 
 from arrange.errors import OutputError
 
-__all__ = ["svg_bytes", "png_bytes", "have_png", "PAGE_WIDTH", "MAX_PAGES", "toolkit_for", "per_staff_keys",
+__all__ = ["svg_bytes", "png_bytes", "have_png", "PAGE_WIDTH", "MAX_PAGES", "toolkit_for", "per_staff_keys", "pages",
+           "symbol_gaps", "SYMBOL_GAP", "spaced_symbols",
            "staff_keys"]
 
 PAGE_WIDTH = 2100      # verovio units (tenths of a mm): an A4 page width
@@ -42,24 +43,96 @@ def _toolkit():  # noqa: ANN202
 
 def toolkit_for(musicxml: bytes):  # noqa: ANN201
     """A verovio toolkit holding the score as the preview draws it: every staff keeps its
-    own key signature at every key change (:func:`per_staff_keys`)."""
+    own key signature at every key change (:func:`per_staff_keys`), and no two chord
+    symbols come closer than :data:`SYMBOL_GAP` em (:func:`spaced_symbols`, :func:`_uncrowd`)."""
+    return _layout(musicxml)[0]
+
+
+def _layout(musicxml: bytes):  # noqa: ANN202
     tk = _toolkit()
     if not tk.loadData(_for_engraver(musicxml)):
         raise OutputError("verovio could not read the score it was given", where="preview",
                           accepted="a MusicXML score")
     keys = staff_keys(musicxml)
+    mei = tk.getMEI()
     if any(len(k) > 1 for k in keys.values()):
-        tk.loadData(per_staff_keys(tk.getMEI(), keys))
-    return tk
+        mei = per_staff_keys(mei, keys)
+    mei = spaced_symbols(mei)
+    tk.setOptions({"lyricSize": _HARM_FONT * _HARM_SCALE, "svgBoundingBoxes": True})
+    tk.loadData(mei)
+    return _uncrowd(tk, mei)
+
+
+# Chord symbols never touch (common practice of engraving: about an em between two symbols,
+# so "Bb7 Cmaj7" never reads "Bb7Cmaj7").  verovio widens a measure so that two chord
+# symbols keep two drawing units apart, counted in the font it lays them out in (its lyric
+# font: option ``lyricSize``, 4.5 units by default).  The symbols are laid out in that font
+# made 1.78 times larger and drawn at the usual size (an MEI ``<rend fontsize>``), so the
+# space verovio keeps is 2 x 1.78 = 3.56 units, about 0.79 em of the drawn symbol.  Where a
+# full system still squeezes them (verovio then compresses the whole system), the system is
+# split in two (:func:`_uncrowd`), as an engraver gives a crowded line more room.
+SYMBOL_GAP = 0.75         # em: the least space between two chord symbols in the picture
+_HARM_FONT = 4.5          # verovio's default lyricSize: the drawn size of a chord symbol
+_HARM_SCALE = 8.0 / 4.5   # verovio's largest lyricSize over it
+_HARM = re.compile(r"(<harm\b[^>]*>)(.*?)(</harm>)", re.S)
+_PASSES = 4               # layouts at most: each splits every crowded system in two
+_BBOX = re.compile(r'<g id="bbox-[^"]*" class="[^"]*bounding-box"\s*(?:/>|>\s*<rect[^>]*/>\s*</g>)\s*')
+_SYSTEM = re.compile(r'<g id="[^"]*" class="system"')
+_MEASURE = re.compile(r'<g id="([^"]+)" class="measure"')
+_HARM_BOX = re.compile(r'class="harm">.*?class="text bounding-box">\s*<rect x="(-?\d+)" y="(-?\d+)" '
+                       r'height="(\d+)" width="(\d+)".*?font-size="(\d+)px"', re.S)
+
+
+def spaced_symbols(mei: str) -> str:
+    """Every ``<harm>`` of verovio's MEI drawn through a ``<rend>`` at 1 / ``_HARM_SCALE``
+    of the font verovio spaces it in."""
+    size = f"{100 / _HARM_SCALE:.0f}%"
+    return _HARM.sub(lambda m: f'{m.group(1)}<rend fontsize="{size}">{m.group(2)}</rend>{m.group(3)}', mei)
+
+
+def symbol_gaps(svg: str) -> list[tuple[list[str], float]]:
+    """Per system of a page drawn with verovio's ``svgBoundingBoxes``: its measures' ids and
+    the least distance between two of its chord symbols' boxes, in em of the symbol."""
+    out = []
+    cuts = [m.start() for m in _SYSTEM.finditer(svg)] + [len(svg)]
+    for a, b in zip(cuts, cuts[1:], strict=False):
+        part = svg[a:b]
+        boxes = [tuple(int(v) for v in m.groups()) for m in _HARM_BOX.finditer(part)]
+        least = float("inf")
+        for i, (x1, y1, h1, w1, f1) in enumerate(boxes):
+            for x2, y2, h2, w2, _ in boxes[i + 1:]:
+                dx = max(0, x2 - (x1 + w1), x1 - (x2 + w2))
+                dy = max(0, y2 - (y1 + h1), y1 - (y2 + h2))
+                least = min(least, (dx * dx + dy * dy) ** 0.5 / max(f1, 1))
+        out.append(([m.group(1) for m in _MEASURE.finditer(part)], least))
+    return out
+
+
+def _uncrowd(tk, mei: str):  # noqa: ANN001, ANN202
+    """Lay the score out; while a system holds two chord symbols closer than
+    :data:`SYMBOL_GAP`, split each such system at its middle measure (MEI ``<sb/>``, read
+    as verovio's encoded line breaks) and lay it out again.  The toolkit and its pages."""
+    for _ in range(_PASSES):
+        svgs = [tk.renderToSVG(p) for p in range(1, tk.getPageCount() + 1)]
+        systems = [s for svg in svgs for s in symbol_gaps(svg)]
+        crowded = [ids for ids, gap in systems if gap < SYMBOL_GAP and len(ids) > 1]
+        if not crowded:
+            return tk, svgs
+        starts = [ids[0] for ids, _ in systems[1:] if ids] + [ids[len(ids) // 2] for ids in crowded]
+        broken = mei
+        for mid in starts:
+            broken = broken.replace(f'<measure xml:id="{mid}"', f'<sb/><measure xml:id="{mid}"', 1)
+        tk.setOptions({"breaks": "line"})
+        tk.loadData(broken)
+    return tk, [tk.renderToSVG(p) for p in range(1, tk.getPageCount() + 1)]
 
 
 def pages(musicxml: bytes, limit: int | None = None) -> tuple[list[str], int]:
     """The first ``limit`` pages (all by default) of the score as SVG documents
     (verovio's layout), and how many pages the score has."""
-    tk = toolkit_for(musicxml)
-    total = tk.getPageCount()
-    drawn = total if limit is None else min(total, limit)
-    return [_fonts(_plain_text_glyphs(tk.renderToSVG(i))) for i in range(1, drawn + 1)], total
+    svgs = _layout(musicxml)[1]
+    drawn = len(svgs) if limit is None else min(len(svgs), limit)
+    return [_fonts(_plain_text_glyphs(_BBOX.sub("", svg))) for svg in svgs[:drawn]], len(svgs)
 
 
 # verovio names "Times, serif" for its text; a renderer takes the first family it has, so

@@ -1,11 +1,62 @@
-"""Chord symbols: the MusicXML ``<harmony>`` kind and degrees of our chords (the writer's),
-and ``m21_figure``, the figure music21's own parser reads to the same tones (for tests
-and readers that use music21 as the reference)."""
+"""Chord symbols: where they stand (:func:`chord_changes`), the MusicXML ``<harmony>`` kind
+and degrees of our chords (:func:`harmony_parts`, which :mod:`.xml_harmony` builds the
+element from), and ``m21_figure``, the figure music21's own parser reads to the same tones
+(for tests and readers that use music21 as the reference)."""
 from __future__ import annotations
+
+from collections.abc import Sequence
+from fractions import Fraction
+from typing import Any
 
 from arrange.theory.chords import Chord, parse_chord
 
-__all__ = ["m21_figure", "harmony_parts"]
+__all__ = ["m21_figure", "harmony_parts", "chord_changes"]
+
+
+def chord_changes(events: Sequence[Any], framework: Sequence[Any]) -> list[tuple[Fraction, Chord]]:
+    """(time, chord) of every chord symbol over the lead: each chord at the beat where it
+    starts sounding (common practice of lead sheets and charts: a symbol marks a change of
+    harmony, not a melody note).  ``events`` are the harmony stage's events (a lead note
+    with the chord that sounds from its onset: approach chords start there; a held note the
+    harmony stage cuts at a framework chord is an event of its own at that beat),
+    ``framework`` its framework chords (``onset``, ``duration``, ``chord``).
+
+    A framework chord whose beat falls where the lead rests takes its symbol at its own beat
+    (the rhythm section and pads play it there), named as the first lead note inside it
+    sounds it when that note keeps the chord's root (a sixth chord named maj7 for its
+    voicing).  A pickup on the chord of bar 1 takes no symbol of its own: the symbol stands
+    over bar 1, as lead sheets write it.  A symbol is written only where the name changes."""
+    spans = [(e.note.onset, e.note.onset + e.note.duration) for e in events]
+    first = framework[0] if framework else None
+
+    def pickup_on_first(e: Any) -> bool:
+        return e.note.onset < 0 and first is not None and e.role == "framework" and e.chord == first.chord
+
+    over_bar_1 = any(pickup_on_first(e) for e in events)
+    rows: list[tuple[Fraction, int, Chord]] = []          # (time, 0 framework beat / 1 note, chord)
+    for fc in framework:
+        if any(a <= fc.onset < b for a, b in spans) and not (fc is first and over_bar_1):
+            continue                                        # a lead note sounds: its chord is there
+        inside = [e for e in events if fc.onset < e.note.onset < fc.onset + fc.duration]
+        chord = fc.chord
+        if inside and inside[0].role == "framework" and inside[0].chord.root == fc.chord.root:
+            chord = inside[0].chord
+        rows.append((fc.onset, 0, chord))
+    for e in events:
+        if pickup_on_first(e):
+            continue
+        rows.append((e.note.onset, 1, e.chord))
+    rows.sort(key=lambda r: (r[0], r[1]))
+    out: list[tuple[Fraction, Chord]] = []
+    for t, _, chord in rows:
+        if out and out[-1][0] == t:                        # a note on the beat names the chord there
+            out[-1] = (t, chord)
+            if len(out) > 1 and out[-2][1].symbol == chord.symbol:
+                out.pop()
+            continue
+        if not out or out[-1][1].symbol != chord.symbol:
+            out.append((t, chord))
+    return out
 
 
 _M21_CORE = {(0, 4, 7): "", (0, 3, 7): "m", (0, 3, 6): "dim", (0, 4, 8): "+", (0, 2, 7): "sus2",
