@@ -233,15 +233,17 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
         from arrange.project import slugify
         from arrange.writers.musicxml import part_bytes
 
+        parts_dir = f"{slug}-parts"        # one folder, replaced as a whole (writers.files)
+
         for k, part_xml in part_bytes(voiced, info).items():
             name = voiced.section.parts[k].name
-            files[f"{slug}.part{k + 1:02d}-{slugify(name)}.musicxml"] = part_xml
+            files[f"{parts_dir}/part{k + 1:02d}-{slugify(name)}.musicxml"] = part_xml
         if layers:
             from arrange.writers.xml_layers import layer_part_bytes
 
             first = len(voiced.section.parts)
             for j, (name, part_xml) in enumerate(layer_part_bytes(voiced, info, layers)):
-                files[f"{slug}.part{first + j + 1:02d}-{slugify(name)}.musicxml"] = part_xml
+                files[f"{parts_dir}/part{first + j + 1:02d}-{slugify(name)}.musicxml"] = part_xml
         if rhythm is not None:
             from arrange.writers.xml_rhythm import rhythm_part_files
 
@@ -249,7 +251,7 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
             for j, (name, part_xml) in enumerate(rhythm_part_files(
                     rhythm, voiced.harmonized, project.title, project.tempo, _style(project), __version__,
                     bass_names=_bass_names(voiced, layers, rhythm))):
-                files[f"{slug}.part{first + j + 1:02d}-{slugify(name)}.musicxml"] = part_xml
+                files[f"{parts_dir}/part{first + j + 1:02d}-{slugify(name)}.musicxml"] = part_xml
     midi = None
     if "midi" in formats or out.audio:
         from arrange.writers.midi import MidiOptions, midi_bytes

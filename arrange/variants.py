@@ -171,7 +171,6 @@ def build_variants(project_path: Path, specs: tuple[str, ...], out_dir: Path,
                    formats: tuple[str, ...] | None = None,
                    adjust: Callable[[Project], Project] | None = None) -> list[Path]:
     """Build every combination into ``out_dir/<folder>/`` and write ``variants.md``."""
-    from arrange.build import render_project
     from arrange.writers.files import write_sets
 
     varies = [parse_vary(s) for s in specs]
@@ -186,19 +185,78 @@ def build_variants(project_path: Path, specs: tuple[str, ...], out_dir: Path,
     counted = 0
     for var in variants:                       # every combination counts toward the limits
         counted += check_size(var.project, where=f"--vary {var.name}", already=counted)
-    rendered = []
-    for var in variants:                       # everything in memory before a file is written
-        try:
-            voiced, layers, files = render_project(var.project, formats)
-        except ArrangeError as err:
-            raise type(err)(err.what, where=f"--vary {var.name}: {err.where or ''}".rstrip(": "),
-                            accepted=err.accepted) from None
-        rendered.append((var, voiced, layers, files))
-    rows = [_row(var, voiced, layers, files) for var, voiced, layers, files in rendered]
-    sets = [(out_dir / var.folder, files) for var, _voiced, _layers, files in rendered]
+    rendered = _render_all(variants, formats)  # everything in memory before a file is written
+    for var, (error, _row_data, _files) in zip(variants, rendered, strict=True):
+        if error is not None:                  # the first combination in order that failed
+            cls, what, where, accepted = error
+            raise cls(what, where=f"--vary {var.name}: {where or ''}".rstrip(": "), accepted=accepted)
+    rows = [row for _error, row, _files in rendered]
+    sets = [(out_dir / var.folder, files) for var, (_e, _r, files) in zip(variants, rendered, strict=True)]
     sets.append((out_dir, {"variants.md": variants_markdown(p.name, varies, rows)}))
     written = write_sets(out_dir, sets)            # every folder and variants.md, all or nothing
     return written
+
+
+# the combinations a worker process reads (inherited when it is forked, not sent to it)
+_JOBS: tuple[list[Variant], tuple[str, ...] | None] = ([], None)
+
+_Rendered = tuple[tuple[type, str, str | None, str | None] | None, dict[str, Any], dict[str, bytes]]
+
+
+def _render_one(i: int) -> _Rendered:
+    """Combination ``i`` of :data:`_JOBS` built in memory: (error or None, its
+    ``variants.md`` row, its files)."""
+    from arrange.build import render_project
+
+    var, formats = _JOBS[0][i], _JOBS[1]
+    try:
+        voiced, layers, files = render_project(var.project, formats)
+    except ArrangeError as err:
+        return (type(err), err.what, err.where, err.accepted), {}, {}
+    return None, _row(var, voiced, layers, files), files
+
+
+def _processors() -> int:
+    import os
+
+    try:
+        return len(os.sched_getaffinity(0))
+    except (AttributeError, OSError):
+        return os.cpu_count() or 1
+
+
+def _render_all(variants: list[Variant], formats: tuple[str, ...] | None) -> list[_Rendered]:
+    """Every combination built in memory, in order.  Each is independent of the others
+    and most of each one's time is its own preview (verovio's layout and the PNG), so
+    where the machine has more than one processor the combinations are shared among
+    forked worker processes (the results, rows and file bytes, come back in order);
+    elsewhere, or where a process cannot be forked, one after another."""
+    global _JOBS
+    _JOBS = (variants, formats)
+    workers = min(len(variants), _processors())
+    try:
+        if workers > 1:
+            import multiprocessing
+
+            try:
+                context = multiprocessing.get_context("fork")
+            except ValueError:                 # no fork on this platform
+                context = None
+            if context is not None:
+                # leaving the block terminates the workers (Ctrl-C and SIGTERM are the
+                # parent's to handle: the workers ignore the one and die of the other)
+                with context.Pool(workers, initializer=_worker_signals) as pool:
+                    return pool.map(_render_one, range(len(variants)), chunksize=1)
+        return [_render_one(i) for i in range(len(variants))]
+    finally:
+        _JOBS = ([], None)
+
+
+def _worker_signals() -> None:
+    import signal
+
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
 
 
 def _row(var: Variant, voiced: Any, layers: Any, files: dict[str, bytes]) -> dict[str, Any]:

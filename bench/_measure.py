@@ -21,18 +21,28 @@ _WRAPPER = (
     "t = time.perf_counter()\n"
     "r = subprocess.run(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, cwd=sys.argv[2])\n"
     "dt = time.perf_counter() - t\n"
-    "print(json.dumps([dt, resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss, r.returncode]))\n"
+    "u = resource.getrusage(resource.RUSAGE_CHILDREN)\n"
+    "print(json.dumps([dt, u.ru_maxrss, r.returncode, u.ru_utime + u.ru_stime]))\n"
 )
 
 
 def run_once(cmd: list[str], cwd: Path = ROOT) -> tuple[float, int]:
     """(seconds, peak KiB) of one run of ``cmd`` in a fresh process."""
+    wall, _cpu, rss = run_measured(cmd, cwd)
+    return wall, rss
+
+
+def run_measured(cmd: list[str], cwd: Path = ROOT) -> tuple[float, float, int]:
+    """(wall seconds, processor seconds, peak KiB) of one run of ``cmd`` in a fresh process.
+    Processor seconds (user + system, the operating system's accounting of the finished
+    command and every process it waited for) hold better than wall seconds on a machine
+    others are using at the same time."""
     out = subprocess.run([sys.executable, "-c", _WRAPPER, json.dumps(cmd), str(cwd)],
                          capture_output=True, text=True, check=True)
-    dt, rss, rc = json.loads(out.stdout)
+    dt, rss, rc, cpu = json.loads(out.stdout)
     if rc != 0:
         raise RuntimeError(f"{cmd} exited {rc}")
-    return float(dt), int(rss)
+    return float(dt), float(cpu), int(rss)
 
 
 def side_by_side(cmds: dict[str, list[str]], repeats: int = 7, cwd: Path = ROOT,

@@ -1,137 +1,126 @@
 """Floor (b) for `arrange build`: the least work that writes the same files.
 
-Usage: python floor_minimal.py REPORT.json OUT_DIR [--preview]
+Usage: python floor_minimal.py DIGEST.json REPORT.json OUT_DIR [--report] [--preview]
 
-Reads the notes (sounding pitches, onsets, durations), chords, tempo and meter from a
-report that `arrange build` wrote and writes them with string templates (MusicXML: one
-measure element per bar, notes cut and tied at bar lines, rests in the gaps, a <harmony>
-per chord change) and mido (MIDI: one track per part).  With --preview, verovio lays the
-MusicXML out and resvg-py draws the PNG, as arrange does.  No spelling, beams, marks or
-layout rules: a floor, not a writer.
+Every musical decision comes for free: ``_digest.py`` stored what a build's score and MIDI
+hold (read before any timing).  This script only writes: the MusicXML with string
+templates (one per element, texts already escaped), the MIDI through mido (one message
+per event, then ``save``), with --report the report (its JSON loaded and dumped again by
+``json``, its Markdown copied), and with --preview
+the same picture arrange draws: verovio lays the score out with the same options, every
+page is stacked into one SVG at the same size, and resvg-py draws the PNG.  Its files are
+byte for byte arrange's (``build_bench.py`` checks that), so the two sides write the same
+files and differ only in the work done to decide them.
 """
 from __future__ import annotations
 
 import json
+import re
 import sys
-from fractions import Fraction
 from pathlib import Path
 
-STEPS = ["C", "C#", "D", "D#", "E", "F", "F#", "G", "G#", "A", "A#", "B"]
-TYPES = {Fraction(4): "whole", Fraction(2): "half", Fraction(1): "quarter", Fraction(1, 2): "eighth",
-         Fraction(1, 4): "16th", Fraction(3): "half", Fraction(3, 2): "quarter", Fraction(3, 4): "eighth"}
-DIV = 24
+_SERIF = "Times, 'Times New Roman', 'Liberation Serif', 'DejaVu Serif', 'Noto Serif', serif"
+_GLYPHS = {"\ueca5": "\u2669", "\ueca7": "\u266a", "\ueca6": "\u2669", "\uea64": "\u266d", "\uea65": "\u266e",
+           "\uea66": "\u266f", "\ue260": "\u266d", "\ue261": "\u266e", "\ue262": "\u266f", "\uecb7": ".", " ": ""}
+_SMUFL = re.compile(r'<tspan font-family="Leipzig" font-size="(\d+)px">([^<]*)</tspan>')
+_KEY_CHANGE = re.compile(r'<scoreDef [^>]*>\s*<keySig [^>]*?mode="([^"]*)"[^>]*/>\s*</scoreDef>'
+                         r'(\s*<measure [^>]*\bn="([^"]+)")')
+_VIEWBOX = re.compile(r'viewBox="0 0 ([\d.]+) ([\d.]+)"')
 
 
-def _note(pitch: int | None, dur: Fraction, tie: str) -> str:
-    if pitch is None:
-        head = "<rest/>"
+def _xml(node: list, out: list[str]) -> None:
+    tag, attrs, text, children, tail = node
+    out.append("<" + tag + "".join(f" {k}={v}" for k, v in attrs))
+    if text is None and not children:
+        out.append(" />")
     else:
-        name = STEPS[pitch % 12]
-        alter = "<alter>1</alter>" if len(name) > 1 else ""
-        head = f"<pitch><step>{name[0]}</step>{alter}<octave>{pitch // 12 - 1}</octave></pitch>"
-    ties = "".join(f'<tie type="{t}"/>' for t in tie.split()) if tie else ""
-    typ = TYPES.get(dur)
-    return (f"<note>{head}<duration>{int(dur * DIV)}</duration>{ties}"
-            + (f"<type>{typ}</type>" if typ else "") + "</note>")
+        out.append(">")
+        if text is not None:
+            out.append(text)
+        for c in children:
+            _xml(c, out)
+        out.append(f"</{tag}>")
+    out.append(tail)
 
 
-def _part(notes: list[tuple[Fraction, Fraction, int | None]], bar: Fraction, bars: int,
-          chords: list[tuple[Fraction, str]], head: str) -> str:
-    measures: list[list[str]] = [[] for _ in range(bars)]
-    pos = [Fraction(0)] * bars
-    ch = iter(chords)
-    nxt = next(ch, None)
-    for onset, dur, pitch in notes:
-        t, end = onset, onset + dur
-        while t < end:
-            m = int(t // bar)
-            if m >= bars:
-                break
-            if pos[m] < t - m * bar:
-                measures[m].append(_note(None, t - m * bar - pos[m], ""))
-            piece = min(end, (m + 1) * bar) - t
-            tie = ("stop " if t > onset else "") + ("start" if t + piece < end else "")
-            while nxt is not None and nxt[0] <= t:
-                measures[m].append(f'<harmony><root><root-step>{nxt[1][0]}</root-step></root>'
-                                   f'<kind text="{nxt[1][1:]}">other</kind></harmony>')
-                nxt = next(ch, None)
-            measures[m].append(_note(pitch, piece, tie.strip()))
-            pos[m] = t - m * bar + piece
-            t += piece
-    out = []
-    for m, items in enumerate(measures):
-        if pos[m] < bar:
-            items.append(_note(None, bar - pos[m], ""))
-        attrs = head if m == 0 else ""
-        out.append(f'<measure number="{m + 1}">{attrs}{"".join(items)}</measure>')
-    return "".join(out)
+def _glyphs(m: re.Match[str]) -> str:
+    text = m.group(2)
+    if not text or any(c not in _GLYPHS for c in text):
+        return m.group(0)
+    return (f'<tspan font-family="DejaVu Sans, Segoe UI Symbol, sans-serif" font-size="{round(int(m.group(1)) * 0.6)}px">'
+            + "".join(_GLYPHS[c] for c in text) + "</tspan>")
 
 
-def main(report_path: str, out_dir: str, preview: bool) -> None:
+def _preview(xml: str, keys: dict[str, dict[str, int]]) -> tuple[bytes, bytes]:
+    import resvg_py
+    import verovio
+
+    tk = verovio.toolkit()
+    tk.setOptions({"pageWidth": 2100, "pageHeight": 2970, "scale": 40, "adjustPageHeight": True,
+                   "footer": "none", "header": "auto", "breaks": "auto", "svgViewBox": True, "xmlIdSeed": 1})
+    tk.loadData(re.sub(r"<degree print-object=\"no\">.*?</degree>\s*", "", xml, flags=re.S))
+    if any(len(k) > 1 for k in keys.values()):       # a key change: each staff keeps its own signature
+        def per_staff(m: re.Match[str]) -> str:
+            defs = []
+            for n, by in sorted(keys.items(), key=lambda kv: int(kv[0])):
+                if m.group(3) in by:
+                    f = by[m.group(3)]
+                    sig = f"{f}s" if f > 0 else f"{-f}f" if f < 0 else "0"
+                    defs.append(f'<staffDef n="{n}"><keySig mode="{m.group(1)}" sig="{sig}"/></staffDef>')
+            return "<scoreDef><staffGrp>" + "".join(defs) + "</staffGrp></scoreDef>" + m.group(2)
+        tk.loadData(_KEY_CHANGE.sub(per_staff, tk.getMEI()))
+    docs = [_SMUFL.sub(_glyphs, tk.renderToSVG(i).replace('font-family="Times, serif"', f'font-family="{_SERIF}"'))
+            for i in range(1, min(tk.getPageCount(), 6) + 1)]
+    sizes = []
+    for d in docs:
+        m = _VIEWBOX.search(d)
+        sizes.append((float(m.group(1)), float(m.group(2))) if m else (2100.0, 2970.0))
+    width, height = max(w for w, _ in sizes), sum(h for _, h in sizes)
+    body, y = [], 0.0
+    for d, (w, h) in zip(docs, sizes):
+        inner = d[d.index("<svg"):]
+        body.append(re.sub(r"<svg\b", f'<svg x="0" y="{y:g}" width="{w:g}" height="{h:g}"', inner, count=1))
+        y += h
+    svg = ('<?xml version="1.0" encoding="UTF-8"?>\n'
+           f'<svg xmlns="http://www.w3.org/2000/svg" xmlns:xlink="http://www.w3.org/1999/xlink" '
+           f'width="{round(width * 1.5)}" height="{round(height * 1.5)}" viewBox="0 0 {width:g} {height:g}">\n'
+           f'<rect x="0" y="0" width="{width:g}" height="{height:g}" fill="white"/>\n'
+           + "\n".join(body) + "\n</svg>\n")
+    return svg.encode("utf-8"), bytes(resvg_py.svg_to_bytes(svg_string=svg, background="white"))
+
+
+def main(digest_path: str, report_path: str, out_dir: str, report: bool, preview: bool) -> None:
     import mido
 
-    data = json.loads(Path(report_path).read_text())
-    num, den = (int(x) for x in data["rhythm"]["written_meter"].split("/"))
-    bar = Fraction(4 * num, den)
-    shift = Fraction(data["rhythm"]["pickup"]).limit_denominator(96)
-    rows = []
-    names = [p["name"] for p in data["section"]["parts"]]
-    for k in range(len(names)):
-        rows.append([(Fraction(e["onset"]).limit_denominator(96) + shift,
-                      Fraction(e["duration"]).limit_denominator(96), e["pitches"][k]) for e in data["events"]])
-    for la in data.get("layers", []):
-        for k, p in enumerate(la["parts"]):
-            names.append(p["name"])
-            rows.append([(Fraction(n["onset"]).limit_denominator(96) + shift,
-                          Fraction(n["duration"]).limit_denominator(96), n["pitches"][k])
-                         for n in la["notes"] if n["pitches"][k] is not None])
-    end = max(o + d for r in rows for o, d, _ in r)
-    bars = int(-(-end // bar))
-    chords, last = [], None
-    for e in data["events"]:
-        if e["chord"] != last:
-            last = e["chord"]
-            chords.append((Fraction(e["onset"]).limit_denominator(96) + shift, last))
-    head = (f"<attributes><divisions>{DIV}</divisions><time><beats>{num}</beats><beat-type>{den}"
-            "</beat-type></time></attributes>")
-    plist = "".join(f'<score-part id="P{i + 1}"><part-name>{n}</part-name></score-part>'
-                    for i, n in enumerate(names))
-    parts = "".join(f'<part id="P{i + 1}">{_part(r, bar, bars, chords if i == 0 else [], head)}</part>'
-                    for i, r in enumerate(rows))
-    xml = ('<?xml version="1.0" encoding="UTF-8"?><score-partwise version="4.0">'
-           f"<part-list>{plist}</part-list>{parts}</score-partwise>")
+    data = json.loads(Path(digest_path).read_text(encoding="utf-8"))
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
-    (out / "floor.musicxml").write_text(xml, encoding="utf-8")
-    (out / "floor.report.json").write_text(json.dumps(data, indent=1), encoding="utf-8")
+    parts = [data["prolog"]]
+    _xml(data["score"], parts)
+    parts.append(data["end"])
+    xml = "".join(parts)
+    (out / "floor.musicxml").write_bytes(xml.encode("utf-8"))
 
-    mf = mido.MidiFile(type=1, ticks_per_beat=480)
-    mf.tracks.append(mido.MidiTrack([mido.MetaMessage("set_tempo", tempo=mido.bpm2tempo(data["tempo"])),
-                                     mido.MetaMessage("time_signature", numerator=num, denominator=den)]))
-    for i, r in enumerate(rows):
-        evs = []
-        for o, d, p in r:
-            evs.append((int(o * 480), 1, mido.Message("note_on", channel=i % 16, note=p, velocity=80)))
-            evs.append((int((o + d) * 480) - 1, 0, mido.Message("note_off", channel=i % 16, note=p)))
-        evs.sort(key=lambda x: (x[0], x[1]))
-        trk, now = mido.MidiTrack(), 0
-        for t, _, msg in evs:
-            trk.append(msg.copy(time=t - now))
-            now = t
+    m = data["midi"]
+    mf = mido.MidiFile(type=m["type"], ticks_per_beat=m["ticks"])
+    for rows in m["tracks"]:
+        trk = mido.MidiTrack()
+        for d in rows:
+            meta = d.pop("meta")
+            trk.append(mido.MetaMessage(**d) if meta else mido.Message(**d))
         mf.tracks.append(trk)
     mf.save(str(out / "floor.mid"))
-    if preview:
-        import resvg_py
-        import verovio
 
-        tk = verovio.toolkit()
-        tk.setOptions({"pageWidth": 2100, "pageHeight": 2970, "scale": 40, "adjustPageHeight": True})
-        tk.loadData(xml)
-        svgs = [tk.renderToSVG(i) for i in range(1, tk.getPageCount() + 1)]
-        for i, svg in enumerate(svgs):        # every page, as arrange draws every page
-            (out / f"floor{i}.svg").write_text(svg, encoding="utf-8")
-            (out / f"floor{i}.png").write_bytes(bytes(resvg_py.svg_to_bytes(svg_string=svg, background="white")))
+    if report:
+        data_out = json.loads(Path(report_path).read_text(encoding="utf-8"))
+        (out / "floor.report.json").write_text(json.dumps(data_out, indent=2, ensure_ascii=False) + "\n",
+                                               encoding="utf-8")
+        (out / "floor.report.md").write_text(data["report_md"], encoding="utf-8")
+    if preview:
+        svg, png = _preview(xml, data["keys"])
+        (out / "floor.svg").write_bytes(svg)
+        (out / "floor.png").write_bytes(png)
 
 
 if __name__ == "__main__":
-    main(sys.argv[1], sys.argv[2], "--preview" in sys.argv[3:])
+    main(sys.argv[1], sys.argv[2], sys.argv[3], "--report" in sys.argv[4:], "--preview" in sys.argv[4:])

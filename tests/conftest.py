@@ -64,7 +64,8 @@ def write_project(folder: Path, text: str, name: str = "p.toml") -> Path:
 def snapshot(folder: Path) -> dict[str, bytes]:
     if not folder.exists():
         return {}
-    return {p.name: p.read_bytes() for p in sorted(folder.iterdir()) if p.is_file()}
+    # every file, subfolders too (the parts' folder), by path relative to ``folder``
+    return {str(p.relative_to(folder)): p.read_bytes() for p in sorted(folder.rglob("*")) if p.is_file()}
 
 
 BASIC = '''title = "Test Cue"

@@ -258,7 +258,7 @@ def built(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Built]:
         b = Built(name, o, "concert_score = true" in text, report,
                   (o / f"{stem}.report.md").read_text(encoding="utf-8"), score,
                   sounding, parts,
-                  sorted(o.glob(f"{stem}.part*.musicxml"))[:len(parts)], keys, chords, bass=bass)
+                  sorted((o / f"{stem}-parts").glob("part*.musicxml"))[:len(parts)], keys, chords, bass=bass)
         for k, f in enumerate(b.part_files):
             w = converter.parse(str(f))
             b.files.append((f.name, k, w, w.toSoundingPitch(inPlace=False)))

@@ -346,7 +346,7 @@ def test_form_double_bars_in_every_part_and_files_validate(form_band: tuple[Path
     starts = [p["first_bar"] for p in report["passages"]][1:]
     score_path = out / "three-passages.musicxml"
     musicxml_schema.validate(str(score_path))                              # MusicXML 4.0 XSD
-    part_files = sorted(out.glob("three-passages.part*.musicxml"))
+    part_files = sorted((out / "three-passages-parts").glob("part*.musicxml"))
     assert len(part_files) == 4 + 4 + 4                                    # trumpets, pad, rhythm
     for f in part_files:
         musicxml_schema.validate(str(f))                                   # MusicXML 4.0 XSD

@@ -492,7 +492,7 @@ def test_parts_include_the_layer_parts(demo, musicxml_schema) -> None:
     out, report = demo
     lead_n = len(report["section"]["parts"])
     layer_parts = [p for la in report["layers"] for p in la["parts"]]
-    files = sorted(out.glob("copper-coast-transition.part*.musicxml"))
+    files = sorted((out / "copper-coast-transition-parts").glob("part*.musicxml"))
     rhythm = report.get("rhythm_section", {}).get("parts", [])      # written rhythm parts come last
     assert len(files) == lead_n + len(layer_parts) + len(rhythm)
     notes = report["layers"][0]["notes"]

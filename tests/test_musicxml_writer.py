@@ -93,8 +93,8 @@ def _files(built: dict[str, tuple[Path, dict]]) -> list[tuple[Path, dict, list[i
     for slug, (folder, report) in built.items():
         n = len(report["section"]["parts"]) + sum(len(la["parts"]) for la in report.get("layers", []))
         out.append((folder / f"{slug}.musicxml", report, list(range(n))))
-        for p in sorted(folder.glob(f"{slug}.part*.musicxml")):
-            k = int(re.match(r".*\.part(\d+)-", p.name).group(1)) - 1     # type: ignore[union-attr]
+        for p in sorted((folder / f"{slug}-parts").glob("part*.musicxml")):     # the parts' own folder
+            k = int(re.match(r"part(\d+)-", p.name).group(1)) - 1     # type: ignore[union-attr]
             if k < n:          # the rhythm section's parts have their own tests
                 out.append((p, report, [k]))
     return out
@@ -672,9 +672,9 @@ def test_analysis_labels_in_the_score_only(built) -> None:
         words = [t.content for p in _m21(path).parts
                  for t in p.flatten().getElementsByClass(expressions.TextExpression)]
         if any(label.fullmatch(w) for w in words):
-            with_labels.append(path.name)
-            assert len(ks) > 1 or ".part" not in path.name, path.name
-    assert with_labels and not any(".part" in n for n in with_labels)
+            with_labels.append(path)
+            assert len(ks) > 1 or not path.parent.name.endswith("-parts"), path.name
+    assert with_labels and not any(p.parent.name.endswith("-parts") for p in with_labels)
 
 
 def test_the_dotted_beat_of_a_12_8_tempo_mark_in_plain_glyphs(built) -> None:

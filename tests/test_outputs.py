@@ -38,7 +38,7 @@ def built(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, dict]:
 
 
 def _scores(out: Path) -> list[Path]:
-    return sorted(out.glob("*.musicxml"))
+    return sorted(out.glob("*.musicxml")) + sorted(out.glob("*-parts/*.musicxml"))     # score and parts
 
 
 def test_score_and_parts_written(built) -> None:
@@ -46,7 +46,8 @@ def test_score_and_parts_written(built) -> None:
     names = {p.name for p in out.iterdir()}
     assert "test-cue.musicxml" in names and "test-cue.svg" in names and "test-cue.png" in names
     rhythm = report.get("rhythm_section", {}).get("parts", [])    # written rhythm parts follow
-    assert len([n for n in names if ".part" in n]) == len(report["section"]["parts"]) + len(rhythm)
+    parts = [p.name for p in (out / "test-cue-parts").glob("part*.musicxml")]   # the parts' own folder
+    assert len(parts) == len(report["section"]["parts"]) + len(rhythm)
 
 
 def test_every_file_validates_against_musicxml_4_xsd(built, musicxml_schema) -> None:
@@ -105,7 +106,7 @@ def test_parts_in_written_pitch_with_their_own_key(built) -> None:
     from music21 import converter, key
 
     out, _ = built
-    part = converter.parse(str(next(out.glob("test-cue.part01-*.musicxml"))))
+    part = converter.parse(str(next((out / "test-cue-parts").glob("part01-*.musicxml"))))
     ks = part.parts[0].flatten().getElementsByClass(key.KeySignature)[0]
     # concert Bb major read by a Bb trumpet is C major (music21 transposes the key up a M2)
     assert ks.sharps == key.Key("B-").transpose("M2").sharps == 0
@@ -120,7 +121,7 @@ def test_chord_symbols_written_for_the_staff_in_score_and_part(built) -> None:
 
     out, report = built
     score = converter.parse(str(out / "test-cue.musicxml"))
-    part = converter.parse(str(next(out.glob("test-cue.part01-*.musicxml"))))
+    part = converter.parse(str(next((out / "test-cue-parts").glob("part01-*.musicxml"))))
     first = report["framework"][0]["chord"]           # "Bb6"
     cs_score = score.parts[0].flatten().getElementsByClass(harmony.ChordSymbol)[0]
     cs_part = part.parts[0].flatten().getElementsByClass(harmony.ChordSymbol)[0]

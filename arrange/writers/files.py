@@ -13,6 +13,12 @@ runs) and then stop the program.
 
 Two builds into one folder take an advisory lock (``flock``) on the folder: the
 second waits for the first, up to :data:`LOCK_WAIT` seconds, then says so.
+
+A file name with one ``/`` (``cue-parts/part01-trumpet-1.musicxml``) goes into a subfolder
+that is replaced as a whole: the folder keeps a list of the names our last build wrote
+there (:data:`SET_FILE`), and every listed name the new build does not write is removed
+in the same switch (and put back if the switch fails).  Nothing else is ever removed: a
+file someone else put there stays, and so does a folder our build did not write into.
 """
 from __future__ import annotations
 
@@ -28,9 +34,10 @@ from pathlib import Path
 
 from ..errors import OutputError
 
-__all__ = ["write_batch", "write_sets", "safe_name", "folder_lock", "TEMP_PREFIX", "LOCK_WAIT"]
+__all__ = ["write_batch", "write_sets", "safe_name", "folder_lock", "TEMP_PREFIX", "LOCK_WAIT", "SET_FILE"]
 
 TEMP_PREFIX = ".arrange~"      # our hidden temporary names: .arrange~TOKEN~NAME(.old)
+SET_FILE = ".arrange-set"      # in a folder replaced as a whole: the names our last build wrote
 LOCK_WAIT = 60.0               # seconds a second build waits for the folder
 _SIGNALS = {signal.SIGINT, signal.SIGTERM}
 
@@ -164,39 +171,82 @@ def _sync_dir(folder: Path) -> None:
             os.close(fd)
 
 
+def _split(folder: Path, files: dict[str, bytes]) -> list[tuple[Path, dict[str, bytes], bool]]:
+    """(folder, files, replaced as a whole) for the folder's own files and each subfolder
+    named by a ``sub/name`` key."""
+    top: dict[str, bytes] = {}
+    subs: dict[str, dict[str, bytes]] = {}
+    for name, data in files.items():
+        sub, slash, leaf = name.partition("/")
+        if slash:
+            subs.setdefault(sub, {})[leaf] = data
+        else:
+            top[name] = data
+    out = [(folder, top, False)] if top or not subs else []
+    return out + [(safe_name(folder, sub), f, True) for sub, f in subs.items()]
+
+
+def _listed(folder: Path) -> list[str]:
+    """The names :data:`SET_FILE` says our last build wrote into ``folder``."""
+    listing = folder / SET_FILE
+    if listing.is_symlink() or not listing.is_file():
+        return []
+    try:
+        text = listing.read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError):
+        return []
+    return [n for n in text.splitlines() if n and "/" not in n and not n.startswith(".")]
+
+
 def write_sets(root: Path, sets: list[tuple[Path, dict[str, bytes]]]) -> list[Path]:
     """Write several folders' files (all under ``root``) as one set: every name ends
-    with its new file, or (on any failure) every name keeps its old file."""
+    with its new file, or (on any failure) every name keeps its old file.  A ``sub/name``
+    key writes into subfolder ``sub``, replaced as a whole (see the module's notes)."""
     root = Path(root)
     _mkdir(root)
     with folder_lock(root):
         plan: list[tuple[Path, bytes]] = []
         folders: list[Path] = []
-        for folder, files in sets:
-            folder = Path(folder)
-            for name, data in files.items():
-                plan.append((safe_name(folder, name), data))
-            if folder not in folders:
-                folders.append(folder)
+        whole: list[tuple[Path, dict[str, bytes]]] = []
+        for top, top_files in sets:
+            for folder, files, replaced in _split(Path(top), top_files):
+                for name, data in files.items():
+                    plan.append((safe_name(folder, name), data))
+                if folder not in folders:
+                    folders.append(folder)
+                if replaced:
+                    whole.append((folder, files))
         token = secrets.token_hex(4)
         temps: list[tuple[Path, Path]] = []          # (temporary, final)
         olds: list[tuple[Path, Path | None]] = []    # (final, second name of its old file)
         switched: list[Path] = []
+        stale: list[Path] = []                       # names our earlier build wrote, not written now
+        removed: list[Path] = []
         try:
             for folder in folders:
                 _mkdir(folder)
                 _clean_stale(folder)
+            for folder, files in whole:
+                stale += [folder / n for n in _listed(folder) if n not in files
+                          and (folder / n).is_file() and not (folder / n).is_symlink()]
+                listing = "".join(f"{n}\n" for n in sorted(files)).encode("utf-8")
+                plan.append((folder / SET_FILE, listing))       # switched last: the new list
             for final, data in plan:
                 temps.append((_write_temp(final.parent, token, final.name, data), final))
             with _signals_held():
                 try:
                     for _tmp, final in temps:
                         olds.append((final, _keep_old(final, token)))
+                    for path in stale:
+                        olds.append((path, _keep_old(path, token)))
                     for tmp, final in temps:
                         os.replace(tmp, final)
                         switched.append(final)
+                    for path in stale:
+                        os.unlink(path)
+                        removed.append(path)
                 except BaseException:
-                    _roll_back(switched, dict(olds))
+                    _roll_back(switched + removed, dict(olds))
                     raise
                 finally:
                     for tmp, _final in temps:
@@ -211,11 +261,11 @@ def write_sets(root: Path, sets: list[tuple[Path, dict[str, bytes]]]) -> list[Pa
                 _unlink(tmp)
         for folder in folders:
             _sync_dir(folder)
-    return [final for _tmp, final in temps]
+    return [final for _tmp, final in temps if final.name != SET_FILE]
 
 
 def _roll_back(switched: list[Path], olds: dict[Path, Path | None]) -> None:
-    """Every switched name gets its old file back (or, if it had none, goes away)."""
+    """Every switched (or removed) name gets its old file back (or, if it had none, goes away)."""
     for final in reversed(switched):
         old = olds.get(final)
         with contextlib.suppress(OSError):
@@ -226,5 +276,6 @@ def _roll_back(switched: list[Path], olds: dict[Path, Path | None]) -> None:
 
 
 def write_batch(folder: Path, files: dict[str, bytes]) -> list[Path]:
-    """Write ``{file name: bytes}`` into ``folder`` as one set; return the paths."""
+    """Write ``{file name: bytes}`` into ``folder`` as one set (``sub/name``: into a
+    subfolder replaced as a whole); return the paths."""
     return write_sets(Path(folder), [(Path(folder), files)])

@@ -1,0 +1,49 @@
+"""Every decision a build wrote, as plain data, for floor (b) (``floor_minimal.py``).
+
+``digest(score, midi, path)`` reads a score and a MIDI file that ``arrange build``
+wrote (with the standard library's ElementTree and with mido, before any timing) and
+stores what they hold as JSON: the score as a tree of ``[tag, attributes, text, children,
+tail]`` with every text already escaped as XML needs it, and the MIDI as one list of
+message fields per track.  Floor (b) reads that and writes the same bytes with string
+templates and mido: the least work that writes the same files, with no musical decision
+left to make (those are ours to pay for; the floor gets them for free).
+"""
+from __future__ import annotations
+
+import json
+import xml.etree.ElementTree as ET
+from pathlib import Path
+
+
+def escape(text: str) -> str:
+    return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+
+
+def quoteattr(text: str) -> str:
+    """An attribute value as ElementTree writes it (always in double quotes)."""
+    return '"' + (escape(text).replace('"', "&quot;").replace("\r", "&#13;").replace("\n", "&#10;")
+                  .replace("\t", "&#09;")) + '"'
+
+
+def _node(el: ET.Element) -> list:
+    attrs = [[k, quoteattr(v)] for k, v in el.attrib.items()]
+    return [el.tag, attrs, escape(el.text) if el.text is not None else None,
+            [_node(c) for c in el], escape(el.tail) if el.tail is not None else ""]
+
+
+def digest(score: Path, midi: Path, report_md: Path, path: Path) -> Path:
+    text = score.read_text(encoding="utf-8")
+    start = text.index("<score-partwise")
+    root = ET.fromstring(text[start:])
+    keys = {str(n): {m.get("number", ""): int(m.findtext("attributes/key/fifths") or 0)
+                     for m in part.iter("measure") if m.find("attributes/key") is not None}
+            for n, part in enumerate(root.iter("part"), start=1)}
+    data: dict = {"prolog": text[:start], "score": _node(root), "end": text[text.rindex(">") + 1:],
+                  "keys": keys, "report_md": report_md.read_text(encoding="utf-8")}
+    import mido
+
+    mf = mido.MidiFile(str(midi))
+    data["midi"] = {"ticks": mf.ticks_per_beat, "type": mf.type,
+                    "tracks": [[m.dict() | {"meta": m.is_meta} for m in trk] for trk in mf.tracks]}
+    path.write_text(json.dumps(data), encoding="utf-8")
+    return path

@@ -1,0 +1,72 @@
+"""`arrange build --vary` with 16 combinations against 16 separate builds.
+
+A: one process, ``--vary voicing=4 values --vary key=4 values`` (16 combinations; with the
+default formats, then with ``musicxml,midi``). B: the same 16 combinations built one by one, each in its own process (each
+``--vary`` given one value, so every one writes the same folder as in A). A and B run in
+turn (A B A B ...); for each pair the ratio A/B is taken of the processor time (user +
+system of the finished processes, from ``getrusage``) and of the wall time, and the
+median is quoted.  Target (issue 15): A at most 0.4x B.
+"""
+from __future__ import annotations
+
+import resource
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+from _measure import ROOT, machine, precompile
+
+PROJECT = ROOT / "demo_projects" / "night-ferry-soli.toml"
+VOICINGS = ("close", "drop2", "drop2-4", "spread")
+KEYS = ("F major", "Ab major", "D major", "Bb major")
+FORMATS = ("musicxml,midi,report,preview", "musicxml,midi")
+
+
+def _timed(cmds: list[list[str]]) -> tuple[float, float]:
+    """(processor seconds, wall seconds) of the commands run one after another."""
+    before = resource.getrusage(resource.RUSAGE_CHILDREN)
+    t = time.perf_counter()
+    for cmd in cmds:
+        subprocess.run(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, check=True, cwd=ROOT)
+    wall = time.perf_counter() - t
+    after = resource.getrusage(resource.RUSAGE_CHILDREN)
+    return (after.ru_utime - before.ru_utime) + (after.ru_stime - before.ru_stime), wall
+
+
+def main(runs: int = 3) -> float:
+    precompile()
+    print(f"--vary 16 combinations vs 16 separate builds ({machine()}); paired medians of {runs}")
+    return max(_compare(formats, runs) for formats in FORMATS)
+
+
+def _compare(formats: str, runs: int) -> float:
+    py = sys.executable
+    flags = ["--no-parts", "--no-audio", "--formats", formats]
+    with tempfile.TemporaryDirectory() as tmp:
+        one = [[py, "-m", "arrange", "build", str(PROJECT), "-o", f"{tmp}/a", *flags,
+                "--vary", "voicing=" + ",".join(VOICINGS), "--vary", "key=" + ",".join(KEYS)]]
+        each = [[py, "-m", "arrange", "build", str(PROJECT), "-o", f"{tmp}/b", *flags,
+                 "--vary", f"voicing={v}", "--vary", f"key={k}"] for v in VOICINGS for k in KEYS]
+        _timed(one)
+        _timed(each[:1])           # warm-up (file cache, .pyc)
+        rows = []
+        for _ in range(runs):
+            a, b = _timed(one), _timed(each)
+            rows.append((a[0], b[0], a[0] / b[0], a[1], b[1], a[1] / b[1]))
+        same = all((Path(tmp) / "a" / f.relative_to(Path(tmp) / "b")).read_bytes() == f.read_bytes()
+                   for f in (Path(tmp) / "b").rglob("*") if f.is_file() and f.name != "variants.md")
+    med = [statistics.median(r[i] for r in rows) for i in range(6)]
+    print(f"formats {formats}")
+    print(f"processor s: one --vary {med[0]:.2f}, 16 builds {med[1]:.2f}, ratio {med[2]:.2f}")
+    print(f"wall s:      one --vary {med[3]:.2f}, 16 builds {med[4]:.2f}, ratio {med[5]:.2f}")
+    print(f"same files in every combination folder: {'yes' if same else 'NO'}")
+    print(f"target <= 0.4: processor time {'met' if med[2] <= 0.4 else 'NOT met'}, "
+          f"wall time {'met' if med[5] <= 0.4 else 'NOT met'}")
+    return med[2]
+
+
+if __name__ == "__main__":
+    main(int(sys.argv[1]) if len(sys.argv) > 1 else 3)
