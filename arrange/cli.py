@@ -85,10 +85,10 @@ class _Whole(click.ParamType):
 
         text = str(value)
         n = signed(text)
-        if n is None:
-            self.fail(f"{one_line(repr(text))} is not a whole number: ASCII digits 0-9 (at most "
-                      f"{MAX_DIGITS}), e.g. 4", param, ctx)
-        return n
+        if n is not None:
+            return n
+        raise click.BadParameter(f"{one_line(repr(text))} is not a whole number: ASCII digits 0-9 "
+                                 f"(at most {MAX_DIGITS}), e.g. 4", ctx=ctx, param=param)
 
 
 WHOLE = _Whole()

@@ -97,10 +97,11 @@ def bass_names(voiced: Any, layers: tuple[Any, ...], bass: Any) -> tuple[str, ..
             n = ve.event.note
             notes.append((n.onset, n.onset + n.duration, ve.pitches[k], names[i]))
     for vl, grid in zip(layers, lay, strict=True):
-        for k, names in enumerate(grid):
+        for k, layer_names in enumerate(grid):
             for i, ln in enumerate(vl.notes):
-                if names[i] is not None and ln.pitches[k] is not None:
-                    notes.append((ln.onset, ln.onset + ln.duration, ln.pitches[k], names[i]))
+                nm, p = layer_names[i], ln.pitches[k]
+                if nm is not None and p is not None:
+                    notes.append((ln.onset, ln.onset + ln.duration, p, nm))
     by_pc: dict[int, list[tuple[Fraction, Fraction, str]]] = {}
     for on, end, midi, name in notes:
         by_pc.setdefault(midi % 12, []).append((on, end, name))
