@@ -274,10 +274,11 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
         data = report_data(voiced, title=project.title, tempo=project.tempo, version=__version__,
                            dynamics=out.dynamics)
         if layers:
-            from arrange.writers.report import layer_warnings, layers_data
+            from arrange.writers.report import fold_index, layer_warnings, layers_data
 
             data["layers"] = layers_data(layers, voiced)
-            data["warnings"] = list(data["warnings"]) + layer_warnings(layers, data["events"])
+            data["warnings"] = list(data["warnings"]) + layer_warnings(layers, data["events"],
+                                                                       fold_index(voiced))
         if rhythm is not None:
             from arrange.writers.report_rhythm import rhythm_section_data
 

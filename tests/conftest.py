@@ -116,3 +116,36 @@ def in_report_order(score, report: dict) -> list:  # noqa: ANN001
         used.add(j)
         out.append(staves[j])
     return out + [s for j, s in enumerate(staves) if j not in used]
+
+
+def part_notes(report: dict, k: int) -> list[tuple[float, float, int]]:
+    """(onset, duration, sounding pitch) of the notes part ``k`` of the lead section plays,
+    from report.json: each event, and each of its ``segments`` (a chord change under a held
+    lead note) where the part moves; where it keeps its pitch the note is held (tied)."""
+    out: list[list] = []
+    for e in report["events"]:
+        out.append([e["onset"], e["duration"], e["pitches"][k]])
+        for s in e.get("segments", []):
+            if s["pitches"][k] == out[-1][2]:
+                continue
+            first = out[-1]
+            start = first[0]
+            end = start + first[1]
+            first[1] = s["onset"] - start
+            out.append([s["onset"], end - s["onset"], s["pitches"][k]])
+    return [(o, d, p) for o, d, p in out]
+
+
+def sounding_events(report: dict) -> list[dict]:
+    """What the lead section sounds, stretch by stretch: each report event up to its first
+    segment, then each segment (a framework chord that starts under the held lead note),
+    with ``onset``, ``duration``, ``pitches``, ``chord`` and ``names``."""
+    out = []
+    for e in report["events"]:
+        segs = e.get("segments", [])
+        bounds = [e["onset"], *[s["onset"] for s in segs], e["onset"] + e["duration"]]
+        for j, src in enumerate([e, *segs]):
+            out.append({"onset": bounds[j], "duration": bounds[j + 1] - bounds[j], "pitches": src["pitches"],
+                        "chord": src["chord"], "names": src.get("names"), "index": e["index"]})
+    return out
+

@@ -28,7 +28,7 @@ from pathlib import Path
 from typing import Any
 
 import pytest
-from conftest import DEMOS, ROOT, run_cli
+from conftest import DEMOS, ROOT, part_notes, run_cli
 
 ALL = '["chromatic", "diatonic", "dominant", "diminished", "tritone"]'
 INSTRUMENTS = tomllib.loads((ROOT / "voicing_rules" / "instruments.toml").read_text(encoding="utf-8"))
@@ -202,7 +202,7 @@ class Built:
 def _score_parts(report: dict[str, Any]) -> list[Part]:
     out = []
     for k, p in enumerate(report["section"]["parts"]):
-        out.append(Part(p["name"], p["instrument"], True, [e["pitches"][k] for e in report["events"]]))
+        out.append(Part(p["name"], p["instrument"], True, [n[2] for n in part_notes(report, k)]))
     for layer in report.get("layers", []):
         for k, p in enumerate(layer["parts"]):
             out.append(Part(p["name"], p["instrument"], False,
@@ -592,13 +592,22 @@ def test_the_report_spells_as_the_score_does(built: dict[str, Built]) -> None:
         for i, e in enumerate(events):
             if 0 in per_part and per_part[0][i] != e["lead_name"]:
                 bad.append(f"{b.name} event {i + 1}: lead_name {e['lead_name']}, score {per_part[0][i]}")
-            names = e.get("names")
-            for k in range(n_lead):
-                if k in per_part:
-                    compared += 1
-                    if names is None or names[k] != per_part[k][i]:
-                        bad.append(f"{b.name} event {i + 1} part {k + 1}: report "
-                                   f"{names[k] if names else None}, score {per_part[k][i]}")
+        for k in range(n_lead):
+            if k not in per_part:
+                continue
+            # the part's notes: each event, and each segment where the part moves (held, it is tied)
+            said: list[tuple[int, str | None]] = []
+            for e in events:
+                said.append((e["index"], (e.get("names") or [None] * n_lead)[k]))
+                last = e["pitches"][k]
+                for sg in e.get("segments", []):
+                    if sg["pitches"][k] != last:
+                        said.append((e["index"], (sg.get("names") or [None] * n_lead)[k]))
+                    last = sg["pitches"][k]
+            for (i, got), want in zip(said, per_part[k], strict=True):
+                compared += 1
+                if got != want:
+                    bad.append(f"{b.name} event {i + 1} part {k + 1}: report {got}, score {want}")
         k0 = n_lead
         for layer in b.report.get("layers", []):
             for j in range(len(layer["parts"])):

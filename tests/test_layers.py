@@ -14,7 +14,7 @@ from fractions import Fraction
 from pathlib import Path
 
 import pytest
-from conftest import BASIC, DEMOS, run_cli, snapshot, write_project
+from conftest import BASIC, DEMOS, run_cli, snapshot, sounding_events, write_project
 
 DEMO = DEMOS / "copper-coast-transition.toml"
 
@@ -118,7 +118,7 @@ def test_pad_tones_are_chord_tones_or_tensions(demo) -> None:
 
 def _lead_during(report: dict, n: dict) -> set[int]:
     start, end = n["onset"], n["onset"] + n["duration"]
-    return {q for e in report["events"] if e["onset"] < end and e["onset"] + e["duration"] > start
+    return {q for e in sounding_events(report) if e["onset"] < end and e["onset"] + e["duration"] > start
             for q in e["pitches"]}
 
 
@@ -138,7 +138,7 @@ def test_pad_sits_below_the_lead_or_says_so(demo) -> None:
     flagged = {w["layer_note"] for w in report["warnings"] if w["kind"] == "layer-above-lead"}
     for i, n in enumerate(report["layers"][0]["notes"]):
         start, end = n["onset"], n["onset"] + n["duration"]
-        lows = [min(e["pitches"]) for e in report["events"]
+        lows = [min(e["pitches"]) for e in sounding_events(report)
                 if e["onset"] < end and e["onset"] + e["duration"] > start]
         assert max(p for p in n["pitches"] if p is not None) < min(lows) or i in flagged
 
@@ -163,7 +163,7 @@ def _clashes(report: dict) -> set[tuple[str, str, int, int]]:
         names = [p["name"] for p in layer["parts"]]
         for n in layer["notes"]:
             start, end = n["onset"], n["onset"] + n["duration"]
-            for e in report["events"]:
+            for e in sounding_events(report):
                 if not (e["onset"] < end and e["onset"] + e["duration"] > start):
                     continue
                 for j, a in enumerate(n["pitches"]):
@@ -360,7 +360,7 @@ def _recount(report: dict) -> list[tuple[int, str, str, int, int]]:
         names = [p["name"] for p in layer["parts"]]
         for i, n in enumerate(layer["notes"]):
             start, end = n["onset"], n["onset"] + n["duration"]
-            for e in report["events"]:
+            for e in sounding_events(report):
                 if not (e["onset"] < end and e["onset"] + e["duration"] > start):
                     continue
                 for j, a in enumerate(n["pitches"]):

@@ -27,7 +27,7 @@ from fractions import Fraction
 from pathlib import Path
 
 import pytest
-from conftest import BASIC, DEMOS, ROOT, in_report_order, run_cli, write_project
+from conftest import BASIC, DEMOS, ROOT, in_report_order, part_notes, run_cli, sounding_events, write_project
 
 from arrange.writers.symbols import m21_figure
 
@@ -116,7 +116,7 @@ def _sounding_notes(report: dict, k: int) -> list[tuple[Fraction, Fraction, int]
     pickup = Q(report["rhythm"]["pickup"]).limit_denominator(96)
     n_lead = len(report["section"]["parts"])
     if k < n_lead:
-        rows = [(e["onset"], e["duration"], e["pitches"][k]) for e in report["events"]]
+        rows = part_notes(report, k)       # a part holding its pitch over a chord change is tied
     else:
         j = k - n_lead
         rows = []
@@ -262,12 +262,12 @@ def test_music21_reads_the_chord_symbols_of_every_event(built) -> None:
         pickup = Q(report["rhythm"]["pickup"]).limit_denominator(96)
         syms = _lead_symbols(path, report)
         assert syms, path.name
-        for e in report["events"]:
+        for e in sounding_events(report):      # each segment's chord too (a change under a held note)
             on = (Q(e["onset"]).limit_denominator(96) + pickup) * _scale(report)
             last = [s for o, s in syms if o <= on]
             if not last and e["onset"] < 0:
                 continue         # a pickup under bar 1's chord: the symbol stands over bar 1
-            assert last and last[-1] == e["chord"], (path.name, e["index"], last[-1:], e["chord"])
+            assert last and last[-1] == e["chord"], (path.name, e["index"], e["onset"], last[-1:], e["chord"])
     assert transposed           # a transposed score with a transposed lead was read
 
 
@@ -288,7 +288,7 @@ def test_a_chord_starting_where_the_lead_rests_has_its_symbol_at_its_beat(tmp_pa
     syms = _lead_symbols(tmp_path / "o" / "test-cue.musicxml", report)
     pickup = Q(report["rhythm"]["pickup"]).limit_denominator(96)
     spans = [(Q(e["onset"]).limit_denominator(96), Q(e["onset"] + e["duration"]).limit_denominator(96))
-             for e in report["events"]]
+             for e in sounding_events(report)]      # a chord change under a held note: its segment
     rested = 0
     for fc in report["framework"]:
         on = Q(fc["onset"]).limit_denominator(96)
@@ -302,7 +302,8 @@ def test_a_chord_starting_where_the_lead_rests_has_its_symbol_at_its_beat(tmp_pa
             assert o == on + pickup and harmony.ChordSymbol(m21_figure(sym)).root().pitchClass == root, \
                 (fc["bar"], fc["chord"], float(o), sym)
         else:                            # the lead sounds: its chord is the one in force
-            held = next(e for e in report["events"] if Q(e["onset"]).limit_denominator(96) == sounding[0][0])
+            held = next(e for e in sounding_events(report)
+                        if Q(e["onset"]).limit_denominator(96) == sounding[0][0])
             assert sym == held["chord"], (fc["bar"], fc["chord"], sym, held["chord"])
     assert rested >= 2
 
@@ -482,13 +483,13 @@ def test_mido_reads_notes_programs_tempo_meter_and_swing(built) -> None:
                     notes.append((on.pop(msg.note), msg.note))
             notes.sort()
             want = []
-            for e in report["events"]:
-                o = Q(e["onset"]).limit_denominator(96) + pickup
+            for onset, _d, pitch in part_notes(report, k):    # a tied note is struck once
+                o = Q(onset).limit_denominator(96) + pickup
                 if swung and o % 1 == Q(1, 2):
                     # a swung off-beat eighth sounds at the swing ratio of its beat (MusicXML 4.0
                     # <swing> semantics; shuffle 2/3)
                     o = o - Q(1, 2) + Q(swing).limit_denominator(100)
-                want.append((round(o * tpq), e["pitches"][k]))
+                want.append((round(o * tpq), pitch))
             assert notes == sorted(want), (slug, spec["name"])
 
 

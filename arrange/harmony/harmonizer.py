@@ -17,6 +17,7 @@ from fractions import Fraction
 from arrange.errors import ArrangeError, HarmonyError, ProjectError
 from arrange.harmony.approach import TECHNIQUES, function_name
 from arrange.harmony.events import Event, FrameworkChord, Harmonized
+from arrange.harmony.split import key_lookup, split_held
 from arrange.harmony.walk import walk
 from arrange.rhythm.line import Line
 from arrange.tables import Table
@@ -257,6 +258,8 @@ def harmonize(line: Line, key: Key, options: HarmonyOptions, *, where: str = "[h
         options = replace(options, keys=tuple((b, transpose_key(key, t)) for b, t in shifts))
     fw = build_framework(line, key, options, where, shifts)
     bar_len = line.meter.bar
+    # the framework's harmonic rhythm: a lead note held over a chord change is cut there
+    line = split_held(line, fw, key_lookup(key, options.keys, bar_len))
     idx = []
     k = 0
     for note in line.notes:

@@ -14,12 +14,13 @@ lead notes keep their chord.
 """
 from __future__ import annotations
 
+from dataclasses import replace
 from fractions import Fraction
 
 from arrange.harmony.approach import classify, find_approach, find_substitute, function_name
 from arrange.harmony.events import Event, FrameworkChord
 from arrange.rhythm.line import Line, Note
-from arrange.theory.chords import Chord
+from arrange.theory.chords import Chord, parse_chord
 from arrange.theory.keys import Key
 from arrange.theory.spelling import direction_of, spell_pc
 
@@ -70,6 +71,20 @@ def walk(line: Line, fw: tuple[FrameworkChord, ...], idx: list[int], keys: list[
     resolution: list[int] = list(range(n))     # the framework event an event's chain reaches
     notes_warn: dict[int, tuple[str, str]] = {}
 
+    # the lead's neighbours, a held note's tied pieces (split.split_held) taken as one note
+    before: list[int | None] = []
+    for k in range(n):
+        g = k
+        while g > 0 and notes[g].tied:
+            g -= 1
+        before.append(pitches[g - 1] if g else None)
+    after: list[int | None] = [None] * n
+    for k in range(n - 1, -1, -1):
+        nxt = k + 1
+        while nxt < n and notes[nxt].tied:
+            nxt += 1
+        after[k] = pitches[nxt] if nxt < n else None
+
     # units: runs of one repeated pitch under one framework chord share a chord
     units: list[tuple[int, int]] = []
     i = 0
@@ -83,8 +98,7 @@ def walk(line: Line, fw: tuple[FrameworkChord, ...], idx: list[int], keys: list[
     for a, b in reversed(units):
         note, frame, kk, kind = notes[a], fw[idx[a]].chord, keys[a], kinds[a]
         bar = int(note.onset // bar_len) + 1
-        way = direction_of(pitches[a - 1] if a else None, note.pitch,
-                           pitches[b + 1] if b + 1 < n else None)
+        way = direction_of(before[a], note.pitch, after[b])
         func = function_name(note.pitch, frame)
         s = strength(note, line, onsets)
         nxt = b + 1 if b + 1 < n else None
@@ -148,6 +162,15 @@ def walk(line: Line, fw: tuple[FrameworkChord, ...], idx: list[int], keys: list[
                     f"{label(ch)} {pos}; {ch.symbol}, {what}, holds it as "
                     f"{function_name(note.pitch, ch)} and resolves to {target.symbol}", target, res)
                 continue
+        if s == 0 and techniques and frame.quality == "7" and frame.bass is None and \
+                (note.pitch - frame.root) % 12 == 5:
+            # the 11 over a dominant at its own beat: the dominant with its third suspended
+            # keeps the framework's harmonic rhythm and function (common practice)
+            sus = parse_chord(f"{frame.root_name}7sus4")
+            put(sus, "framework", "sus4",
+                f"{label(sus)} at the chord's own beat; {sus.symbol}, {frame.symbol} with its third "
+                f"suspended, holds it as {function_name(note.pitch, sus)}", None, a)
+            continue
         if s <= 2 and techniques:      # approach = [] keeps every framework chord, substitutes too
             sub = find_substitute(note.pitch, frame, kk)
             if sub is not None:
@@ -173,6 +196,9 @@ def walk(line: Line, fw: tuple[FrameworkChord, ...], idx: list[int], keys: list[
     out = [e for e in events if e is not None]
     assert len(out) == n
     _no_flip_flop(out, keys, pitches, techniques)
+    for k in range(1, n):      # a tie never changes a note's name
+        if notes[k].tied and out[k].lead_name != out[k - 1].lead_name:
+            out[k] = replace(out[k], lead_name=out[k - 1].lead_name)
     warnings: list[tuple[str, int | None, str]] = [
         (kind, k, msg) for k, (kind, msg) in sorted(notes_warn.items())]
     return out, warnings

@@ -51,6 +51,8 @@ class Note:
     perf_duration: Fraction
     articulation: str = ""   # "", "accent", "staccato", "tenuto"
     anticipated: bool = False  # moved an eighth ahead of a downbeat (latin), tied over
+    tied: bool = False       # continues the note before it: one lead note split where a framework
+                             # chord starts under it (harmony stage), written tied, played once
 
 
 @dataclass(frozen=True, slots=True)

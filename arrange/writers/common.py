@@ -4,7 +4,7 @@ from __future__ import annotations
 from fractions import Fraction
 from typing import Any
 
-__all__ = ["json_number", "bar_of_event", "channel_for", "spelled_parts", "written_parts", "bass_names"]
+__all__ = ["json_number", "bar_of_event", "channel_for", "spelled_parts", "written_parts", "tied_on", "bass_names"]
 
 
 def json_number(q: Fraction) -> float | int:
@@ -21,6 +21,13 @@ def channel_for(part_index: int) -> int:
     """0-based MIDI channel of a part, skipping the percussion channel (9)."""
     ch = part_index if part_index < 9 else part_index + 1
     return ch % 16
+
+
+def tied_on(voiced: Any, i: int, k: int) -> bool:
+    """Part ``k`` holds its pitch, tied, into event ``i``: the lead note was cut there at a
+    chord change (``harmony.split``) and the part keeps the pitch it had (common practice)."""
+    return bool(voiced.events[i].event.note.tied) and i > 0 and \
+        voiced.events[i - 1].pitches[k] == voiced.events[i].pitches[k]
 
 
 _SPELLED: dict[tuple[int, int], tuple[Any, Any, Any]] = {}
@@ -43,13 +50,22 @@ def spelled_parts(voiced: Any, layers: tuple[Any, ...] = ()) -> tuple[tuple[tupl
     h = voiced.harmonized
     bar_len = h.line.meter.bar
     notes: list[tuple[Fraction, Fraction, int, str]] = []
+    joins: list[int] = []         # entry of each lead-section note; a tied note shares its first's
     for k in range(len(voiced.section.parts)):
         voice = [ve.pitches[k] for ve in voiced.events]
         for i, ve in enumerate(voiced.events):
             n = ve.event.note
+            end = n.onset + n.duration
+            if i and tied_on(voiced, i, k):     # a tie is one note: one name, one entry for agree
+                o, _e, m, nm = notes[joins[-1]]
+                notes[joins[-1]] = (o, end, m, nm)
+                joins.append(joins[-1])
+                continue
             way = direction_of(voice[i - 1] if i else None, voice[i], voice[i + 1] if i + 1 < len(voice) else None)
             name = spell_pitch(voice[i], h.key_at(int(n.onset // bar_len) + 1), ve.event.chord, way)
-            notes.append((n.onset, n.onset + n.duration, voice[i], name))
+            joins.append(len(notes))
+            notes.append((n.onset, end, voice[i], name))
+    n_lead = len(notes)
     slots: list[tuple[int, int, int]] = []
     for li, vl in enumerate(layers):
         for k in range(len(vl.layer.section.parts)):
@@ -63,10 +79,11 @@ def spelled_parts(voiced: Any, layers: tuple[Any, ...] = ()) -> tuple[tuple[tupl
                 name = spell_pitch(here, h.key_at(int(n.onset // bar_len) + 1), n.chord, way)
                 notes.append((n.onset, n.onset + n.duration, here, name))
                 slots.append((li, k, i))
-    names = agree(notes)
+    agreed = agree(notes)
+    names = [agreed[j] for j in joins]
     n_ev = len(voiced.events)
     lead = tuple(tuple(names[k * n_ev:(k + 1) * n_ev]) for k in range(len(voiced.section.parts)))
-    rest = names[len(voiced.section.parts) * n_ev:]
+    rest = agreed[n_lead:]
     grid: list[list[list[str | None]]] = [[[None] * len(vl.notes) for _ in vl.layer.section.parts]
                                           for vl in layers]
     for (li, k, i), name in zip(slots, rest, strict=True):
@@ -144,16 +161,27 @@ def written_parts(voiced: Any, layers: tuple[Any, ...] = (), concert: bool = Fal
     bar_len = h.line.meter.bar
     groups: dict[int, list[tuple[Fraction, Fraction, int, str]]] = {}
     where: dict[int, list[tuple[int, int, int]]] = {}      # group -> (layer or -1, part, note)
+    pos: dict[tuple[int, int, int], int] = {}              # slot -> its place in its group
 
     def put(moved: int, onset: Fraction, end: Fraction, name: str, chord: Any, slot: tuple[int, int, int]) -> None:
         w = written_name(name, moved, h.key_at(int(onset // bar_len) + 1), chord)
-        groups.setdefault(moved % 12, []).append((onset, end, midi_of(w), w))
+        pos[slot] = len(groups.setdefault(moved % 12, []))
+        groups[moved % 12].append((onset, end, midi_of(w), w))
         where.setdefault(moved % 12, []).append(slot)
 
+    tied_to: dict[tuple[int, int], int] = {}      # (part, note) -> the first note of its tie
     for k, part in enumerate(voiced.section.parts):
         moved = 0 if concert else part.instrument.transposition
         for i, ve in enumerate(voiced.events):
             n = ve.event.note
+            if i and tied_on(voiced, i, k):       # one entry per tie: it keeps its written name
+                first = tied_to.get((k, i - 1), i - 1)
+                tied_to[(k, i)] = first
+                g = groups[moved % 12]
+                at = pos[(-1, k, first)]
+                o, _e, m, w = g[at]
+                g[at] = (o, n.onset + n.duration, m, w)
+                continue
             put(moved, n.onset, n.onset + n.duration, lead_names[k][i], ve.event.chord, (-1, k, i))
     for li, vl in enumerate(layers):
         for k, part in enumerate(vl.layer.section.parts):
@@ -171,6 +199,8 @@ def written_parts(voiced: Any, layers: tuple[Any, ...] = (), concert: bool = Fal
                 lead[k][i] = name
             else:
                 grid[li][k][i] = name
+    for (k, i), first in sorted(tied_to.items()):
+        lead[k][i] = lead[k][first]
     out = (tuple(tuple(p) for p in lead), tuple(tuple(tuple(p) for p in g) for g in grid))
     if len(_WRITTEN) > 8:
         _WRITTEN.clear()

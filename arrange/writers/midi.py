@@ -24,7 +24,7 @@ from typing import Any
 from arrange.rhythm_section.values import RhythmSection
 from arrange.voicing.layers import VoicedLayer
 from arrange.voicing.voicer import Voiced
-from arrange.writers.common import channel_for
+from arrange.writers.common import channel_for, tied_on
 from arrange.writers.marks import dynamic_of
 
 __all__ = ["midi_bytes", "MidiOptions", "TICKS", "channel_for", "VELOCITY"]
@@ -109,9 +109,14 @@ def midi_bytes(voiced: Voiced, tempo: float, options: MidiOptions | None = None,
         ch = channel_for(k)
         evs = track_head(part.name, ch, part.instrument.program)
         prev_end: dict[int, int] = {}
-        for ve in voiced.events:
+        played: list[list[int]] = []          # [pitch, on, off, velocity] per struck note
+        for i, ve in enumerate(voiced.events):
             n = ve.event.note
             pitch = ve.pitches[k]
+            if played and tied_on(voiced, i, k):   # held over a chord change: not struck again
+                played[-1][2] = max(played[-1][2], _tick(n.perf_onset + n.perf_duration + lead_in) - 1)
+                prev_end[pitch] = played[-1][2]
+                continue
             on = _tick(n.perf_onset + lead_in)
             off = max(on + 1, _tick(n.perf_onset + n.perf_duration + lead_in) - 1)
             velocity = VELOCITY[dynamic_of(n.statement, opts.dynamics)]
@@ -122,8 +127,10 @@ def midi_bytes(voiced: Voiced, tempo: float, options: MidiOptions | None = None,
             if prev_end.get(pitch, -1) > on:   # never overlap the same key
                 on = prev_end[pitch]
                 off = max(off, on + 1)
-            _note(evs, ch, pitch, on, off, velocity)
+            played.append([pitch, on, off, velocity])
             prev_end[pitch] = off
+        for pitch, on, off, velocity in played:
+            _note(evs, ch, pitch, on, off, velocity)
         mf.tracks.append(track_from(evs))
     rhythm_count = 0
     if rhythm is not None:

@@ -55,7 +55,10 @@ def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, top: bool | 
     firsts = []
     for i, ve in enumerate(voiced.events):
         n = ve.event.note
-        firsts.append(staff.add_note(names[i], n.onset, n.duration, n.articulation, written=True))
+        # a held lead note cut at a chord change (harmony.split): every part keeping its
+        # pitch across the cut is tied, the others move (common practice)
+        tied = n.tied and i > 0 and voiced.events[i - 1].pitches[k] == ve.pitches[k]
+        firsts.append(staff.add_note(names[i], n.onset, n.duration, n.articulation, written=True, tied=tied))
     if lead:
         for t, chord in chord_changes([ve.event for ve in voiced.events], h.framework):
             m, off = at_time(line, t)

@@ -12,10 +12,22 @@ from arrange.voicing.voicer import Voiced
 from arrange.writers.common import bar_of_event, json_number, spelled_parts
 from arrange.writers.report_rhythm import rhythm_section_markdown
 
-__all__ = ["json_number", "bar_of_event", "report_data", "report_json", "report_markdown", "md_text"]
+__all__ = ["json_number", "bar_of_event", "fold_index", "report_data", "report_json", "report_markdown", "md_text"]
 
 
-def _statement_table(voiced: Voiced, dynamics: tuple[str, ...]) -> list[dict[str, Any]]:
+def fold_index(voiced: Voiced) -> list[int]:
+    """The report event of every voiced event: the pieces of a lead note held over a chord
+    change (``Note.tied``, see ``harmony.split``) fold into the note's one event."""
+    out: list[int] = []
+    k = -1
+    for ve in voiced.events:
+        if not (ve.event.note.tied and out):
+            k += 1
+        out.append(k)
+    return out
+
+
+def _statement_table(voiced: Voiced, dynamics: tuple[str, ...], fold: list[int]) -> list[dict[str, Any]]:
     """Per statement: its first bar, rehearsal letter, dynamic, and the voicing of its notes."""
     from arrange.writers.marks import dynamic_of, rehearsal_plan
 
@@ -34,7 +46,7 @@ def _statement_table(voiced: Voiced, dynamics: tuple[str, ...]) -> list[dict[str
                     "phrase": phrases.get(st.index), "passage": _passage_of(line, st.start),
                     "bar": first_bar, "rehearsal": letters.get(first_bar) if first_bar is not None else None,
                     "dynamic": dynamic_of(st.index, dynamics), "voicings": voicings,
-                    "notes": [i for i in own]})
+                    "notes": list(dict.fromkeys(fold[i] for i in own))})
     return out
 
 
@@ -55,15 +67,31 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
               "transposition": p.instrument.transposition,
               "range": list(p.instrument.practical),
               "extreme": list(p.instrument.extreme)} for p in voiced.section.parts]
-    events = []
+    events: list[dict[str, Any]] = []
     phrases = phrase_numbers(line)
     spelled = _lead_names(voiced)
     names = spelled_parts(voiced)[0]      # as the score spells them, at concert pitch
+    fold = fold_index(voiced)
+    lengths: list[tuple[Fraction, Fraction]] = []
     for i, ve in enumerate(voiced.events):
         ev = ve.event
         n = ev.note
+        if n.tied and events:
+            # a lead note held over a framework chord change: one event, one segment per
+            # later chord (DESIGN: report.json keeps one event per lead note)
+            dur, perf = lengths[-1]
+            lengths[-1] = (dur + n.duration, perf + n.perf_duration)
+            events[-1]["duration"] = json_number(lengths[-1][0])
+            events[-1]["performed_duration"] = json_number(lengths[-1][1])
+            events[-1]["segments"].append({
+                "onset": json_number(n.onset), "duration": json_number(n.duration),
+                "chord": ev.chord.symbol, "role": ev.role, "technique": ev.technique,
+                "pitches": list(ve.pitches), "lead_function": ev.lead_function, "why": ev.why,
+                "voicing": ve.voicing, "names": [part[i] for part in names]})
+            continue
+        lengths.append((n.duration, n.perf_duration))
         events.append({
-            "index": i, "statement": n.statement, "passage": _passage_of(line, i),
+            "index": fold[i], "statement": n.statement, "passage": _passage_of(line, i),
             "phrase": phrases.get(n.statement),
             "bar": int(n.onset // line.meter.bar) + 1,
             "onset": json_number(n.onset), "duration": json_number(n.duration),
@@ -78,18 +106,28 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
             "anticipated": n.anticipated,
             "voicing": ve.voicing, "pitches": list(ve.pitches),
             "names": [part[i] for part in names],
+            "segments": [],
         })
-    warnings = [{"kind": f.kind, "event": f.event, "bar": bar_of_event(events, f.event), "part": f.part,
-                 "message": f.message, "severity": f.severity} for f in voiced.findings]
-    warnings += [{"kind": kind, "event": ev, "bar": bar_of_event(events, ev), "part": None, "message": msg,
-                  "severity": "warning"} for kind, ev, msg in h.warnings]
+
+    def at(ev: int | None) -> int | None:
+        return fold[ev] if ev is not None and 0 <= ev < len(fold) else ev
+
+    def bar(ev: int | None) -> Any:      # the bar of the piece itself (a segment's own bar)
+        if ev is None or not 0 <= ev < len(voiced.events):
+            return bar_of_event(events, at(ev))
+        return int(voiced.events[ev].event.note.onset // line.meter.bar) + 1
+
+    warnings = [{"kind": f.kind, "event": at(f.event), "bar": bar(f.event),
+                 "part": f.part, "message": f.message, "severity": f.severity} for f in voiced.findings]
+    warnings += [{"kind": kind, "event": at(ev), "bar": bar(ev), "part": None,
+                  "message": msg, "severity": "warning"} for kind, ev, msg in h.warnings]
     return {
         "title": title, "key": str(h.key), "meter": str(line.meter), "tempo": tempo,
         "groove": line.groove, "generator": f"arrange {version}",
         "swing": line.swing, "bars": line.bars, "dynamics": list(dynamics),
         "chain": line.chain.to_json() if line.chain is not None else None,
-        "statements": _statement_table(voiced, dynamics),
-        "passages": _passages(line),
+        "statements": _statement_table(voiced, dynamics, fold),
+        "passages": _passages(line, fold),
         "rhythm": _rhythm(line),
         "section": {"name": voiced.section.name, "parts": parts},
         "framework": [{"bar": fc.bar, "onset": json_number(fc.onset), "duration": json_number(fc.duration),
@@ -123,13 +161,15 @@ def _passage_of(line: Any, index: int) -> int:
     return found
 
 
-def _passages(line: Any) -> list[dict[str, Any]]:
+def _passages(line: Any, fold: list[int]) -> list[dict[str, Any]]:
     """A form's passages: name, bars, key, material and, for a designed chain, the motif
     chosen, its score and why, and the runners-up."""
     out = []
     for p in line.passages:
         entry: dict[str, Any] = {"index": p.index, "name": p.name, "first_bar": p.first_bar,
-                                 "last_bar": p.last_bar, "first_note": p.first_note, "key": p.key,
+                                 "last_bar": p.last_bar,
+                                 "first_note": fold[p.first_note] if p.first_note < len(fold) else p.first_note,
+                                 "key": p.key,
                                  "material": p.material, "about": p.about}
         if p.design:
             (motif, score, why), *others = p.design
@@ -199,6 +239,10 @@ def report_markdown(data: dict[str, Any]) -> bytes:
         out.append(f"| {e['index'] + 1} | {e['bar']} | {e['beat']:g} | {e['lead_name']} "
                    f"({_cell(e['lead_function'])}) | {_cell(e['chord'])} | {e['role']} | "
                    f"{_cell(e['technique'])} | {_cell(e['why'])} |")
+        for sg in e.get("segments", []):      # a chord change under the held note
+            out.append(f"| {e['index'] + 1} (held) | | at {sg['onset']:g} | {e['lead_name']} "
+                       f"({_cell(sg['lead_function'])}) | {_cell(sg['chord'])} | {sg['role']} | "
+                       f"{_cell(sg['technique'])} | {_cell(sg['why'])} |")
     out += ["", "## Voicing per statement", "",
             "| statement | bar | voicing | notes | pitches, top to bottom, at the first note |",
             "| --- | --- | --- | --- | --- |"]
@@ -311,10 +355,15 @@ def _why_names(note: Any, voiced: Voiced) -> str:
     return _CLASH.sub(fix, note.why)
 
 
-def layer_warnings(layers: tuple[VoicedLayer, ...], events: list[dict[str, Any]]) -> list[dict[str, Any]]:
-    """The layers' findings as report warnings (``events``: the report's, for the bar);
+def layer_warnings(layers: tuple[VoicedLayer, ...], events: list[dict[str, Any]],
+                   fold: list[int] | None = None) -> list[dict[str, Any]]:
+    """The layers' findings as report warnings (``events``: the report's, for the bar;
+    ``fold``: :func:`fold_index`, the report event of each voiced event);
     ``other_part`` is the lead-section part of a clash."""
-    return [{"kind": f.kind, "event": f.event, "bar": bar_of_event(events, f.event), "part": f.part,
+    def at(ev: int | None) -> int | None:
+        return fold[ev] if fold is not None and ev is not None and 0 <= ev < len(fold) else ev
+
+    return [{"kind": f.kind, "event": at(f.event), "bar": bar_of_event(events, at(f.event)), "part": f.part,
              "message": f.message, "severity": f.severity, "layer": vl.layer.index,
              "layer_note": f.note, "other_part": f.other_part} for vl in layers for f in vl.findings]
 

@@ -156,6 +156,7 @@ class Staff:
     double_before: frozenset[int] = frozenset()   # measures a double bar line precedes (new sections)
     notes: list[list[_Note]] = field(default_factory=list)
     marks: list[list[tuple[Fraction, int, ET.Element]]] = field(default_factory=list)
+    _last: _Note | None = None          # the note added last (a tied note joins it)
 
     def __post_init__(self) -> None:
         n = self.line.measures      # type: ignore[attr-defined]
@@ -167,18 +168,25 @@ class Staff:
         return _cut(onset, duration, line.meter, line.pickup)   # type: ignore[attr-defined]
 
     def add_note(self, name: str, onset: Fraction, duration: Fraction, articulation: str = "",
-                 written: bool = False) -> Piece:
+                 written: bool = False, tied: bool = False) -> Piece:
         """A sounding spelled note (``written``: already the part's written name, from
-        ``writers.common.written_parts``); returns its first piece (where marks attach)."""
+        ``writers.common.written_parts``); returns its first piece (where marks attach).
+        ``tied``: the note continues the one added just before (the same pitch held over a
+        chord change), so a tie joins them."""
         written_name = name if written else transpose_name(name, self.transpose)
         cut = self.cut(onset, duration)
         while cut[-1].measure >= len(self.notes):     # a note past the line's last bar
             self.notes.append([])
             self.marks.append([])
             self.keys = (*self.keys, self.keys[-1])
+        last = self._last
+        if tied and last is not None:
+            last.tie_start = True
         for j, pc in enumerate(cut):
-            self.notes[pc.measure].append(_Note(pc.offset, pc.duration, written_name, pc.tie_start, pc.tie_stop,
-                                                articulation if j == 0 else ""))
+            n = _Note(pc.offset, pc.duration, written_name, pc.tie_start,
+                      pc.tie_stop or (j == 0 and tied and last is not None), articulation if j == 0 else "")
+            self.notes[pc.measure].append(n)
+            self._last = n
         return cut[0]
 
     def add_mark(self, measure: int, offset: Fraction, order: int, el: ET.Element) -> None:
