@@ -9,7 +9,7 @@ from pathlib import Path
 
 from arrange import __version__
 from arrange.chain.core import build_chain, chain_length
-from arrange.errors import ArrangeError, LimitError
+from arrange.errors import ArrangeError, LimitError, VoicingError
 from arrange.harmony.events import Harmonized
 from arrange.harmony.harmonizer import harmonize
 from arrange.project import Project
@@ -20,7 +20,8 @@ from arrange.voicing.sections import Section
 from arrange.voicing.voicer import Voiced, VoicingOptions, voice
 
 __all__ = ["check_size", "written_notes", "MAX_SCORE_NOTES", "run_pipeline", "run_layers",
-           "run_rhythm_section", "render_outputs", "render_project", "write_outputs", "BuildResult"]
+           "run_rhythm_section", "render_outputs", "render_project", "write_outputs", "BuildResult",
+           "refuse_errors", "default_lead_range"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -133,15 +134,37 @@ def run_pipeline(project: Project) -> Voiced:
                       project.section, project.voicing)
     c = project.chain
     assert c is not None
-    # no lead_range given: the chain is placed into the lead instrument's practical range
-    lead_range = c.lead_range or project.section.lead.instrument.practical
-    try:
-        chain = build_chain(c.motif, c.statements, c.overlap, lead_range)
-    except ArrangeError as err:
-        raise _in_project(err, project, "chain") from None
-    line = lay_rhythm(chain, project.meter, project.rhythm)
-    harmonized = harmonize(line, project.key, project.harmony, where=where)
-    return _voice(harmonized, project.section, project.voicing)
+    # no lead_range given: the chain is placed into the lead instrument's practical range;
+    # where the section cannot voice it there inside its extreme ranges, an octave higher,
+    # then lower (inside the lead's extreme range); a lead_range given is kept as written
+    lo, hi = default_lead_range(project.section)
+    ranges = [c.lead_range] if c.lead_range else [(lo + k, hi + k) for k in (0, 12, -12)]
+    first_error: ArrangeError | None = None
+    for lead_range in ranges:
+        try:
+            chain = build_chain(c.motif, c.statements, c.overlap, lead_range)
+        except ArrangeError as err:
+            raise _in_project(err, project, "chain") from None
+        line = lay_rhythm(chain, project.meter, project.rhythm)
+        harmonized = harmonize(line, project.key, project.harmony, where=where)
+        try:
+            return _voice(harmonized, project.section, project.voicing)
+        except VoicingError as err:
+            first_error = first_error or err
+    assert first_error is not None
+    raise first_error
+
+
+def default_lead_range(section: Section) -> tuple[int, int]:
+    """Where a chain with no ``lead_range`` is placed: the lead's practical range, its
+    floor raised so a close voicing fits under it inside every part's practical range (the
+    lead group's parts, in a tutti); at least an octave wide."""
+    parts = section.parts[:section.groups[0][2]] if section.groups else section.parts
+    lo, hi = parts[0].instrument.practical
+    # a close voicing puts part k (0-based) about a minor third per part under the lead,
+    # the parts past the fourth doubling about an octave under it
+    need = max(p.instrument.practical[0] + min(3 * k, 12) for k, p in enumerate(parts))
+    return min(max(lo, need), hi - 12), hi
 
 
 def _voice(harmonized: Harmonized, section: Section, options: VoicingOptions) -> Voiced:
@@ -150,8 +173,25 @@ def _voice(harmonized: Harmonized, section: Section, options: VoicingOptions) ->
     if section.groups:
         from arrange.voicing.tutti import voice_tutti
 
-        return named_as_sounding(voice_tutti(harmonized, section, options))
-    return named_as_sounding(voice(harmonized, section, options))
+        voiced = voice_tutti(harmonized, section, options)
+    else:
+        voiced = voice(harmonized, section, options)
+    refuse_errors(voiced)
+    return named_as_sounding(voiced)
+
+
+def refuse_errors(voiced: Voiced) -> None:
+    """An error in the music (a note beyond an extreme range) stops the build before
+    anything is written: exit 2, the first error's bar, part and note named."""
+    from arrange.errors import VoicingError
+
+    errors = [f for f in voiced.findings if f.severity == "error"]
+    if errors:
+        first = errors[0]
+        more = f" (and {len(errors) - 1} more)" if len(errors) > 1 else ""
+        raise VoicingError(f"{first.part or 'the section'}: {first.message}{more}", where="[section]",
+                           accepted="a lead range or section whose parts reach every note, "
+                                    "or allow_extreme = true")
 
 
 def named_as_sounding(voiced: Voiced) -> Voiced:

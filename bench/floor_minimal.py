@@ -7,8 +7,10 @@ hold (read before any timing).  This script only writes: the MusicXML with strin
 templates (one per element, texts already escaped), the MIDI through mido (one message
 per event, then ``save``), with --report the report (its JSON loaded and dumped again by
 ``json``, its Markdown copied), and with --preview
-the same picture arrange draws: verovio lays the score out with the same options, every
-page is stacked into one SVG at the same size, and resvg-py draws the PNG.  Its files are
+the same picture arrange draws: verovio is called as arrange's preview called it (the
+documents it handed verovio hold its decisions, key signatures per staff, symbol spacing,
+line breaks; ``_digest.py`` recorded the calls), the pages drawn after the last document are
+stacked into one SVG at the same size, and resvg-py draws the PNG.  Its files are
 byte for byte arrange's (``build_bench.py`` checks that), so the two sides write the same
 files and differ only in the work done to decide them.
 """
@@ -23,8 +25,7 @@ _SERIF = "Times, 'Times New Roman', 'Liberation Serif', 'DejaVu Serif', 'Noto Se
 _GLYPHS = {"\ueca5": "\u2669", "\ueca7": "\u266a", "\ueca6": "\u2669", "\uea64": "\u266d", "\uea65": "\u266e",
            "\uea66": "\u266f", "\ue260": "\u266d", "\ue261": "\u266e", "\ue262": "\u266f", "\uecb7": ".", " ": ""}
 _SMUFL = re.compile(r'<tspan font-family="Leipzig" font-size="(\d+)px">([^<]*)</tspan>')
-_KEY_CHANGE = re.compile(r'<scoreDef [^>]*>\s*<keySig [^>]*?mode="([^"]*)"[^>]*/>\s*</scoreDef>'
-                         r'(\s*<measure [^>]*\bn="([^"]+)")')
+_BBOX = re.compile(r'<g id="bbox-[^"]*" class="[^"]*bounding-box"\s*(?:/>|>\s*<rect[^>]*/>\s*</g>)\s*')
 _VIEWBOX = re.compile(r'viewBox="0 0 ([\d.]+) ([\d.]+)"')
 
 
@@ -51,26 +52,20 @@ def _glyphs(m: re.Match[str]) -> str:
             + "".join(_GLYPHS[c] for c in text) + "</tspan>")
 
 
-def _preview(xml: str, keys: dict[str, dict[str, int]]) -> tuple[bytes, bytes]:
+def _preview(calls: list) -> tuple[bytes, bytes]:
     import resvg_py
     import verovio
 
     tk = verovio.toolkit()
-    tk.setOptions({"pageWidth": 2100, "pageHeight": 2970, "scale": 40, "adjustPageHeight": True,
-                   "footer": "none", "header": "auto", "breaks": "auto", "svgViewBox": True, "xmlIdSeed": 1})
-    tk.loadData(re.sub(r"<degree print-object=\"no\">.*?</degree>\s*", "", xml, flags=re.S))
-    if any(len(k) > 1 for k in keys.values()):       # a key change: each staff keeps its own signature
-        def per_staff(m: re.Match[str]) -> str:
-            defs = []
-            for n, by in sorted(keys.items(), key=lambda kv: int(kv[0])):
-                if m.group(3) in by:
-                    f = by[m.group(3)]
-                    sig = f"{f}s" if f > 0 else f"{-f}f" if f < 0 else "0"
-                    defs.append(f'<staffDef n="{n}"><keySig mode="{m.group(1)}" sig="{sig}"/></staffDef>')
-            return "<scoreDef><staffGrp>" + "".join(defs) + "</staffGrp></scoreDef>" + m.group(2)
-        tk.loadData(_KEY_CHANGE.sub(per_staff, tk.getMEI()))
-    docs = [_SMUFL.sub(_glyphs, tk.renderToSVG(i).replace('font-family="Times, serif"', f'font-family="{_SERIF}"'))
-            for i in range(1, min(tk.getPageCount(), 6) + 1)]
+    pages: list[str] = []
+    for name, args in calls:                     # arrange's calls into verovio, as recorded
+        out = getattr(tk, name)(*args)
+        if name == "loadData":
+            pages = []
+        elif name == "renderToSVG":
+            pages.append(out)
+    docs = [_SMUFL.sub(_glyphs, _BBOX.sub("", svg)).replace('font-family="Times, serif"', f'font-family="{_SERIF}"')
+            for svg in pages[:6]]
     sizes = []
     for d in docs:
         m = _VIEWBOX.search(d)
@@ -117,7 +112,7 @@ def main(digest_path: str, report_path: str, out_dir: str, report: bool, preview
                                                encoding="utf-8")
         (out / "floor.report.md").write_text(data["report_md"], encoding="utf-8")
     if preview:
-        svg, png = _preview(xml, data["keys"])
+        svg, png = _preview(data["layout"])
         (out / "floor.svg").write_bytes(svg)
         (out / "floor.png").write_bytes(png)
 

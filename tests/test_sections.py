@@ -50,13 +50,24 @@ def test_sound_and_program_agree_with_music21(key: str) -> None:
 
 @pytest.mark.parametrize("key", ["soprano-sax", "alto-sax", "tenor-sax", "clarinet", "flute", "trumpet",
                                  "trombone", "bass-trombone", "violin", "viola", "cello", "double-bass",
-                                 "guitar"])
-def test_practical_low_note_is_music21_lowest_written(key: str) -> None:
+                                 "guitar", "baritone-sax"])
+def test_extreme_low_note_is_music21_lowest_written(key: str) -> None:
+    # music21 lowestNote (documented as the lowest WRITTEN note) is the instrument's bottom:
+    # the extreme range (a hard limit) starts there, the practical range at or above it
     from music21 import pitch
 
     inst = instruments()[key]
-    written_low = inst.practical[0] + inst.transposition
-    assert written_low == pitch.Pitch(_m21(key).lowestNote.nameWithOctave).midi   # music21 lowestNote
+    assert inst.extreme[0] + inst.transposition == pitch.Pitch(_m21(key).lowestNote.nameWithOctave).midi
+    assert inst.practical[0] >= inst.extreme[0]
+
+
+def test_practical_ranges_are_narrower_than_extreme_ones() -> None:
+    # the range section players are asked to play lies inside the extreme range and is
+    # narrower than it (from memory of orchestration handbooks), piano and guitar aside
+    for inst in instruments().values():
+        (lo, hi), (xlo, xhi) = inst.practical, inst.extreme
+        assert xlo <= lo < hi <= xhi, inst.key
+        assert (hi - lo) < (xhi - xlo), inst.key
 
 
 def test_interval_names_agree_with_semitones() -> None:
@@ -96,7 +107,7 @@ def test_cli_lists_sections_with_ranges() -> None:
     bari = data["saxes-5"]["parts"][-1]
     assert bari["transposition"] == 21 and bari["range"] == list(instruments()["baritone-sax"].practical)
     text = run_cli("sections").output
-    assert "Baritone Sax" in text and "C2-Ab4" in text
+    assert "Baritone Sax" in text and "C#2-F4" in text
 
 
 INLINE = '''title = "Inline"

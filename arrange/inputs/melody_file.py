@@ -16,6 +16,7 @@ reader (:mod:`arrange.inputs.motif_file`).
 """
 from __future__ import annotations
 
+import hashlib
 import re
 from dataclasses import dataclass
 from fractions import Fraction
@@ -171,6 +172,28 @@ def read_melody_file(path: Path, *, where: str, part: int | None = None,
     """The melody of ``path``: part ``part`` (1-based among the parts with notes; the first
     by default), bars ``bars`` (1-based, inclusive)."""
     data = read_file_data(path, where)
+    key = (path.suffix.lower(), hashlib.sha256(data).digest(), part)
+    got = _PARSED.get(key)
+    if got is None:
+        chosen = _sounding_part(data, path, where, part)
+        got = (chosen, tuple(lead_notes(chosen)), tuple(phrase_marks(chosen)))
+        if len(_PARSED) >= _KEEP:               # a form's passages often read one file: keep a few
+            del _PARSED[next(iter(_PARSED))]
+        _PARSED[key] = got
+    chosen, lead, marks = got
+    return _melody(chosen, path, where, bars, lead, marks)
+
+
+# parsed parts, with their lead notes and phrase marks, by (suffix, the file's bytes' digest,
+# part): the passages of a form that take their bars from one file parse it once (music21's
+# parse, its sounding-pitch copy and its tie merging are most of the reading); the part is
+# only read afterwards, never changed
+_PARSED: dict[tuple[str, bytes, int | None], tuple[Any, tuple[tuple[Fraction, Fraction, int], ...],
+                                                  tuple[Fraction, ...]]] = {}
+_KEEP = 4
+
+
+def _sounding_part(data: bytes, path: Path, where: str, part: int | None) -> Any:
     score = parse_score(data, path, where)
     is_midi = path.suffix.lower() in (".mid", ".midi")
     parts = parts_with_notes(score)
@@ -185,7 +208,7 @@ def read_melody_file(path: Path, *, where: str, part: int | None = None,
     chosen = parts[(part or 1) - 1]
     if not is_midi:
         chosen = chosen.toSoundingPitch()
-    return _melody(chosen, path, where, bars)
+    return chosen
 
 
 def _meter_and_key(p: Any, path: Path, where: str) -> tuple[str | None, Any, str | None]:
@@ -207,7 +230,9 @@ def _meter_and_key(p: Any, path: Path, where: str) -> tuple[str | None, Any, str
     return (ts.ratioString if ts is not None else None), ts, key_text
 
 
-def _melody(p: Any, path: Path, where: str, bars: tuple[int, int] | None) -> Melody:
+def _melody(p: Any, path: Path, where: str, bars: tuple[int, int] | None,
+            lead: tuple[tuple[Fraction, Fraction, int], ...] | None = None,
+            marks: tuple[Fraction, ...] | None = None) -> Melody:
     from music21 import harmony, stream
 
     meter_text, ts, key_text = _meter_and_key(p, path, where)
@@ -219,8 +244,8 @@ def _melody(p: Any, path: Path, where: str, bars: tuple[int, int] | None) -> Mel
         content = _grid(first.highestTime)
         if first.paddingLeft or 0 < content < bar:
             pickup = content
-    notes = [(on - pickup, dur, pitch) for on, dur, pitch in lead_notes(p)]
-    breaks = [on - pickup for on in phrase_marks(p)]
+    notes = [(on - pickup, dur, pitch) for on, dur, pitch in (lead_notes(p) if lead is None else lead)]
+    breaks = [on - pickup for on in (phrase_marks(p) if marks is None else marks)]
     chords = []
     for cs in p.flatten().getElementsByClass(harmony.ChordSymbol):
         if isinstance(cs, harmony.NoChord):

@@ -19,7 +19,9 @@ Rules (common practice of ensemble arranging):
 * ``doubling``: the third or a tension in two voices (the lead's own doubling,
   asked for by close writing, and unison writing are exempt);
 * ``gap``: more than an octave between adjacent upper voices in close and drop
-  voicings (the bottom voice of five or more is free).
+  voicings (the bottom voice of five or more is free);
+* ``bottom``: the lowest voice is the b9 (a minor ninth over the root) or an avoid note
+  (a tone outside the chord a half step above one of its tones), unison writing exempt.
 """
 from __future__ import annotations
 
@@ -38,7 +40,7 @@ from arrange.voicing.sections import Section, read_rules
 __all__ = ["KINDS", "Context", "context", "masks", "penalties", "low_interval_limits", "findings",
            "INTERVAL_NAMES"]
 
-KINDS = ("range", "extreme", "low-interval", "voice-crossing", "minor-ninth", "doubling", "gap")
+KINDS = ("range", "extreme", "low-interval", "voice-crossing", "minor-ninth", "doubling", "gap", "bottom")
 INTERVAL_NAMES = ("unison", "minor second", "major second", "minor third", "major third",
                   "perfect fourth", "tritone", "perfect fifth", "minor sixth", "major sixth",
                   "minor seventh", "major seventh", "octave", "minor ninth", "major ninth",
@@ -66,12 +68,15 @@ class Context:
     flagged: np.ndarray     # (m, 12) bool: pitch classes that must not be doubled
     closed: np.ndarray      # (m,) bool: close or drop voicing (gap rule applies)
     unison: np.ndarray      # (m,) bool
+    tones: np.ndarray       # (m, 12) bool: the chord's own pitch classes
 
 
 def context(chords: Sequence[Chord], vtypes: Sequence[str]) -> Context:
     m = len(chords)
     flagged = np.zeros((m, 12), dtype=bool)
+    tones_of = np.zeros((m, 12), dtype=bool)
     for i, c in enumerate(chords):
+        tones_of[i, list(c.pitch_classes)] = True
         tones = set(c.pitch_classes)
         for t in c.tensions:
             pc = (c.root + t) % 12
@@ -83,7 +88,7 @@ def context(chords: Sequence[Chord], vtypes: Sequence[str]) -> Context:
     return Context(np.array([c.root for c in chords], dtype=np.int64),
                    np.array([c.is_dominant for c in chords], dtype=bool), flagged,
                    np.array([v in ("close", "drop2", "drop2-4", "drop3") for v in vtypes], dtype=bool),
-                   np.array([v == "unison" for v in vtypes], dtype=bool))
+                   np.array([v == "unison" for v in vtypes], dtype=bool), tones_of)
 
 
 def _ranges(section: Section) -> tuple[np.ndarray, ...]:
@@ -125,6 +130,13 @@ def masks(pitches: np.ndarray, ctx: Context, section: Section) -> dict[str, np.n
     upper_pairs = np.arange(n - 1) < (n - 1 if n <= 4 else n - 2)
     gap = (d > 12) & upper_pairs[None, :] & ctx.closed[:, None]
     out["gap"] = np.concatenate([zeros, gap], axis=1)
+    low = pc[:, -1]
+    rows = np.arange(m)
+    b9 = (low - ctx.root) % 12 == 1
+    avoid = ~ctx.tones[rows, low] & ctx.tones[rows, (low - 1) % 12]
+    bottom = np.zeros((m, n), dtype=bool)
+    bottom[:, -1] = (b9 | avoid) & ~ctx.unison & (n >= 3)
+    out["bottom"] = bottom
     return out
 
 
@@ -176,6 +188,10 @@ def findings(pitches: np.ndarray, ctx: Context, section: Section, *, bars: Seque
                        "voice; only the b9 over a dominant's root is kept")
             elif kind == "doubling":
                 msg = f"{part.name} doubles {pitch_name(p)[:-1]}, the third or a tension, already voiced above"
+            elif kind == "bottom":
+                what = "the b9" if (p - int(ctx.root[i])) % 12 == 1 else "an avoid note"
+                msg = (f"{part.name} plays {pitch_name(p)}, {what} of the chord, as the section's "
+                       "lowest voice")
             else:
                 msg = (f"{q - p} semitones between {above} ({pitch_name(q)}) and {part.name} "
                        f"({pitch_name(p)}) in a {vtypes[i]} voicing; at most an octave")

@@ -25,7 +25,7 @@ from arrange.theory.chords import Chord
 from arrange.voicing.sections import read_rules
 
 __all__ = ["VOICINGS", "Recipes", "recipes", "four_note_form", "chord_forms", "close_under",
-           "drop", "structures", "shapes", "fifth_pc"]
+           "drop", "structures", "shapes", "fifth_pc", "guide_tones", "GUIDE_OPTIONS", "doublings"]
 
 VOICINGS = ("close", "drop2", "drop2-4", "drop3", "spread", "unison")
 CLOSED = ("close", "drop2", "drop2-4", "drop3")
@@ -35,7 +35,9 @@ _ON = ("any", "dominant", "minor")
 @dataclass(frozen=True, slots=True)
 class Recipes:
     forms: tuple[tuple[str, tuple[int, ...]], ...]
-    substitutions: tuple[tuple[int, int, str], ...]   # (tension, replaces, on)
+    # (tension, replaces, on, option): option "" is always on; any other names a voicing
+    # option the project must ask for (a tension in place of a guide tone)
+    substitutions: tuple[tuple[int, int, str, str], ...]
     doubling: tuple[tuple[str, float], ...]
     max_candidates: int
     extra_window: int
@@ -50,13 +52,17 @@ class Recipes:
         return dict(self.weights)[name]
 
 
+# the voicing options a substitution may name (``[section]`` keys of the same name)
+GUIDE_OPTIONS = ("eleven_for_third",)
+
+
 @lru_cache(maxsize=1)
 def recipes() -> Recipes:
     where = "voicing_rules/voicings.toml"
     d = read_rules("voicings.toml")
     try:
         forms = tuple((q, tuple(int(i) % 12 for i in iv)) for q, iv in d["forms"].items())
-        subs = tuple((int(s["tension"]) % 12, int(s["replaces"]) % 12, str(s["on"]))
+        subs = tuple((int(s["tension"]) % 12, int(s["replaces"]) % 12, str(s["on"]), str(s.get("option", "")))
                      for s in d["substitutions"])
         doubling = tuple((k, float(v)) for k, v in d["doubling"].items())
         search = d["search"]
@@ -72,9 +78,17 @@ def recipes() -> Recipes:
         if len(set(iv)) != 4:
             raise VoicingError(f"form {q!r} = {list(iv)}", where=f"{where} [forms]",
                                accepted="four different intervals above the root")
-    for _t, _r, on in rec.substitutions:
+    for _t, r, on, option in rec.substitutions:
         if on not in _ON:
             raise VoicingError(f"on = {on!r}", where=f"{where} [[substitutions]]", accepted=", ".join(_ON))
+        if option and option not in GUIDE_OPTIONS:
+            raise VoicingError(f"option = {option!r}", where=f"{where} [[substitutions]]",
+                               accepted=", ".join(GUIDE_OPTIONS))
+        if r not in (0, 7) and not option:
+            # tensions stand for the root and the fifth; one in place of a guide tone is opt-in
+            raise VoicingError(f"replaces = {r} without an option", where=f"{where} [[substitutions]]",
+                               accepted="replaces = 0 (the root) or 7 (the fifth), or an option "
+                                        "naming a voicing option (" + ", ".join(GUIDE_OPTIONS) + ")")
     bad = [v for _o, v in rec.auto_steps if v not in VOICINGS]
     if bad or set(dict(rec.doubling)) - {"lead", "root", "fifth"}:
         raise VoicingError(f"auto steps or doublings {bad or list(dict(rec.doubling))}", where=where,
@@ -92,6 +106,18 @@ def fifth_pc(chord: Chord) -> int:
     return (chord.root + fifth) % 12
 
 
+def guide_tones(chord: Chord) -> tuple[int, ...]:
+    """Pitch classes of the guide tones of ``chord``: the third (the 4th of a sus4 chord,
+    the 2nd of a sus2), and the seventh (or the sixth)."""
+    by_degree = dict(zip(chord.degrees, chord.intervals, strict=True))
+    out = []
+    for degrees in ((3, 4, 2), (7, 6)):
+        iv = next((by_degree[d] for d in degrees if d in by_degree), None)
+        if iv is not None:
+            out.append((chord.root + iv) % 12)
+    return tuple(out)
+
+
 def four_note_form(chord: Chord, rec: Recipes) -> tuple[int, ...]:
     """The chord's four-note form as intervals above the root."""
     form = rec.form(chord.quality)
@@ -106,37 +132,79 @@ def four_note_form(chord: Chord, rec: Recipes) -> tuple[int, ...]:
     return tuple(iv[:4])
 
 
-def chord_forms(chord: Chord, rec: Recipes) -> list[tuple[tuple[int, ...], float]]:
-    """The plain form and its tension substitutions, each with its cost."""
+def _slots(base: tuple[int, ...], chord: Chord | None = None) -> dict[str, int | None]:
+    """Positions in a four-note form of the root and the fifth (the tones a tension or a
+    lead outside the chord may stand for); in a form without them (Ab13 as 3 b7 9 13) the
+    tones standing for them: a ninth for the root, any other non-guide tone for the fifth."""
+    guides = {(g - chord.root) % 12 for g in guide_tones(chord)} if chord is not None else set()
+    free = [k for k, i in enumerate(base) if i not in guides]
+    root = base.index(0) if 0 in base else next((k for k in free if base[k] in (1, 2, 3)), None)
+    fifth = next((k for k, i in enumerate(base) if i == 7), None)
+    if fifth is None:
+        fifth = next((k for k in free if k != root and base[k] in (6, 8)), None)
+    if fifth is None:
+        fifth = next((k for k in free if k != root), None)
+    return {"root": root, "fifth": fifth}
+
+
+def chord_forms(chord: Chord, rec: Recipes, options: frozenset[str] = frozenset()
+                ) -> list[tuple[tuple[int, ...], float]]:
+    """The plain form and its tension substitutions, each with its cost.  A tension stands
+    for the root or the fifth; in place of a guide tone only where ``options`` asks."""
     base = four_note_form(chord, rec)
+    slots = _slots(base, chord)
     avail = {t % 12 for t in chord.tensions} - set(base)
-    subs = [(t, r) for t, r, on in rec.substitutions
-            if t in avail and r in base and (on == "any" or (on == "dominant" and chord.is_dominant)
-                                             or (on == "minor" and _is_minor(chord)))]
-    cost = rec.weight("substitution")
+    subs = []
+    for t, r, on, option in rec.substitutions:
+        if option and option not in options:
+            continue
+        if t not in avail or not (on == "any" or (on == "dominant" and chord.is_dominant)
+                                  or (on == "minor" and _is_minor(chord))):
+            continue
+        if option:
+            pos = base.index(r) if r in base else None
+        else:
+            pos = slots["root"] if r == 0 else slots["fifth"]
+        if pos is not None:
+            # a substitution the project asked for by name is the house sound: no cost
+            subs.append((t, pos, 0.0 if option else rec.weight("substitution")))
     out = [(base, 0.0)]
     for k in (1, 2):
         for combo in combinations(subs, k):
-            if len({r for _t, r in combo}) < k:
+            if len({pos for _t, pos, _c in combo}) < k or len({t for t, _p, _c in combo}) < k:
                 continue
-            rep = {r: t for t, r in combo}
-            form = tuple(rep.get(i, i) for i in base)
-            out.append((form, cost * k))
+            rep = dict((pos, t) for t, pos, _c in combo)
+            form = tuple(rep.get(j, i) for j, i in enumerate(base))
+            out.append((form, sum(c for _t, _p, c in combo)))
     return out
 
 
-def _with_lead(pcs: tuple[int, ...], lead_pc: int, chord: Chord, rec: Recipes) -> tuple[int, ...]:
-    """Make the lead's pitch class one of the four: a tension takes the tone its
-    substitution names, any other note the chord tone just below it."""
+def _with_lead(form: tuple[int, ...], lead_pc: int, chord: Chord, rec: Recipes
+               ) -> list[tuple[tuple[int, ...], float]]:
+    """The form's pitch classes with the lead's among them: as it is where it is one of
+    them; else the lead stands for the root (a 9 of any kind) or the fifth (11, #11, b13,
+    13), the other at a cost; a lead outside the chord and its tensions (a clash) stands
+    for the fifth, so the chord keeps its own root, third and seventh under it.  The guide
+    tones always stay."""
+    pcs = tuple((chord.root + i) % 12 for i in form)
     if lead_pc in pcs:
-        return pcs
+        return [(pcs, 0.0)]
+    base = four_note_form(chord, rec)
+    slots = _slots(base, chord)
     iv = (lead_pc - chord.root) % 12
-    for t, r, _on in rec.substitutions:
-        target = (chord.root + r) % 12
-        if t == iv and target in pcs:
-            return tuple(lead_pc if p == target else p for p in pcs)
-    below = min(pcs, key=lambda p: (lead_pc - p) % 12)
-    return tuple(lead_pc if p == below else p for p in pcs)
+    tension = iv in {t % 12 for t in chord.tensions}
+    first = "root" if iv in (1, 2, 3) and tension else "fifth"
+    order = [first, "fifth" if first == "root" else "root"]
+    if not tension:
+        order = ["fifth"] if slots["fifth"] is not None else ["root"]
+    out = []
+    for k, slot in enumerate(order):
+        pos = slots[slot]
+        if pos is None:
+            continue
+        out.append((tuple(lead_pc if j == pos else p for j, p in enumerate(pcs)),
+                    rec.weight("substitution") * k))
+    return out
 
 
 def close_under(lead: int, pcs: tuple[int, ...]) -> tuple[int, ...]:
@@ -153,15 +221,16 @@ def drop(close: tuple[int, ...], vtype: str) -> tuple[int, ...]:
     return tuple(sorted(moved, reverse=True))
 
 
-def structures(lead: int, chord: Chord, vtype: str, rec: Recipes) -> list[tuple[tuple[int, ...], float]]:
+def structures(lead: int, chord: Chord, vtype: str, rec: Recipes,
+               options: frozenset[str] = frozenset()) -> list[tuple[tuple[int, ...], float]]:
     """Four-voice structures under ``lead`` (distinct, each with its cost)."""
     out: dict[tuple[int, ...], float] = {}
-    for form, cost in chord_forms(chord, rec):
-        pcs = _with_lead(tuple((chord.root + i) % 12 for i in form), lead % 12, chord, rec)
-        if len(set(pcs)) < 4:
-            continue
-        shape = drop(close_under(lead, pcs), vtype)
-        out[shape] = min(cost, out.get(shape, cost))
+    for form, cost in chord_forms(chord, rec, options):
+        for pcs, extra in _with_lead(form, lead % 12, chord, rec):
+            if len(set(pcs)) < 4:
+                continue
+            shape = drop(close_under(lead, pcs), vtype)
+            out[shape] = min(cost + extra, out.get(shape, cost + extra))
     return list(out.items())
 
 
@@ -175,20 +244,22 @@ def _extras(top: tuple[int, ...], e: int, chord: Chord, vtype: str, rec: Recipes
     for name, c in rec.doubling:
         for pc in cost_of[name]:
             pc_cost[pc] = min(c, pc_cost.get(pc, c))
-    # five voices and up in close writing: the lead an octave below first (two
-    # octaves below, at a cost, where the part below cannot take it)
+    # five voices and up in close writing: the lead an octave below first (two octaves
+    # below, or no lead doubling at all, at a cost: where the part below cannot take it,
+    # or where the lead is a b9 or a clash that must not sound at the bottom)
     firsts: list[tuple[tuple[int, ...], float]] = [((), 0.0)]
     if vtype == "close":
-        firsts = [((top[0] - 12,), 0.0), ((top[0] - 24,), rec.weight("lead-two-octaves"))]
-        e -= 1
+        firsts = [((top[0] - 12,), 0.0), ((top[0] - 24,), rec.weight("lead-two-octaves")),
+                  ((), rec.weight("lead-not-doubled"))]
     out = []
     for fixed, c0 in firsts:
+        rest = e - len(fixed)
         taken = set(top + fixed)
         low = max(min(top + fixed) - rec.extra_window, floor)
         pool = [p for p in range(top[0] - 1, low - 1, -1) if p % 12 in pc_cost and p not in taken]
-        if e > 4 or len(pool) < e:
+        if rest > 4 or len(pool) < rest:
             continue
-        for combo in combinations(pool, e):
+        for combo in combinations(pool, rest):
             voices = tuple(sorted(top + fixed + combo, reverse=True))
             if vtype == "spread" and voices[-1] % 12 != chord.root:
                 continue
@@ -196,25 +267,56 @@ def _extras(top: tuple[int, ...], e: int, chord: Chord, vtype: str, rec: Recipes
     fixed = firsts[0][0]
     if not out:   # many voices: each further voice doubles the voice four above, an octave down
         voices_l = list(top + fixed)
-        for _ in range(e):
+        for _ in range(e - len(fixed)):
             voices_l.append(voices_l[-4] - 12)
         out.append((tuple(sorted(voices_l, reverse=True)), 0.0))
     return out
 
 
+def doublings(pitches: tuple[int, ...], chord: Chord) -> tuple[str, ...]:
+    """What the voices beyond the first of each pitch class double, top to bottom, named
+    by their degree over ``chord`` ("lead", "root", "fifth", "3", "b7" ...)."""
+    seen: set[int] = set()
+    out = []
+    for k, p in enumerate(pitches):
+        pc = p % 12
+        if pc in seen:
+            if pc == pitches[0] % 12:
+                what = "lead"
+            elif pc == chord.root:
+                what = "root"
+            elif pc == fifth_pc(chord) and (pc - chord.root) % 12 in chord.intervals:
+                what = "fifth"
+            else:
+                what = _degree_name(chord, pc)
+            out.append(f"{what} (part {k + 1})")
+        seen.add(pc)
+    return tuple(out)
+
+
+_DEGREE_NAMES = {0: "root", 1: "b9", 2: "9", 3: "b3/#9", 4: "3", 5: "11", 6: "#11/b5", 7: "fifth",
+                 8: "b13/#5", 9: "13/6", 10: "b7", 11: "7"}
+
+
+def _degree_name(chord: Chord, pc: int) -> str:
+    return _DEGREE_NAMES[(pc - chord.root) % 12]
+
+
 @lru_cache(maxsize=4096)
-def shapes(lead: int, chord: Chord, vtype: str, n: int, floor: int) -> tuple[tuple[tuple[int, ...], float], ...]:
+def shapes(lead: int, chord: Chord, vtype: str, n: int, floor: int,
+           options: frozenset[str] = frozenset()) -> tuple[tuple[tuple[int, ...], float], ...]:
     """All candidate voicings for ``n`` parts (top to bottom), each with its recipe cost.
-    ``floor`` is the lowest pitch any extra voice may take (the section's extreme low)."""
+    ``floor`` is the lowest pitch any extra voice may take (the section's extreme low);
+    ``options`` the voicing options asked for (``GUIDE_OPTIONS``)."""
     rec = recipes()
     if vtype == "unison":
         out = []
         for ks in combinations_with_replacement(range(4), n - 1):
             out.append(((lead,) + tuple(lead - 12 * k for k in ks), 0.0))
         return tuple(out)
-    found = structures(lead, chord, vtype, rec)
+    found = structures(lead, chord, vtype, rec, options)
     if vtype == "spread":    # open above: the drop 2-4 shape, or drop 2 where that sits too low
-        found += structures(lead, chord, "drop2", rec)
+        found += structures(lead, chord, "drop2", rec, options)
     if vtype == "spread" and n <= 4:
         guides = {chord.root, (chord.root + 3) % 12, (chord.root + 4) % 12, (chord.root + 10) % 12,
                   (chord.root + 11) % 12}

@@ -21,6 +21,7 @@ from arrange.theory.chords import Chord
 from arrange.theory.pitch import pitch_name
 from arrange.voicing import rules
 from arrange.voicing.sections import Instrument, Section
+from arrange.voicing.shapes import guide_tones
 from arrange.voicing.tutti_layouts import Layout, layouts, tutti_rules
 from arrange.voicing.voicer import Finding, Voiced, VoicedEvent, VoicingOptions, voice
 
@@ -98,17 +99,6 @@ def root_below(chord: Chord, above: int, inst: Instrument, reach: int) -> int:
         if _limit_ok(above, p):
             return p
     return cands[0] if cands else lo + (pc - lo) % 12
-
-
-def guide_tones(chord: Chord) -> tuple[int, ...]:
-    """Pitch classes of the third and the seventh (or the sixth) of ``chord``."""
-    by_degree = dict(zip(chord.degrees, chord.intervals, strict=True))
-    out = []
-    for degrees in ((3,), (7, 6)):
-        iv = next((by_degree[d] for d in degrees if d in by_degree), None)
-        if iv is not None:
-            out.append((chord.root + iv) % 12)
-    return tuple(out)
 
 
 def _layout_row(lead: Sequence[int], chord: Chord, section: Section, layout: Layout,

@@ -13,7 +13,7 @@
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from fractions import Fraction
 
 import numpy as np
@@ -22,10 +22,11 @@ from arrange.checked import whole
 from arrange.errors import VoicingError
 from arrange.harmony.events import Event, Harmonized
 from arrange.tables import Table
+from arrange.theory.chords import sounding_chord
 from arrange.theory.pitch import pitch_name
 from arrange.voicing import rules
 from arrange.voicing.sections import Section
-from arrange.voicing.shapes import VOICINGS, recipes, shapes
+from arrange.voicing.shapes import GUIDE_OPTIONS, VOICINGS, guide_tones, recipes, shapes
 
 __all__ = ["Finding", "VoicedEvent", "Voiced", "VoicingOptions", "read_options", "voice", "VOICINGS",
            "PLANS", "plan", "candidates", "solve", "path_cost"]
@@ -63,6 +64,12 @@ class VoicingOptions:
     by_statement: tuple[tuple[int, str], ...] = ()
     by_bar: tuple[tuple[int, int, str], ...] = ()            # (first bar, last bar, type)
     allow_extreme: bool = False
+    eleven_for_third: bool = False     # opt-in: the 11 in place of a minor chord's third
+
+    @property
+    def guide_options(self) -> frozenset[str]:
+        """The voicing options (``shapes.GUIDE_OPTIONS``) this project asks for."""
+        return frozenset(k for k in GUIDE_OPTIONS if getattr(self, k))
 
 
 def _plan_table(table: Table, key: str) -> dict[str, str]:
@@ -92,7 +99,8 @@ def read_options(table: Table) -> VoicingOptions:
             raise table.error("by_bar", f"bar range {k[:40]!r}", "a bar \"9\" or a range \"9-12\"")
         by_bar.append((lo, hi, v))
     allow = table.boolean("allow_extreme", False)
-    return VoicingOptions(voicing, tuple(sorted(by_statement)), tuple(sorted(by_bar)), allow)
+    eleven = table.boolean("eleven_for_third", False)
+    return VoicingOptions(voicing, tuple(sorted(by_statement)), tuple(sorted(by_bar)), allow, eleven)
 
 
 def _bar(ev: Event, bar_len: Fraction) -> int:
@@ -126,23 +134,60 @@ def plan(harmonized: Harmonized, options: VoicingOptions) -> tuple[str, ...]:
     return tuple(chosen)
 
 
+# where the planned type has no voicing inside the extreme ranges, the others in this order
+FALLBACK = {"close": ("drop2", "drop3", "drop2-4", "spread"), "drop2": ("drop3", "drop2-4", "spread", "close"),
+            "drop3": ("drop2", "drop2-4", "spread", "close"), "drop2-4": ("spread", "drop2", "drop3", "close"),
+            "spread": ("drop2-4", "drop2", "drop3", "close"), "unison": ()}
+
+
 def candidates(ev: Event, vtype: str, section: Section, weights: dict[str, float],
-               cache: dict[tuple[object, ...], tuple[np.ndarray, np.ndarray]]) -> tuple[np.ndarray, np.ndarray]:
-    """Candidate voicings ``(k, n)`` of one note and their costs ``(k,)``, best kept."""
-    key = (ev.note.pitch, ev.chord, vtype)
+               cache: dict[tuple[object, ...], tuple[np.ndarray, np.ndarray]],
+               options: VoicingOptions = VoicingOptions(), lead: int | None = None
+               ) -> tuple[np.ndarray, np.ndarray]:
+    """Candidate voicings ``(k, n)`` of one note (its lead at ``lead``, by default as
+    placed) and their costs ``(k,)``, best kept.  Unless ``allow_extreme``, the extreme
+    ranges are a wall: a voicing with a note beyond one is no candidate (``k`` may be 0)."""
+    pitch = ev.note.pitch if lead is None else lead
+    key = (pitch, ev.chord, vtype, options.guide_options, options.allow_extreme)
     hit = cache.get(key)
     if hit is not None:
         return hit
     n = len(section.parts)
     floor = min(p.instrument.extreme[0] for p in section.parts)
-    found = shapes(ev.note.pitch, ev.chord, vtype, n, floor)
-    P = np.array([s for s, _c in found], dtype=np.int64)
+    found = shapes(pitch, ev.chord, vtype, n, floor, options.guide_options)
+    P = np.array([s for s, _c in found], dtype=np.int64).reshape(-1, n)
     base = np.array([c for _s, c in found], dtype=float)
     ctx = rules.context([ev.chord] * len(P), [vtype] * len(P))
-    cost = base + rules.penalties(rules.masks(P, ctx, section), weights)
+    marks = rules.masks(P, ctx, section)
+    cost = base + rules.penalties(marks, weights)
+    if not options.allow_extreme:
+        inside = ~marks["extreme"].any(axis=1)
+        P, cost = P[inside], cost[inside]
     keep = np.argsort(cost, kind="stable")[:recipes().max_candidates]
     cache[key] = (P[keep], cost[keep])
     return cache[key]
+
+
+def _unplaceable(ev: Event, vtype: str, section: Section, bar: int) -> VoicingError:
+    """The error for a note no voicing fits: the best voicing's first note beyond a wall."""
+    n = len(section.parts)
+    floor = min(p.instrument.extreme[0] for p in section.parts)
+    found = shapes(ev.note.pitch, ev.chord, vtype, n, floor)
+    P = np.array([s for s, _c in found], dtype=np.int64)
+    ctx = rules.context([ev.chord] * len(P), [vtype] * len(P))
+    ext = rules.masks(P, ctx, section)["extreme"]
+    best = int(ext.sum(axis=1).argmin())
+    j = int(np.flatnonzero(ext[best])[0])
+    part, p = section.parts[j], int(P[best, j])
+    lo, hi = part.instrument.extreme
+    side = "below" if p < lo else "above"
+    return VoicingError(
+        f"bar {bar}: {part.name} cannot play {pitch_name(p)} (sounding), {side} its extreme range "
+        f"{pitch_name(lo)}-{pitch_name(hi)}: no voicing of the lead {pitch_name(ev.note.pitch)} over "
+        f"{ev.chord.symbol} (of any type) keeps every part inside its range",
+        where="[section]",
+        accepted="a lead range that lets the section voice the line, a section whose parts reach, "
+                 "or allow_extreme = true")
 
 
 def solve(cands: list[np.ndarray], costs: list[np.ndarray], motion: float) -> tuple[list[int], float]:
@@ -199,6 +244,51 @@ def _check_lead(harmonized: Harmonized, section: Section, options: VoicingOption
                 "or allow_extreme = true")
 
 
+def _choose(ev: Event, vtype: str, section: Section, weights: dict[str, float],
+            cache: dict[tuple[object, ...], tuple[np.ndarray, np.ndarray]], options: VoicingOptions,
+            bar: int) -> tuple[Event, str, np.ndarray, np.ndarray, list[Finding], int]:
+    """The candidates of one note: of its planned type; where none fits inside the extreme
+    ranges, of the other types.  Raises when nothing fits (the lead stays as written; a
+    chain placed by the build tries its other octaves, ``build.run_pipeline``)."""
+    notes: list[Finding] = []
+    P, c = candidates(ev, vtype, section, weights, cache, options)
+    if len(P):
+        return ev, vtype, P, c, notes, ev.note.pitch
+    for other in FALLBACK.get(vtype, ()):
+        P, c = candidates(ev, other, section, weights, cache, options)
+        if len(P):
+            notes.append(Finding("shape", None, None, (
+                f"bar {bar}: {other} instead of {vtype}: no {vtype} voicing of the lead "
+                f"{pitch_name(ev.note.pitch)} over {ev.chord.symbol} fits inside the extreme ranges")))
+            return ev, other, P, c, notes, ev.note.pitch
+    raise _unplaceable(ev, vtype, section, bar)
+
+
+def _clash_and_guides(events: tuple[Event, ...], chosen: np.ndarray, types: tuple[str, ...] | list[str],
+                      section: Section, bars: list[int], options: VoicingOptions) -> list[Finding]:
+    """A kept chord under a lead outside it and its tensions (a clash, named), and, with
+    four or more parts, a voicing missing a guide tone the options do not excuse."""
+    out = []
+    n = len(section.parts)
+    for i, (ev, vtype) in enumerate(zip(events, types, strict=True)):
+        ch = ev.chord
+        lead_pc = int(chosen[i, 0]) % 12
+        iv = (lead_pc - ch.root) % 12
+        if lead_pc not in ch.pitch_classes and iv not in {t % 12 for t in ch.tensions}:
+            out.append(Finding("clash", i, section.lead.name, (
+                f"bar {bars[i]}: the lead {pitch_name(int(chosen[i, 0]))} is neither a tone nor a "
+                f"tension of {ch.symbol}; the chord is kept and voiced with its own tones under it")))
+        if n >= 4 and vtype != "unison" and not options.guide_options:
+            pcs = {int(p) % 12 for p in chosen[i]}
+            named = sounding_chord(ch, pcs)       # the symbol the score prints over it
+            missing = [g for g in guide_tones(named) if g not in pcs]
+            if missing:
+                out.append(Finding("guide-tones", i, None, (
+                    f"bar {bars[i]}: the voicing of {named.symbol} lacks "
+                    + " and ".join(pitch_name(60 + g)[:-1] for g in missing) + ", a guide tone")))
+    return out
+
+
 def voice(harmonized: Harmonized, section: Section, options: VoicingOptions) -> Voiced:
     events = harmonized.events
     if not events:
@@ -209,21 +299,28 @@ def voice(harmonized: Harmonized, section: Section, options: VoicingOptions) -> 
         if s not in statements:
             raise VoicingError(f"by_statement names statement {s}", where="[section] by_statement",
                                accepted=f"statements 1..{max(statements)} of this chain")
-    types = plan(harmonized, options)
+    types = list(plan(harmonized, options))
     weights = {k: recipes().weight(k) for k in ("motion",) + rules.KINDS}
     cache: dict[tuple[object, ...], tuple[np.ndarray, np.ndarray]] = {}
+    bar_len = harmonized.line.meter.bar
+    bars = [_bar(ev, bar_len) for ev in events]
     cands, costs = [], []
-    for ev, vtype in zip(events, types, strict=True):
-        P, c = candidates(ev, vtype, section, weights, cache)
+    notes: list[Finding] = []
+    placed = list(events)
+    for i, ev in enumerate(events):
+        ev2, vtype, P, c, found_here, lead = _choose(ev, types[i], section, weights, cache, options, bars[i])
+        if lead != ev.note.pitch:
+            placed[i] = replace(ev, note=replace(ev.note, pitch=lead))
+        types[i] = vtype
+        notes.extend(replace(f, event=i) for f in found_here)
         cands.append(P)
         costs.append(c)
     path, _ = solve(cands, costs, weights["motion"])
     chosen = np.stack([cands[i][j] for i, j in enumerate(path)])
-    bar_len = harmonized.line.meter.bar
-    bars = [_bar(ev, bar_len) for ev in events]
     ctx = rules.context([ev.chord for ev in events], types)
     found = rules.findings(chosen, ctx, section, bars=bars, allow_extreme=options.allow_extreme,
                            vtypes=types)
+    extra = _clash_and_guides(tuple(placed), chosen, types, section, bars, options)
     voiced = tuple(VoicedEvent(ev, vtype, tuple(int(p) for p in row))
-                   for ev, vtype, row in zip(events, types, chosen, strict=True))
-    return Voiced(harmonized, section, voiced, tuple(Finding(*f) for f in found))
+                   for ev, vtype, row in zip(placed, types, chosen, strict=True))
+    return Voiced(harmonized, section, voiced, tuple(Finding(*f) for f in found) + tuple(notes) + tuple(extra))

@@ -8,6 +8,7 @@ from typing import Any
 
 from arrange.theory.pitch import pitch_name
 from arrange.voicing.layers import VoicedLayer
+from arrange.voicing.shapes import doublings
 from arrange.voicing.voicer import Voiced
 from arrange.writers.common import bar_of_event, json_number, spelled_parts
 from arrange.writers.report_rhythm import rhythm_section_markdown
@@ -105,6 +106,7 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
             "target": ev.target.symbol if ev.target is not None else None,
             "anticipated": n.anticipated,
             "voicing": ve.voicing, "pitches": list(ve.pitches),
+            "doublings": list(doublings(ve.pitches, ev.chord)),
             "names": [part[i] for part in names],
             "segments": [],
         })
@@ -244,15 +246,16 @@ def report_markdown(data: dict[str, Any]) -> bytes:
                        f"({_cell(sg['lead_function'])}) | {_cell(sg['chord'])} | {sg['role']} | "
                        f"{_cell(sg['technique'])} | {_cell(sg['why'])} |")
     out += ["", "## Voicing per statement", "",
-            "| statement | bar | voicing | notes | pitches, top to bottom, at the first note |",
-            "| --- | --- | --- | --- | --- |"]
+            "| statement | bar | voicing | notes | pitches, top to bottom, at the first note | doubled there |",
+            "| --- | --- | --- | --- | --- | --- |"]
     events = data["events"]
     for st in data["statements"]:
         notes = st["notes"]
         first = _names(events[notes[0]]) if notes else []
+        doubled = ", ".join(events[notes[0]].get("doublings", [])) if notes else ""
         span = f"{notes[0] + 1}-{notes[-1] + 1}" if notes else "(overlap only)"
         out.append(f"| {st['statement']} | {st['bar'] or ''} | {', '.join(st['voicings']) or '-'} | "
-                   f"{span} | {' '.join(first)} |")
+                   f"{span} | {' '.join(first)} | {doubled or '-'} |")
     out += layers_markdown(data)
     out += rhythm_section_markdown(data, _cell)
     out += ["", "## Warnings", ""]
