@@ -118,6 +118,16 @@ def in_report_order(score, report: dict) -> list:  # noqa: ANN001
     return out + [s for j, s in enumerate(staves) if j not in used]
 
 
+def to_report_order(score, report: dict):  # noqa: ANN001, ANN201
+    """``score`` with its parts moved into report order (:func:`in_report_order`), in place."""
+    ordered = in_report_order(score, report)
+    for s in list(score.parts):
+        score.remove(s)
+    for s in ordered:
+        score.insert(0, s)
+    return score
+
+
 def part_notes(report: dict, k: int) -> list[tuple[float, float, int]]:
     """(onset, duration, sounding pitch) of the notes part ``k`` of the lead section plays,
     from report.json: each event, and each of its ``segments`` (a chord change under a held
