@@ -130,15 +130,20 @@ def bass_names(voiced: Any, layers: tuple[Any, ...], bass: Any) -> tuple[str, ..
         way = direction_of(pitches[i - 1] if i else None, pitches[i], pitches[i + 1] if i + 1 < len(pitches) else None)
         own = spell_pitch(bn.pitch, h.key_at(max(1, int(bn.onset // bar_len) + 1)), bn.chord, way)
         t0, t1 = bn.onset, bn.onset + bn.duration
-        here = [(on, name) for on, end, name in by_pc.get(bn.pitch % 12, ()) if on < t1 and t0 < end]
-        # the spelling sounding at the attack, else the first that enters while it holds
-        # (a tie keeps one name: where the horns respell the pitch class under a held bass
-        # note, by an approach chord's degree, the bass keeps the name of its attack)
+        here = [(on, split_name(name)[0]) for on, end, name in by_pc.get(bn.pitch % 12, ()) if on < t1 and t0 < end]
+        # one name while it sounds: the score's, where the score has one; where the horns
+        # spell the pitch class two ways while the bass holds (a tie keeps one name), the
+        # bass's own by its chord if the horns use it (an anticipated root keeps the name of
+        # the chord it anticipates), else the name sounding at its attack
+        spelled = {name for _on, name in here}
+        own_pc = split_name(own)[0]
+        if not spelled or own_pc in spelled:
+            out.append(own)
+            continue
         at_attack = [name for on, name in here if on <= t0]
-        later = [name for on, name in here if on > t0]
-        pick = at_attack[-1] if at_attack else later[0] if later else None
-        name = own if pick is None else split_name(pick)[0]
-        out.append(name if pick is None else with_octave(name, bn.pitch))
+        pick = at_attack[-1] if len(spelled) > 1 and at_attack else next(iter(spelled)) if len(spelled) == 1 \
+            else here[0][1]
+        out.append(with_octave(pick, bn.pitch))
     return tuple(out)
 
 
