@@ -246,12 +246,13 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
     slug = project.slug
     out = project.output
     info = None
-    if "musicxml" in formats or "preview" in formats or out.parts:
+    pdf = "pdf" in formats
+    if "musicxml" in formats or "preview" in formats or out.parts or pdf:
         from arrange.writers.musicxml import ScoreInfo, musicxml_bytes
 
         info = ScoreInfo(project.title, project.tempo, _style(project), dynamics=out.dynamics,
                          analysis=out.analysis, concert=out.concert_score, version=__version__)
-    if info is not None and ("musicxml" in formats or "preview" in formats):
+    if info is not None and ("musicxml" in formats or "preview" in formats or pdf):
         xml = musicxml_bytes(voiced, info, layers)   # the full score only when it is written or drawn
         if rhythm is not None:
             from arrange.writers.xml_rhythm import add_rhythm_parts
@@ -269,29 +270,35 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
                 files[f"{slug}.png"] = png_bytes(svg)
             elif notes is not None:
                 notes.append("preview: PNG skipped, resvg-py is not installed (pip install resvg-py)")
-    if out.parts and info is not None:
+        if pdf:
+            from arrange.writers.pdf import pdf_bytes
+
+            kind = "Concert score" if out.concert_score else "Transposed score"
+            files[f"{slug}.pdf"] = pdf_bytes(xml, project.title, kind, out.paper, part=False)
+    if (out.parts or pdf) and info is not None:
         from arrange.project import slugify
         from arrange.writers.musicxml import part_bytes
 
         parts_dir = f"{slug}-parts"        # one folder, replaced as a whole (writers.files)
-
-        for k, part_xml in part_bytes(voiced, info).items():
-            name = voiced.section.parts[k].name
-            files[f"{parts_dir}/part{k + 1:02d}-{slugify(name)}.musicxml"] = part_xml
+        named: list[tuple[str, bytes]] = [(voiced.section.parts[k].name, part_xml)
+                                          for k, part_xml in part_bytes(voiced, info).items()]
         if layers:
             from arrange.writers.xml_layers import layer_part_bytes
 
-            first = len(voiced.section.parts)
-            for j, (name, part_xml) in enumerate(layer_part_bytes(voiced, info, layers)):
-                files[f"{parts_dir}/part{first + j + 1:02d}-{slugify(name)}.musicxml"] = part_xml
+            named += layer_part_bytes(voiced, info, layers)
         if rhythm is not None:
             from arrange.writers.xml_rhythm import rhythm_part_files
 
-            first = len(voiced.section.parts) + sum(len(vl.layer.section.parts) for vl in layers)
-            for j, (name, part_xml) in enumerate(rhythm_part_files(
-                    rhythm, voiced.harmonized, project.title, project.tempo, _style(project), __version__,
-                    bass_names=_bass_names(voiced, layers, rhythm))):
-                files[f"{parts_dir}/part{first + j + 1:02d}-{slugify(name)}.musicxml"] = part_xml
+            named += rhythm_part_files(rhythm, voiced.harmonized, project.title, project.tempo, _style(project),
+                                       __version__, bass_names=_bass_names(voiced, layers, rhythm))
+        for k, (name, part_xml) in enumerate(named, start=1):
+            stem = f"{parts_dir}/part{k:02d}-{slugify(name)}"
+            if out.parts:
+                files[f"{stem}.musicxml"] = part_xml
+            if pdf:
+                from arrange.writers.pdf import pdf_bytes
+
+                files[f"{stem}.pdf"] = pdf_bytes(part_xml, project.title, name, out.paper)
     midi = None
     if "midi" in formats or out.audio:
         from arrange.writers.midi import MidiOptions, midi_bytes

@@ -177,8 +177,11 @@ def _chain_table(c: Any) -> str:
 @click.argument("project", type=click.Path(dir_okay=False, path_type=Path))
 @click.option("-o", "--out", "out_dir", default="out", show_default=True,
               type=click.Path(file_okay=False, path_type=Path), help="Output folder.")
-@click.option("--formats", default=None, help="Comma list: musicxml,midi,report,preview.")
+@click.option("--formats", default=None, help="Comma list: musicxml,midi,report,preview,pdf.")
 @click.option("--parts/--no-parts", default=None, help="Also write one MusicXML file per part.")
+@click.option("--pdf", "pdf", is_flag=True, default=False,
+              help="Also write print-ready PDFs: the score, and each part in DIR/<slug>-parts/.")
+@click.option("--paper", type=click.Choice(["a4", "letter"]), default=None, help="The PDF's paper (default a4).")
 @click.option("--analysis/--no-analysis", default=None,
               help="Statement labels and approach techniques on the score.")
 @click.option("--audio/--no-audio", default=None,
@@ -192,7 +195,7 @@ def _chain_table(c: Any) -> str:
 @guarded
 def build(project: Path, out_dir: Path, formats: str | None, parts: bool | None,
           analysis: bool | None, audio: bool | None, vary: tuple[str, ...] = (),
-          move: str | None = None) -> None:
+          move: str | None = None, pdf: bool = False, paper: str | None = None) -> None:
     """Build PROJECT.toml into score, MIDI and report files in the output folder."""
     from arrange.project import load_project
 
@@ -202,10 +205,13 @@ def build(project: Path, out_dir: Path, formats: str | None, parts: bool | None,
             from arrange.transpose import parse_target
 
             pr = transpose_project(pr, parse_target(move, where="--transpose"), where="--transpose")
-        return _with_flags(pr, parts, analysis, audio)
+        pr = _with_flags(pr, parts, analysis, audio)
+        return _with_print(pr, pdf, paper)
 
     proj = adjust(load_project(project))
     fmts = _formats(formats)
+    if pdf and fmts is not None and "pdf" not in fmts:
+        fmts = (*fmts, "pdf")
     if vary:
         from arrange.variants import build_variants
 
@@ -228,6 +234,18 @@ def _formats(formats: str | None) -> tuple[str, ...] | None:
         raise OutputError(f"format {bad[0] if bad else formats!r} is not known", where="--formats",
                           accepted=", ".join(FORMATS))
     return fmts
+
+
+def _with_print(proj: Any, pdf: bool, paper: str | None) -> Any:
+    """``--pdf`` adds ``pdf`` to the project's formats; ``--paper`` sets its paper."""
+    from dataclasses import replace
+
+    out = proj.output
+    if pdf and "pdf" not in out.formats:
+        out = replace(out, formats=(*out.formats, "pdf"))
+    if paper is not None:
+        out = replace(out, paper=paper)
+    return replace(proj, output=out) if out is not proj.output else proj
 
 
 def _with_flags(proj: Any, parts: bool | None, analysis: bool | None, audio: bool | None) -> Any:
@@ -283,14 +301,16 @@ def demo_dir() -> Path:
 @click.option("--parts/--no-parts", default=None, help="Also write one MusicXML file per part.")
 @click.option("--analysis/--no-analysis", default=None, help="Analysis labels on the scores.")
 @click.option("--audio/--no-audio", default=None, help="Also render WAVs (when fluidsynth is installed).")
+@click.option("--pdf", "pdf", is_flag=True, default=False, help="Also write print-ready PDFs of scores and parts.")
 @guarded
-def demo(out_dir: Path, parts: bool | None, analysis: bool | None, audio: bool | None) -> None:
+def demo(out_dir: Path, parts: bool | None, analysis: bool | None, audio: bool | None,
+         pdf: bool = False) -> None:
     """Build every bundled demo project into the output folder."""
     from arrange.project import load_project
 
     projects = sorted(demo_dir().glob("*.toml"))
     for i, path in enumerate(projects, start=1):
-        proj = _with_flags(load_project(path), parts, analysis, audio)
+        proj = _with_print(_with_flags(load_project(path), parts, analysis, audio), pdf, None)
         _build_one(proj, out_dir, None, label=f"[{i}/{len(projects)}] {path.stem}")
 
 

@@ -26,9 +26,11 @@ from arrange.voicing.layers import Layer, read_layers
 from arrange.voicing.sections import Section, section_from_table
 
 __all__ = ["Project", "ChainSpec", "OutputSpec", "load_project", "project_from_data", "slugify",
-           "FORMATS"]
+           "FORMATS", "DEFAULT_FORMATS", "PAPERS"]
 
-FORMATS = ("musicxml", "midi", "report", "preview")
+DEFAULT_FORMATS = ("musicxml", "midi", "report", "preview")
+FORMATS = (*DEFAULT_FORMATS, "pdf")          # pdf: print-ready score and parts, asked for
+PAPERS = ("a4", "letter")
 MAX_FILE_BYTES = 1_000_000
 MAX_TITLE = 120
 
@@ -52,6 +54,7 @@ class OutputSpec:
     humanize: float = 0.0                 # milliseconds of seeded timing spread (0 = none)
     seed: int = 1
     audio: bool = False                   # a WAV through fluidsynth when installed
+    paper: str = "a4"                     # the PDF's paper: a4 or letter
 
 
 @dataclass(frozen=True, slots=True)
@@ -131,7 +134,7 @@ def _chain(t: Table, base: Path | None = None) -> ChainSpec:
 
 
 def _output(t: Table) -> OutputSpec:
-    raw = t.raw("formats", list(FORMATS))
+    raw = t.raw("formats", list(DEFAULT_FORMATS))
     if not isinstance(raw, list) or not raw:
         raise t.error("formats", f"{raw!r}", "a list drawn from " + ", ".join(FORMATS))
     for f in raw:
@@ -151,7 +154,8 @@ def _output(t: Table) -> OutputSpec:
         concert_score=t.boolean("concert_score", False),
         rhythm_section=t.boolean("rhythm_section", False),
         humanize=t.number("humanize", 0.0, low=0, high=60),
-        seed=t.integer("seed", 1, low=0, high=2**31 - 1), audio=t.boolean("audio", False))
+        seed=t.integer("seed", 1, low=0, high=2**31 - 1), audio=t.boolean("audio", False),
+        paper=t.string("paper", "a4", choices=PAPERS))
     t.finish()
     return spec
 

@@ -219,6 +219,11 @@ def _guide_tones(cs) -> dict[str, int]:  # noqa: ANN001 - a music21 ChordSymbol
         out["3rd"] = third.pitchClass
     if seventh is not None:
         out["7th"] = seventh.pitchClass
+    for mod in cs.chordStepModifications:
+        # MusicXML 4.0 <degree-alter>: an added degree is relative to a dominant chord (the
+        # added 7 with alter 0 is the minor seventh); music21 reads it from the major scale
+        if mod.modType == "add" and mod.degree == 7:
+            out["7th"] = (cs.root().pitchClass + 10 + int(mod.interval.semitones)) % 12
     return out
 
 
@@ -317,6 +322,9 @@ def test_audit_catches_a_missing_third() -> None:
     assert _guide_tones(harmony.ChordSymbol("Dm7")) == {"3rd": 5, "7th": 0}
     assert _guide_tones(harmony.ChordSymbol("C6")) == {"3rd": 4, "7th": 9}
     assert _guide_tones(harmony.ChordSymbol("G7sus4")) == {"3rd": 0, "7th": 5}
+    sus = harmony.ChordSymbol(root="A", kind="suspended-fourth")
+    sus.addChordStepModification(harmony.ChordStepModification("add", 7, 0))
+    assert _guide_tones(sus) == {"3rd": 2, "7th": 7}       # MusicXML 4.0: A sus4 add 7 = A7sus4
     assert Path(__file__).is_file()
 
 

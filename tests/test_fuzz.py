@@ -87,7 +87,7 @@ for path, wrong in [
     (("harmony", "framework"), ["", "F6 | | C7", "Q7", 5, "F6 | Hm7", "F6 | F6 C7 Bb6 A7 G7 D7 E7"]),
     (("section", "name"), ["kazoos-9", "", 3, ["trumpets-4"]]),
     (("section", "voicing"), ["cluster", "", 2]),
-    (("output", "formats"), [["pdf"], "musicxml", [], [3]]),
+    (("output", "formats"), [["tiff"], "musicxml", [], [3]]),
 ]:
     for value in wrong:
         MUTATIONS.append((path, value))

@@ -17,7 +17,7 @@ STAGES = ("theory", "chain", "rhythm", "harmony", "voicing", "rhythm_section")
 # the MusicXML writer's own modules; the other formats are one module each
 FORMATS = {"musicxml": {"musicxml", "xml_score", "xml_layers", "xml_document", "xml_notation", "symbols",
                         "xml_rhythm", "xml_harmony"},
-           "midi": {"midi", "rhythm_section"}, "report": {"report"}, "preview": {"preview"},
+           "midi": {"midi", "rhythm_section"}, "report": {"report"}, "preview": {"preview", "pdf"},   # pdf prints the engraving the preview draws
            "audio": {"audio"}}
 
 

@@ -339,7 +339,7 @@ def _bad_theme_files(folder: Path) -> None:
     ('"file:short.musicxml"', (), "has 2 notes"),
     ('"file:entity.musicxml"', (), "entities"),
     ('"file:theme.txt"', (), "suffix"),
-    ('"A4 G4 C5 Bb4"', ("--formats", "musicxml,pdf"), "'pdf'"),
+    ('"A4 G4 C5 Bb4"', ("--formats", "musicxml,tiff"), "'tiff'"),
 ])
 def test_bad_input_exit_2_and_nothing_written(tmp_path: Path, motif: str, extra_args: tuple[str, ...],
                                               needle: str) -> None:

@@ -77,3 +77,67 @@ def test_a_failed_rebuild_keeps_the_old_parts_folder_whole(tmp_path: Path) -> No
         failed = run(["build", str(b), "-o", str(target)], tmp_path, fail_at=k)
         assert failed.code == 2, (k, failed.err[-400:])
         assert tree(target) == old, (k, sorted(set(tree(target)) ^ set(old)))
+
+
+def _pdf_text(path: Path) -> tuple[int, list[str], list[tuple[float, float]]]:
+    """Pages, each page's text and size in points, as pypdf (a PDF library from the
+    registry) reads them."""
+    from pypdf import PdfReader
+
+    reader = PdfReader(str(path))
+    return (len(reader.pages), [p.extract_text() for p in reader.pages],
+            [(float(p.mediabox.width), float(p.mediabox.height)) for p in reader.pages])
+
+
+def test_print_ready_pdf_of_the_score_and_every_part(tmp_path: Path) -> None:
+    """``--pdf``: the score and each part (the rhythm section's too) as PDF pages of A4
+    (ISO 216: 210 x 297 mm = 595.3 x 841.9 pt), one page or more each, every page's text
+    naming the title, the part and its page number (pypdf reads them)."""
+    from conftest import DEMOS
+
+    out = tmp_path / "out"
+    r = run_cli("build", str(DEMOS / "night-ferry-soli.toml"), "-o", str(out), "--pdf", "--parts")
+    assert r.exit_code == 0, r.output
+    report = json.loads((out / "night-ferry-soli.report.json").read_text())
+    names = [p["name"] for p in report["section"]["parts"]] + \
+        [p["name"] for p in (report.get("rhythm_section") or {}).get("parts", [])]
+    assert "Bass" in names and "Drums" in names
+    pdfs = sorted((out / "night-ferry-soli-parts").glob("part*.pdf"))
+    assert len(pdfs) == len(names) == len(list((out / "night-ferry-soli-parts").glob("part*.musicxml")))
+    for path, name in zip(pdfs, names, strict=True):
+        pages, texts, sizes = _pdf_text(path)
+        assert pages >= 1, path.name
+        for n, (text, size) in enumerate(zip(texts, sizes, strict=True), start=1):
+            assert name in text and report["title"] in text and f"page {n} of {pages}" in text, (path.name, text)
+            assert abs(size[0] - 595.3) < 1 and abs(size[1] - 841.9) < 1, size
+    pages, texts, _ = _pdf_text(out / "night-ferry-soli.pdf")
+    assert pages >= 1 and "Transposed score" in texts[0] and report["title"] in texts[0]
+
+
+def test_pdf_on_letter_paper_from_the_project_and_one_file_per_build(tmp_path: Path) -> None:
+    """``pdf`` in the project's formats with ``paper = "letter"`` (ANSI letter 8.5 x 11 in =
+    612 x 792 pt); no parts asked: the score's PDF and a PDF per part, and the same
+    project gives the same PDF bytes."""
+    text = TROMBONES + '\n[output]\nformats = ["pdf", "report"]\npaper = "letter"\n'
+    proj = write_project(tmp_path, text)
+    for d in ("a", "b"):
+        r = run_cli("build", str(proj), "-o", str(tmp_path / d))
+        assert r.exit_code == 0, r.output
+    a, b = tmp_path / "a", tmp_path / "b"
+    assert not list(a.glob("*.musicxml")) and not list(a.glob("*-parts/*.musicxml"))
+    parts = sorted((a / "test-cue-parts").glob("part*.pdf"))
+    assert [p.name for p in parts] == ["part01-trombone-1.pdf", "part02-trombone-2.pdf",
+                                       "part03-trombone-3.pdf", "part04-bass-trombone.pdf"]
+    for p in [a / "test-cue.pdf", *parts]:
+        _pages, _texts, sizes = _pdf_text(p)
+        assert all(abs(w - 612) < 1 and abs(h - 792) < 1 for w, h in sizes), (p.name, sizes)
+        assert p.read_bytes() == (b / p.relative_to(a)).read_bytes(), p.name
+
+
+def test_an_unknown_paper_is_refused_in_one_line(tmp_path: Path) -> None:
+    proj = write_project(tmp_path, TROMBONES + '\n[output]\nformats = ["pdf"]\npaper = "legal"\n')
+    r = run_cli("build", str(proj), "-o", str(tmp_path / "o"))
+    assert r.exit_code == 2
+    line = r.output.strip().splitlines()[-1]
+    assert "paper" in line and "'legal'" in line and "a4" in line and "letter" in line, line
+    assert not (tmp_path / "o").exists() or not any((tmp_path / "o").iterdir())

@@ -27,7 +27,7 @@ _PIXELS = 1.5          # picture pixels per SVG unit: about 1260 pixels across
 MAX_PAGES = 6
 
 
-def _toolkit():  # noqa: ANN202
+def _toolkit(page: dict[str, object] | None = None):  # noqa: ANN202
     try:
         import verovio
     except ImportError:
@@ -37,7 +37,7 @@ def _toolkit():  # noqa: ANN202
     tk = verovio.toolkit()
     tk.setOptions({"pageWidth": PAGE_WIDTH, "pageHeight": PAGE_HEIGHT, "scale": _SCALE,
                    "adjustPageHeight": True, "footer": "none", "header": "auto",
-                   "breaks": "auto", "svgViewBox": True, "xmlIdSeed": 1})
+                   "breaks": "auto", "svgViewBox": True, "xmlIdSeed": 1, **(page or {})})
     return tk
 
 
@@ -48,8 +48,10 @@ def toolkit_for(musicxml: bytes):  # noqa: ANN201
     return _layout(musicxml)[0]
 
 
-def _layout(musicxml: bytes):  # noqa: ANN202
-    tk = _toolkit()
+def _layout(musicxml: bytes, page: dict[str, object] | None = None):  # noqa: ANN202
+    """The toolkit and its pages (SVG with verovio's bounding boxes); ``page``: verovio
+    options that set another page (the print writer's paper, scale and margins)."""
+    tk = _toolkit(page)
     if not tk.loadData(_for_engraver(musicxml)):
         raise OutputError("verovio could not read the score it was given", where="preview",
                           accepted="a MusicXML score")
@@ -127,10 +129,12 @@ def _uncrowd(tk, mei: str):  # noqa: ANN001, ANN202
     return tk, [tk.renderToSVG(p) for p in range(1, tk.getPageCount() + 1)]
 
 
-def pages(musicxml: bytes, limit: int | None = None) -> tuple[list[str], int]:
+def pages(musicxml: bytes, limit: int | None = None,
+          page: dict[str, object] | None = None) -> tuple[list[str], int]:
     """The first ``limit`` pages (all by default) of the score as SVG documents
-    (verovio's layout), and how many pages the score has."""
-    svgs = _layout(musicxml)[1]
+    (verovio's layout; ``page``: verovio options for another page), and how many pages
+    the score has."""
+    svgs = _layout(musicxml, page)[1]
     drawn = len(svgs) if limit is None else min(len(svgs), limit)
     return [_fonts(_plain_text_glyphs(_BBOX.sub("", svg))) for svg in svgs[:drawn]], len(svgs)
 
