@@ -2,12 +2,15 @@
 
 The project builds cleanly: it names the lead range of its section (raised so the voices
 under the lead stay in their ranges), tries the sections in order of the line's register
-until one builds with no error (the caller's ``errors`` runs the stages in memory), declares a
-transition's second key from the bar of its dominant, and asks for a preview.
+until one builds with no error (the caller's ``errors`` runs the stages in memory), and asks
+for a preview.
 
-The framework moves tonic, dominant, tonic; for a transition it moves from the
-first key's tonic to the second key's dominant and tonic.  The framework has as
-many bars as the rhythm stage's default groove gives the line in 4/4 (asked of
+The framework moves tonic, dominant, tonic.  A transition's project says
+``modulate = "by-statement"``: the P statements carry the keys (statement 1 in the first
+key, each later P statement moved by its transposition, the last one in the second key,
+as the designer guarantees), and the framework, written in the first key, moves with
+them, so the cadence falls in the second key.  The framework has as many bars as the
+rhythm stage's default groove gives the line in 4/4 (asked of
 :func:`arrange.rhythm.lay_rhythm` itself), so the cadence lands on the last bars.
 """
 from __future__ import annotations
@@ -53,13 +56,42 @@ def _framework(first: str, dominant: str, last: str, bars: int) -> str:
     return f"{first} {dominant} {last}"
 
 
-def _bars(chain: Chain) -> int:
-    """Bars of the line under the default rhythm in 4/4, as the build will lay it."""
+def _statement_keys(chain: Chain, k1: Key, k2: Key) -> tuple[int, list[tuple[int, Key]]]:
+    """Bars of the line under the default rhythm in 4/4, as the build will lay it, and the
+    key changes of a transition: each P statement after the first moves the first key by its
+    transposition, from the bar it starts in (the next bar line if it starts mid-bar); the
+    last P statement is in the second key (the designer puts it there)."""
+    from arrange.harmony.harmonizer import statement_keys, transpose_key
     from arrange.rhythm.line import lay_rhythm, parse_meter, read_options
     from arrange.tables import Table
 
     line = lay_rhythm(chain, parse_meter("4/4"), read_options(Table({}, "design [rhythm]")))
-    return max(1, line.bars)
+    bars = max(1, line.bars)
+    if k1 == k2:
+        return bars, []
+    shifts = list(statement_keys(line, k1))
+    changes: list[tuple[int, Key]] = []
+    for i, (bar, t) in enumerate(shifts):
+        key = k2 if i == len(shifts) - 1 else transpose_key(k1, t)
+        if (changes[-1][1] if changes else k1) != key:
+            changes.append((bar, key))
+    if not changes or changes[-1][1] != k2:      # the last P statement starts in the last bar
+        changes.append((bars, k2))
+    return bars, changes
+
+
+def _keyed_framework(k1: Key, k2: Key, bars: int, changes: list[tuple[int, Key]]) -> str:
+    """Each bar on the tonic of its key; the last two on the second key's V7 and I."""
+    if bars < 3:
+        return _framework(tonic_symbol(k1), dominant_symbol(k2), tonic_symbol(k2), bars)
+    out = []
+    for b in range(1, bars - 1):
+        key = k1
+        for first, k in changes:
+            if first <= b:
+                key = k
+        out.append(tonic_symbol(key))
+    return " | ".join(out + [dominant_symbol(k2), tonic_symbol(k2)])
 
 
 # sections tried for the written project, by the line's register (the first that builds
@@ -110,8 +142,8 @@ def _text(spec: DesignSpec, chain: Chain, why: str, section: str) -> str:
 
     k1 = start_key or parse_key("C major")
     k2 = end_key or k1
-    bars = _bars(chain)
-    framework = _framework(tonic_symbol(k1), dominant_symbol(k2), tonic_symbol(k2), bars)
+    bars, changes = _statement_keys(chain, k1, k2)
+    framework = _keyed_framework(k1, k2, bars, changes)
     if spec.from_key is not None and spec.to_key is not None:
         title = f"Transition {spec.from_key} to {spec.to_key}"
     else:
@@ -122,9 +154,10 @@ def _text(spec: DesignSpec, chain: Chain, why: str, section: str) -> str:
     harmony = ["[harmony]",
                f"# {bars} bar{'s' if bars != 1 else ''}: what the default groove gives this line in 4/4",
                f"framework = {q(framework)}"]
-    if k2 != k1 and bars >= 2:
-        change = bars - 1 if bars >= 3 else 2          # from the new key's dominant (or tonic)
-        harmony.append(f"keys = [{q(f'{k2} from bar {change}')}]")
+    if changes:
+        harmony += [f"# the P statements carry the keys: each later one moves the key by its "
+                    f"transposition; the last one lies in {k2}",
+                    "keys = [" + ", ".join(q(f"{k} from bar {b}") for b, k in changes) + "]"]
     return "\n".join([
         "# Written by arrange design around its best motif:",
         f"#   {why}",

@@ -2,10 +2,12 @@
 from the passage before into the key of the passage after.
 
 The search (:func:`arrange.chain.design.search`) runs with the transition constraints
-of ``arrange design --from-key/--to-key`` on the chain up to its last P statement (so
-that statement lies in the new key: its transposition is the key distance, mod 12),
-starting on the note of the first key's tonic chord nearest the last lead note before
-the transition (never that note itself, and always within an octave of it).  Of the
+of ``arrange design --from-key/--to-key`` on the whole chain: the P statements carry the
+keys, so the last P statement lies in the new key (its transposition is the key distance,
+mod 12) and the line ends on a note of the new key's tonic chord (relaxed to its scale,
+then anywhere, where no chain does), starting on the note of the first key's tonic chord
+nearest the last lead note before the transition (never that note itself, and always
+within an octave of it).  Of the
 ranked motifs, the best whose whole chain lies in the lead instrument's practical range
 is taken; the report names it, its score and why, and the runners-up.
 
@@ -43,13 +45,13 @@ def design_transition(d: Any, last: int, from_key: Key, to_key: Key, section: An
     """The chain, (motif, score, why) of the chosen motif and the runners-up, and one line
     saying why."""
     from arrange.chain.design import score_of, search, why
-    from arrange.chain.spec import make_spec
+    from arrange.chain.spec import last_p_statement, make_spec
 
-    last_p = d.statements if d.statements % 2 else d.statements - 1
+    last_p = last_p_statement(d.statements)
     start = start_note(last, from_key)
     steps = tuple(s for s in range(-d.max_step, d.max_step + 1) if s)
     try:
-        spec = make_spec(d.length, statements=last_p, overlap=d.overlap, start=start, steps=steps,
+        spec = make_spec(d.length, statements=d.statements, overlap=d.overlap, start=start, steps=steps,
                          from_key=from_key, to_key=to_key)
     except DesignError as err:
         raise DesignError(err.what, where=f"{where}, key 'chain'", accepted=err.accepted) from None
@@ -67,7 +69,7 @@ def design_transition(d: Any, last: int, from_key: Key, to_key: Key, section: An
                           f"({found.count} met the key constraints)", where=f"{where}, key 'chain'",
                           accepted="another statements count, length or max_step, or a lead that plays higher "
                                    "or lower")
-    # ranked again on the whole chain (the search ranked the chain up to its last P statement)
+    # ranked on the whole chain's score (the search ranked by compass and travel first)
     fitting.sort(key=lambda fc: (-score_of(fc[1].pitches)[0], fc[0].motif))
     chosen = fitting[:1 + max(d.candidates, 0)]
     rows = []

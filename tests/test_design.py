@@ -84,6 +84,8 @@ CASES = [
     ["--length", "4", "--statements", "4", "--from-key", "F major", "--to-key", "Ab major"],
     ["--length", "4", "--statements", "5", "--from-key", "Bb major", "--to-key", "C major",
      "--steps", "1,2,3,5"],
+    ["--length", "3", "--statements", "8", "--from-key", "C major", "--to-key", "Eb major"],
+    ["--length", "3", "--statements", "6", "--from-key", "D minor", "--to-key", "E minor"],
 ]
 
 
@@ -142,7 +144,12 @@ def test_every_result_rebuilt_meets_every_constraint(args: list[str]) -> None:
             assert outside <= (0 if "--diatonic" in args else int(_opt(args, "--chromatic-notes")))
         if from_key:
             dist = m21_distance(from_key, to_key)         # music21.interval
-            assert (chain.statements[-1].transposition - dist) % 12 == 0
+            # the P statements carry the keys: the last P statement (K, or K-1 when K is even)
+            # starts the key distance (music21) from statement 1, mod 12; the line ends on a
+            # note of the second key's tonic triad (music21), after the final RI when K is even
+            last_p = [st for st in chain.statements if st.form == "P"][-1]
+            assert last_p.index == (k if k % 2 else k - 1)
+            assert (last_p.pitches[0] - line[0] - dist) % 12 == 0
             assert line[0] % 12 in m21_tonic_triad(from_key)
             assert line[-1] % 12 in m21_tonic_triad(to_key)
             assert out["relaxed"] == []
@@ -270,18 +277,29 @@ def test_write_project_builds_and_moves_between_keys(tmp_path: Path) -> None:
     best = json.loads(r.stdout)["results"][0]
     data = tomllib.loads(proj.read_text(encoding="utf-8"))
     assert data["key"] == "F major"
+    # the P statements carry the keys (declared from the bar each starts in); the framework
+    # closes on the second key's V7 and I (Eb7 is V7 of Ab, common practice)
+    assert data["harmony"]["keys"][-1].startswith("Ab major from bar ")
     bars = [b.split() for b in data["harmony"]["framework"].split("|")]
     chords = [c for bar in bars for c in bar]
-    assert chords[0] == "F" and chords[-2:] == ["Eb7", "Ab"]   # Eb7 is V7 of Ab (common practice)
+    assert chords[0] == "F" and chords[-2:] == ["Eb7", "Ab"]
     out = tmp_path / "out"
     b = run_cli("build", str(proj), "-o", str(out))
     assert b.exit_code == 0, b.output
     report = json.loads(next(out.glob("*.report.json")).read_text(encoding="utf-8"))
     assert report["chain"]["motif"] == best["motif"]
-    # the cadence lands at the end: the last lead note sounds over the second key's tonic
+    statements = report["chain"]["statements"]
+    last_p = [st for st in statements if st["form"] == "P"][-1]
+    assert last_p["index"] == len(statements) - (1 - len(statements) % 2)
+    # the key the last P statement starts in is Ab major; the cadence lands at the end: the
+    # last lead note sounds over the second key's tonic (a note of its triad, music21)
+    bar_of = {e["index"]: e["bar"] for e in report["events"]}
+    first_bar = bar_of[last_p["start"]] if last_p["start"] in bar_of else report["bars"]
+    keys = [k for k in report["keys"] if k["bar"] <= first_bar + 1]
+    assert keys and keys[-1]["key"] == "Ab major"
     events = report["events"]
-    assert events[-1]["chord"] == "Ab"
-    assert "Eb7" in {e["chord"] for e in events} and events[0]["chord"] == "F"
+    assert events[-1]["chord"] == "Ab" and events[0]["chord"] == "F"
+    assert events[-1]["lead"] % 12 in m21_tonic_triad("Ab major")
     # never over an existing file
     before = proj.read_bytes()
     again = run_cli("design", "--length", "4", "--write-project", str(proj))
@@ -312,6 +330,10 @@ BAD = [
     (["--length", "4", "--from-key", "F major"], "both keys"),
     (["--length", "4", "--statements", "5", "--from-key", "F major", "--to-key", "Ab major"],
      "a multiple of 2"),
+    (["--length", "4", "--statements", "6", "--from-key", "F major", "--to-key", "Ab major"],
+     "last P statement (5)"),
+    (["--length", "4", "--statements", "2", "--from-key", "F major", "--to-key", "Ab major"],
+     "--statements 3 or more"),
     (["--length", "4", "--statements", "3", "--transposition", "2", "--from-key", "F major",
       "--to-key", "Ab major"], "--transposition 2"),
     (["--length", "4", "--key", "H major", "--diatonic"], "'H major'"),

@@ -634,6 +634,44 @@ def test_no_dynamic_restated_without_a_change_or_a_rest_of_a_bar(built) -> None:
                     last_end = on + Q(el.quarterLength).limit_denominator(96)
 
 
+def test_a_change_of_level_inside_a_phrase_is_a_hairpin_to_the_new_mark(built) -> None:
+    """Common practice of ensemble parts: a new dynamic that follows the last note by less
+    than a bar is reached through a hairpin ending at it (a crescendo to a louder mark, a
+    diminuendo to a softer one: music21's ``volumeScalar`` orders the marks), starting no
+    more than a bar before it; every hairpin leads to such a mark (music21 reads both)."""
+    from music21 import dynamics, note
+
+    changes = 0
+    for path, report, ks in _files(built):
+        num, den = (int(x) for x in report["rhythm"]["written_meter"].split("/"))
+        bar = Q(4 * num, den)
+        for part in _m21(path).parts[:len(ks)]:
+            flat = part.flatten()
+            notes = [(Q(n.getOffsetInHierarchy(part)).limit_denominator(96), n) for n in flat.notes
+                     if isinstance(n, note.Note)]
+            wedges = []
+            for w in part.spanners.getElementsByClass(dynamics.DynamicWedge):
+                first, last = w.getFirst(), w.getLast()
+                wedges.append((type(w).__name__, Q(first.getOffsetInHierarchy(part)).limit_denominator(96),
+                               Q(last.getOffsetInHierarchy(part)).limit_denominator(96)))
+            used = set()
+            prev = None
+            for d in flat.getElementsByClass(dynamics.Dynamic):
+                on = Q(d.getOffsetInHierarchy(part)).limit_denominator(96)
+                before = [(o, n) for o, n in notes if o < on]
+                if prev is not None and d.value != prev.value and before:
+                    o, n = before[-1]
+                    if on - (o + Q(n.quarterLength).limit_denominator(96)) < bar:
+                        kind = "Crescendo" if d.volumeScalar > prev.volumeScalar else "Diminuendo"
+                        match = [w for w in wedges if w[0] == kind and w[2] == o and on - w[1] <= bar]
+                        assert match, (path.name, part.id, float(on), prev.value, d.value, wedges)
+                        used.add(match[0])
+                        changes += 1
+                prev = d
+            assert used == set(wedges), (path.name, part.id, set(wedges) - used)
+    assert changes
+
+
 def test_every_key_change_stands_after_a_double_bar(built) -> None:
     from music21 import key, stream
 

@@ -27,7 +27,7 @@ import numpy as np
 
 from arrange.chain import kernel as design_kernel
 from arrange.chain.core import Chain, build_chain
-from arrange.chain.spec import DesignSpec, make_spec, parse_steps, tonic_chord
+from arrange.chain.spec import DesignSpec, last_p_statement, make_spec, parse_steps, tonic_chord
 from arrange.theory.pitch import pitch_name
 
 __all__ = ["DesignSpec", "make_spec", "parse_steps", "Found", "Design", "search", "meets",
@@ -147,7 +147,8 @@ def meets(spec: DesignSpec, chain: Chain) -> int | None:
         if sum(1 for p in line if p % 12 not in inside) > spec.chromatic_notes:
             return None
     if spec.to_key is not None:
-        if (chain.statements[-1].transposition - spec.distance) % 12:
+        last_p = chain.statements[last_p_statement(len(chain.statements)) - 1]
+        if (last_p.transposition - spec.distance) % 12:
             return None
         return _end_tier(spec, line[-1])
     return 0
@@ -172,8 +173,8 @@ def why(spec: DesignSpec, chain: Chain) -> str:
         parts.append(f"{sum(1 for p in chain.pitches if p % 12 not in inside)} notes outside "
                      f"{spec.key_label()}")
     if spec.to_key is not None and spec.from_key is not None:
-        last = chain.statements[-1]
-        parts.append(f"statement {last.index} at {last.transposition:+d} "
+        last = chain.statements[last_p_statement(len(chain.statements)) - 1]
+        parts.append(f"last P statement {last.index} at {last.transposition:+d} "
                      f"({spec.from_key} to {spec.to_key}), ends on {pitch_name(chain.pitches[-1])}")
     return "; ".join(parts)
 

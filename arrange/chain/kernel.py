@@ -19,7 +19,7 @@ from typing import Any
 
 import numpy as np
 
-from arrange.chain.spec import DesignSpec, chain_length, tonic_chord
+from arrange.chain.spec import DesignSpec, chain_length, last_p_statement, tonic_chord
 
 __all__ = ["screen", "scores", "plan", "MEMORY_BUDGET"]
 
@@ -89,6 +89,7 @@ def screen(spec: DesignSpec, motif: Cols, gidx: np.ndarray, *, with_scores: bool
     """Candidates that meet ``spec``: (global indices, end tiers, ranks).  A rank is the
     score plus 2 for a line within ``spec.lead_span`` and 1 for a chain that travels."""
     n, o, k = spec.length, spec.overlap, spec.statements
+    last_p = last_p_statement(k)
     b = _Block({"gidx": gidx, "motif": motif, "stmt": motif})
     lo, hi = motif[0].copy(), motif[0].copy()
     for c in motif[1:]:
@@ -168,14 +169,13 @@ def screen(spec: DesignSpec, motif: Cols, gidx: np.ndarray, *, with_scores: bool
                     m &= t == spec.transposition
             if spec.compass is not None:
                 m &= b.a["compass"] == spec.compass
-            if spec.to_key is not None and o <= 2 and k > 3:
-                # exact links: statement j+2 is statement j moved by t (module doc of chain)
-                comp = b.a["compass"]
-                last = (comp + (k // 2 - 1) * t) if k % 2 == 0 else ((k - 1) // 2) * t
-                m &= (last - spec.distance) % 12 == 0
-        if j == k and spec.to_key is not None:
-            last_t = (nxt[-1] if k % 2 == 0 else nxt[0]) - m0
-            m &= (last_t - spec.distance) % 12 == 0
+            if spec.to_key is not None and o <= 2 and last_p > 3:
+                # exact links: statement j+2 is statement j moved by t (module doc of chain),
+                # so the last P statement lies ((P-1)/2) t from statement 1
+                m &= (((last_p - 1) // 2) * t - spec.distance) % 12 == 0
+        if j == last_p and spec.to_key is not None:
+            # the P statements carry the keys: the last one starts in the second key
+            m &= (nxt[0] - m0 - spec.distance) % 12 == 0
         b.compact()
     if agg_m is not None:
         b.mask &= b.a["bits"] == 4095

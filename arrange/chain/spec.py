@@ -14,7 +14,7 @@ from arrange.errors import DesignError
 from arrange.theory.keys import Key
 from arrange.theory.pitch import pitch_name
 
-__all__ = ["DesignSpec", "make_spec", "parse_steps", "tonic_chord", "chain_length",
+__all__ = ["DesignSpec", "make_spec", "parse_steps", "tonic_chord", "chain_length", "last_p_statement",
            "LENGTHS", "MAX_STATEMENTS", "MAX_STEP", "MAX_SPACE"]
 
 LENGTHS = (2, 8)
@@ -72,6 +72,11 @@ class DesignSpec:
         if self.key is not None:
             return str(self.key)
         return f"{self.from_key} and {self.to_key}"
+
+
+def last_p_statement(statements: int) -> int:
+    """The last P-form statement of a chain of ``statements`` (odd statements are P)."""
+    return statements if statements % 2 else statements - 1
 
 
 def chain_length(spec: DesignSpec) -> int:
@@ -181,21 +186,25 @@ def make_spec(length: int, *, statements: int = 4, overlap: int = 2, start: int 
         raise _contradict("--no-repeats, but every allowed step keeps the pitch class",
                           "--no-repeats/--steps", "steps that are not 0 or whole octaves")
     if from_key is not None and to_key is not None:
-        if statements < 2:
-            raise _contradict("a transition needs a last statement apart from the first",
-                              "--statements/--from-key", "--statements 2 or more")
+        if statements < 3:
+            raise _contradict("a transition needs a P statement after the first (statement 3) to "
+                              "carry the second key", "--statements/--from-key",
+                              "--statements 3 or more")
         dist = (to_key.tonic - from_key.tonic) % 12
-        # statement 2j+1 lies j times the statement-3 transposition from statement 1
-        # (statement j+2 is statement j transposed), so only multiples of gcd(j, 12) reach
-        g = math.gcd((statements - 1) // 2, 12)
-        if statements % 2 and dist % g:
-            raise _contradict(f"with --statements {statements} the last statement lies "
-                              f"{(statements - 1) // 2} times the statement-3 transposition from "
+        # the P statements carry the keys: statement 2j+1 lies j times the statement-3
+        # transposition from statement 1 (statement j+2 is statement j transposed), so the
+        # last P statement reaches only multiples of gcd(j, 12)
+        last_p = last_p_statement(statements)
+        g = math.gcd((last_p - 1) // 2, 12)
+        if dist % g:
+            raise _contradict(f"with --statements {statements} the last P statement ({last_p}) lies "
+                              f"{(last_p - 1) // 2} times the statement-3 transposition from "
                               f"statement 1, a multiple of {g} semitones (mod 12), but {from_key} to "
                               f"{to_key} is {dist}", "--statements/--from-key/--to-key",
-                              "an even --statements (2, 4, 6 ...) or one whose (K-1)/2 divides into "
-                              "the key distance")
-        if statements == 3 and transposition is not None and (transposition - dist) % 12:
+                              "a --statements whose last P statement (K, or K-1 when K is even) "
+                              "lies (P-1)/2 transpositions away, a number that divides into the "
+                              "key distance (3 or 4 statements always do)")
+        if last_p == 3 and transposition is not None and (transposition - dist) % 12:
             raise _contradict(f"--transposition {transposition} puts statement 3 {transposition % 12} "
                               f"semitones (mod 12) from statement 1, but {from_key} to {to_key} needs "
                               f"{dist}", "--transposition/--from-key/--to-key",

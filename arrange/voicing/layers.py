@@ -41,10 +41,11 @@ from arrange.voicing.shapes import recipes
 from arrange.voicing.voicer import Voiced
 
 __all__ = ["Layer", "LayerNote", "LayerFinding", "VoicedLayer", "ROLES", "DYNAMICS", "read_layers",
-           "parse_values", "build_layers", "accents", "layer_times"]
+           "parse_values", "build_layers", "accents", "layer_times", "root_costs"]
 
 ROLES = ("pad", "hits")
 DYNAMICS = ("ppp", "pp", "p", "mp", "mf", "f", "ff")
+_HALF = Fraction(1, 2)
 _VALUE_RE = re.compile(r"^(r?)(1|2|4|8|16)(\.?)(t?)$")
 
 
@@ -158,6 +159,19 @@ def _spans(framework: tuple[FrameworkChord, ...], total: Fraction) -> list[tuple
     return out
 
 
+def _stated(harmonized: Harmonized, t: Fraction, chord: Chord) -> Chord:
+    """The framework chord at ``t`` as the lead section states it there: a diatonic
+    substitute or the 7sus4 the harmonizer put on the lead note sounding at ``t`` (role
+    ``framework``; never an approach chord), so the pad plays what the section plays."""
+    for ev in harmonized.events:
+        n = ev.note
+        if n.onset <= t < n.onset + n.duration or (n.anticipated and n.onset + _HALF == t):
+            return ev.chord if ev.role == "framework" and ev.technique else chord
+        if n.onset > t:
+            break
+    return chord
+
+
 def accents(harmonized: Harmonized) -> tuple[int, ...]:
     """Indices of the lead notes that carry the groove's accents: the notes the
     rhythm stage marks ``accent`` (or anticipated).  A passage the groove marks
@@ -188,15 +202,24 @@ def layer_times(harmonized: Harmonized, layer: Layer) -> list[tuple[Fraction, Fr
     spans = _spans(harmonized.framework, total)
     out: list[tuple[Fraction, Fraction, Chord]] = []
     if layer.role == "pad":
-        for start, end, chord in spans:
-            t, k = start, 0
-            while t < end:
-                value, rest = layer.rhythm[k % len(layer.rhythm)]
-                dur = min(value, end - t)
-                if not rest:
-                    out.append((t, dur, chord))
-                t += dur
-                k += 1
+        # where the lead section pushes a chord an eighth ahead of its beat (an anticipation),
+        # the pad moves with it rather than rubbing the old chord against it (common
+        # practice): the new chord's first value starts at the push, the old chord's ends there
+        pushes = {n.onset + _HALF: n.onset for n in harmonized.line.notes
+                  if n.anticipated and n.onset >= 0}
+        begins = [pushes.get(s, s) if k else s for k, (s, _e, _c) in enumerate(spans)]
+        for k, (start, end, chord) in enumerate(spans):
+            chord = _stated(harmonized, start, chord)
+            stop = begins[k + 1] if k + 1 < len(spans) else end
+            t, j = start, 0
+            while t < stop:
+                value, rest = layer.rhythm[j % len(layer.rhythm)]
+                on = begins[k] if j == 0 else t
+                dur = min(t + value, stop) - on
+                if not rest and dur > 0:
+                    out.append((on, dur, chord))
+                t += value
+                j += 1
         return out
     for k, i in enumerate(accents(harmonized)):
         onset = harmonized.line.notes[i].onset
@@ -311,8 +334,23 @@ def _voice_layer(harmonized: Harmonized, voiced: Voiced, layer: Layer) -> Voiced
         snd = _sounding(voiced, onset, dur, index)
         lead = tuple(sorted({q for _i, _w, p in snd for q in p}))
         P, R, c = candidates(chord, layer.section, lead)
+        rc = root_costs(P, chord, snd)
         c = c + cross_costs(P, [(w, p) for _i, w, p in snd], chord, R)
-        keep = np.argsort(c, kind="stable")[:_KEEP]
+        # a pad thins rather than rubs, then states the chord from its root (or slash bass):
+        # where a least-clashing candidate has the root at the bottom, only those stay, so
+        # voice motion never outweighs the root (common practice of background writing);
+        # where none has, the thinned chord's why names the root among the tones left out
+        order = np.argsort(c, kind="stable")
+        bass = chord.bass if chord.bass is not None else chord.root
+        fewest = _fewest_clashes(P, R, chord, snd)
+        rooted = (rc == 0) & fewest
+        if (fewest & (P.min(axis=1) % 12 == bass % 12)).any():
+            # guide tones first, as ever: each one that rubs against no lead-section note of
+            # the chord's time (a pad leaves a guide tone out only to avoid a clash)
+            safe = tuple(g for g in tone_order(chord)[:2] if not any(rubs(g, q % 12, chord) for q in lead))
+            guided = rooted & _holds_guides(P, R, safe)
+            order = order[(guided if guided.any() else rooted)[order]]
+        keep = order[:_KEEP]
         cands.append(P[keep])
         rests.append(R[keep])
         costs.append(c[keep])
@@ -325,6 +363,42 @@ def _voice_layer(harmonized: Harmonized, voiced: Voiced, layer: Layer) -> Voiced
     return VoicedLayer(layer, tuple(notes), tuple(_findings(harmonized, voiced, layer, tuple(notes), sounding)))
 
 
+def _fewest_clashes(P: np.ndarray, R: np.ndarray, chord: Chord,
+                    snd: list[tuple[int, float, tuple[int, ...]]]) -> np.ndarray:
+    """The candidates with the fewest minor seconds / ninths against the lead-section notes
+    sounding during the chord (a pad thins rather than rubs: its ``why`` then names the
+    tones it leaves out, the root among them, and the lead notes they would rub)."""
+    count = np.zeros(len(P), dtype=np.int64)
+    for _i, _w, pitches in snd:
+        count += (clash_pairs(P, np.array(pitches, dtype=np.int64), chord) & ~R[:, :, None]).sum(axis=(1, 2))
+    return count == count.min() if len(count) else count.astype(bool)
+
+
+def _holds_guides(P: np.ndarray, R: np.ndarray, guides: tuple[int, ...]) -> np.ndarray:
+    """The candidates sounding every one of ``guides`` (pitch classes of the chord's guide
+    tones, ``pads.tone_order``: its third and its seventh or sixth)."""
+    out = np.ones(len(P), dtype=bool)
+    pcs = P % 12
+    for g in guides:
+        out &= ((pcs == g) & ~R).any(axis=1)
+    return out
+
+
+def root_costs(P: np.ndarray, chord: Chord, snd: list[tuple[int, float, tuple[int, ...]]]) -> np.ndarray:
+    """``root_bottom`` (nonzero: the filter of ``_voice_layer`` leaves the row out) for each
+    candidate whose lowest voice is not the chord's root (its bass for a slash chord), unless the lead section's lowest note at the chord's start is
+    that root, below it (common practice: a background states the chord from its root).
+    A resting voice carries the pitch above it, so the row's minimum is its lowest
+    sounding note."""
+    bass = chord.bass if chord.bass is not None else chord.root
+    low = P.min(axis=1)
+    wrong = low % 12 != bass % 12
+    first = snd[0][2] if snd else ()
+    if first and min(first) % 12 == bass % 12:       # the section's own bass is the root
+        wrong &= ~(low > min(first))
+    return layer_rules().weight("root_bottom") * wrong
+
+
 def _why(chord: Chord, row: tuple[int | None, ...], snd: list[tuple[int, float, tuple[int, ...]]],
          voiced: Voiced, layer: Layer) -> str:
     """A short note when a pad chord is thinned: the tones left out, the lead
@@ -334,8 +408,17 @@ def _why(chord: Chord, row: tuple[int | None, ...], snd: list[tuple[int, float, 
     played = {p % 12 for p in row if p is not None}
     full = min(n, len(order))
     rests = [layer.section.parts[k].name for k, p in enumerate(row) if p is None]
+    bass = chord.bass if chord.bass is not None else chord.root
+    low = min(p for p in row if p is not None)
+    rooted = ""
+    if low % 12 != bass % 12:
+        against = sorted({(q % 12, voiced.section.parts[k].name) for _e, _w, ps in snd
+                          for k, q in enumerate(ps) if (q - bass) % 12 == 1})   # a half step above
+        if against:
+            rooted = (f"root {_pc_name(bass)} off the bottom: it clashes with the lead's "
+                      f"{_pc_name(against[0][0])} ({against[0][1]})")
     if len(played) >= full and not rests:
-        return ""
+        return rooted
     lead_parts = voiced.section.parts
     left = []
     for pc in order:
@@ -347,13 +430,13 @@ def _why(chord: Chord, row: tuple[int | None, ...], snd: list[tuple[int, float, 
             q, part = against[0]
             left.append(f"{_pc_name(pc)} clashes with the lead's {_pc_name(q)} ({part})")
     if not left and not rests:
-        return ""
+        return rooted
     out = "thinned: " + ("; ".join(left) if left else "fewer tones")
     if rests:
         out += "; " + ", ".join(rests) + (" rests" if len(rests) == 1 else " rest")
     elif len(played) < n:
         out += "; clash-free tones doubled in octaves"
-    return out
+    return out + (f"; {rooted}" if rooted and bass % 12 in played else "")
 
 
 def _findings(harmonized: Harmonized, voiced: Voiced, layer: Layer, notes: tuple[LayerNote, ...],

@@ -15,7 +15,7 @@ from arrange.theory.dynamics import DYNAMICS
 from arrange.voicing.sections import Section
 from arrange.voicing.voicer import Voiced
 
-__all__ = ["DYNAMICS", "dynamic_of", "entrances", "rehearsal_letter", "rehearsal_plan", "REHEARSAL_GAP", "statement_label",
+__all__ = ["DYNAMICS", "dynamic_of", "entrances", "hairpins", "wedge", "rehearsal_letter", "rehearsal_plan", "REHEARSAL_GAP", "statement_label",
            "family", "part_groups", "words", "dynamic", "rehearsal", "metronome", "credits"]
 
 def dynamic_of(statement: int, dynamics: tuple[str, ...]) -> str:
@@ -40,6 +40,34 @@ def entrances(voiced: Voiced, dynamics: tuple[str, ...]) -> list[tuple[int, str]
             out.append((i, dyn))
             current = dyn
         prev_end = n.onset + n.duration
+    return out
+
+
+def hairpins(voiced: Voiced, dynamics: tuple[str, ...]) -> list[tuple[int, int, str]]:
+    """(first event, event of the new mark, "crescendo" | "diminuendo") of every hairpin.
+
+    The rule (common practice of ensemble parts): where the level changes inside a phrase
+    (the new mark follows the last note by less than a bar), the change is not a jump but a
+    hairpin leading into the new mark, over the last bar before it: it starts at the first
+    note that begins no more than a bar before the new mark and after the mark in force,
+    and stops where the new mark stands.  A new level after a rest of a bar or more is a
+    new entrance: its mark alone (terraced), no hairpin."""
+    bar = voiced.harmonized.line.meter.bar
+    events = voiced.events
+    marks = entrances(voiced, dynamics)
+    out = []
+    for (prev, old), (i, new) in zip(marks, marks[1:], strict=False):
+        if new == old or i == 0:
+            continue
+        before = events[i - 1].event.note
+        onset = events[i].event.note.onset
+        if onset - (before.onset + before.duration) >= bar:
+            continue                      # an entrance after a bar's rest: the mark alone
+        start = next((j for j in range(prev + 1, i) if events[j].event.note.onset >= onset - bar), i - 1)
+        if start <= prev:
+            continue                      # no note between the two marks to carry a hairpin
+        kind = "crescendo" if DYNAMICS.index(new) > DYNAMICS.index(old) else "diminuendo"
+        out.append((start, i, kind))
     return out
 
 
@@ -98,6 +126,13 @@ def words(text: str, placement: str = "above", **style: str) -> ET.Element:
 def dynamic(mark: str) -> ET.Element:
     d, dt = _direction("below")
     ET.SubElement(ET.SubElement(dt, "dynamics"), mark)
+    return d
+
+
+def wedge(kind: str) -> ET.Element:
+    """A hairpin's start (``crescendo``, ``diminuendo``) or its ``stop``, below the staff."""
+    d, dt = _direction("below")
+    ET.SubElement(dt, "wedge", {"type": kind, "number": "1"})
     return d
 
 

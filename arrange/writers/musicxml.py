@@ -64,6 +64,14 @@ def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool) -> Staff:
                 staff.add_mark(m, off, 5, harmony_element(chord, ivl=ivl))
     for i, dyn in marks.entrances(voiced, info.dynamics):
         staff.add_mark(firsts[i].measure, firsts[i].offset, 4, marks.dynamic(dyn))
+    for start, end, kind in marks.hairpins(voiced, info.dynamics):     # a change inside a phrase
+        staff.add_mark(firsts[start].measure, firsts[start].offset, 4, marks.wedge(kind))
+        last = voiced.events[end - 1].event.note          # the hairpin closes as this note ends
+        m, off = at_time(line, last.onset + last.duration)
+        if off == 0 and m > 0:                            # on a bar line: the end of the bar before
+            m -= 1
+            off = line.pickup if (m == 0 and line.pickup) else line.meter.bar
+        staff.add_mark(m, off, 3, marks.wedge("stop"))
     if lead:
         heading(staff, info, line)
         shift = 1 if line.pickup else 0
