@@ -562,6 +562,9 @@ def midi_violations(b: Built) -> list[str]:
     if bass is not None:
         notes = _midi_notes(bass)
         for t, r in _changes(b):
+            tech, named = _named(b, t)
+            if tech in ("diatonic substitute", "sus4") and named:
+                r = ref(named)              # the bass plays the chord the report names there
             tick = int((t + b.pickup) * tpq)
             here = [key for on, off, key in notes if on <= tick < off]
             if not here or here[0] % 12 != r.bass:

@@ -12,7 +12,7 @@ from arrange.rhythm.line import Line, Note
 from arrange.theory.chords import Chord
 from arrange.theory.keys import Key
 
-__all__ = ["FrameworkChord", "Event", "Harmonized"]
+__all__ = ["FrameworkChord", "Event", "Harmonized", "stated_framework"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -52,3 +52,31 @@ class Harmonized:
             if first <= bar:
                 current = k
         return current
+
+
+def stated_framework(harmonized: Harmonized) -> tuple[FrameworkChord, ...]:
+    """The framework chords as the lead section states them at their beats: where the
+    harmonizer put a named framework-role chord (a diatonic substitute, a 7sus4) on the
+    lead note sounding at a chord's start, or pushing it an eighth early, that chord
+    (never an approach chord), so pads and the bass play what the section plays."""
+    from dataclasses import replace
+
+    events = harmonized.events
+    out = []
+    k = 0
+    half = Fraction(1, 2)
+    for fc in harmonized.framework:
+        t = fc.onset
+        while k < len(events) and events[k].note.onset + events[k].note.duration <= t and \
+                not (events[k].note.anticipated and events[k].note.onset + half == t):
+            k += 1
+        chord = fc.chord
+        if k < len(events):
+            ev = events[k]
+            n = ev.note
+            if (n.onset <= t < n.onset + n.duration or (n.anticipated and n.onset + half == t)) and \
+                    ev.role == "framework" and ev.technique:
+                chord = ev.chord
+        out.append(fc if chord == fc.chord else replace(fc, chord=chord))
+    return tuple(out)
+

@@ -2,7 +2,7 @@
 ``[rhythm_section]`` options in, a :class:`RhythmSection` out."""
 from __future__ import annotations
 
-from arrange.harmony.events import Harmonized
+from arrange.harmony.events import Harmonized, stated_framework
 from arrange.rhythm_section.bass import bass_line
 from arrange.rhythm_section.comping import comping, hits
 from arrange.rhythm_section.drums import drum_part
@@ -20,7 +20,8 @@ def build_rhythm_section(harmonized: Harmonized, options: RhythmSectionOptions) 
     line = harmonized.line
     style, inst = style_for(options, line.groove)
     figures = hits(harmonized)
-    framework = tuple(fc for fc in harmonized.framework if fc.onset >= 0)
+    # the bass plays the chord the section states at each framework beat (a substitute's root)
+    framework = tuple(fc for fc in stated_framework(harmonized) if fc.onset >= 0)
     bass = bass_line(framework, line.meter, line.total, style, instruments()[inst].practical) \
         if "bass" in options.parts else ()
     comp = comping(harmonized, figures) if {"piano", "guitar"} & set(options.parts) else ()

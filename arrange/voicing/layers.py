@@ -30,7 +30,7 @@ from fractions import Fraction
 import numpy as np
 
 from arrange.errors import ProjectError
-from arrange.harmony.events import FrameworkChord, Harmonized
+from arrange.harmony.events import FrameworkChord, Harmonized, stated_framework
 from arrange.tables import Table
 from arrange.theory.chords import Chord
 from arrange.theory.pitch import pitch_name
@@ -159,19 +159,6 @@ def _spans(framework: tuple[FrameworkChord, ...], total: Fraction) -> list[tuple
     return out
 
 
-def _stated(harmonized: Harmonized, t: Fraction, chord: Chord) -> Chord:
-    """The framework chord at ``t`` as the lead section states it there: a diatonic
-    substitute or the 7sus4 the harmonizer put on the lead note sounding at ``t`` (role
-    ``framework``; never an approach chord), so the pad plays what the section plays."""
-    for ev in harmonized.events:
-        n = ev.note
-        if n.onset <= t < n.onset + n.duration or (n.anticipated and n.onset + _HALF == t):
-            return ev.chord if ev.role == "framework" and ev.technique else chord
-        if n.onset > t:
-            break
-    return chord
-
-
 def accents(harmonized: Harmonized) -> tuple[int, ...]:
     """Indices of the lead notes that carry the groove's accents: the notes the
     rhythm stage marks ``accent`` (or anticipated).  A passage the groove marks
@@ -201,7 +188,7 @@ def accents(harmonized: Harmonized) -> tuple[int, ...]:
 def layer_times(harmonized: Harmonized, layer: Layer) -> list[tuple[Fraction, Fraction, Chord]]:
     """(onset, duration, framework chord) of every background chord of ``layer``."""
     total = harmonized.line.total
-    spans = _spans(harmonized.framework, total)
+    spans = _spans(stated_framework(harmonized), total)   # substitutes and 7sus4 as the section states them
     out: list[tuple[Fraction, Fraction, Chord]] = []
     if layer.role == "pad":
         # where the lead section pushes a chord an eighth ahead of its beat (an anticipation),
@@ -211,7 +198,6 @@ def layer_times(harmonized: Harmonized, layer: Layer) -> list[tuple[Fraction, Fr
                   if n.anticipated and n.onset >= 0}
         begins = [pushes.get(s, s) if k else s for k, (s, _e, _c) in enumerate(spans)]
         for k, (start, end, chord) in enumerate(spans):
-            chord = _stated(harmonized, start, chord)
             stop = begins[k + 1] if k + 1 < len(spans) else end
             t, j = start, 0
             while t < stop:
