@@ -340,6 +340,16 @@ def test_a_section_that_cannot_voice_the_line_stops_the_build(tmp_path: Path) ->
     assert "Traceback" not in res.output
     assert "bar 1" in line and "Trumpet" in line and "cannot play" in line and "extreme range" in line
     assert not out.exists() or not any(out.iterdir())
+    # allow_extreme = true writes them on purpose, each one a warning in the report
+    path.write_text(text.replace('voicing = "close"', 'voicing = "close"\nallow_extreme = true'),
+                    encoding="utf-8")
+    res = run_cli("build", str(path), "-o", str(out), "--formats", "musicxml,report")
+    assert res.exit_code == 0, res.output
+    import json
+
+    report = json.loads(next(out.glob("*.report.json")).read_text())
+    extreme = [w for w in report["warnings"] if w["kind"] == "extreme"]
+    assert extreme and all(w["severity"] == "warning" and w["part"] for w in extreme)
 
 
 def test_eleven_for_third_only_when_asked(tmp_path: Path) -> None:
@@ -383,3 +393,30 @@ def test_report_names_the_doublings_of_brass_6(tmp_path: Path) -> None:
         assert all("(part " in d for d in e["doublings"])
     md = next((tmp_path / "o").glob("*.report.md")).read_text()
     assert "doubled there" in md
+
+
+def test_a_kept_chord_under_a_clashing_lead_is_that_chord(tmp_path: Path) -> None:
+    # a B held over F6 (no tension of F6, no diatonic chord of F major holds it): the chord
+    # is kept, its own tones sound under the lead (music21 ChordSymbol pitch classes, the root
+    # among them, not the lead's pitch class swapped in) and the report names the clash
+    import json
+
+    from music21 import converter
+
+    path = tmp_path / "clash.toml"
+    path.write_text('title = "Clash"\ntempo = 100\nmeter = "4/4"\nkey = "F major"\n'
+                    'melody = "[F6] B4:1 | [F6] A4:1 |"\n\n[section]\nname = "trumpets-4"\n'
+                    'voicing = "close"\n\n[output]\nformats = ["musicxml", "report"]\n', encoding="utf-8")
+    out = tmp_path / "out"
+    res = run_cli("build", str(path), "-o", str(out))
+    assert res.exit_code == 0, res.output
+    written = converter.parse(str(next(out.glob("*.musicxml"))))
+    b = Built("clash", written.toSoundingPitch(), written, 4)
+    first = _moments(b)[0]
+    tones = {p.pitchClass for p in first.chord.pitches}
+    assert first.pitches[0] % 12 == 11 and 11 not in tones           # B over F6
+    assert {p % 12 for p in first.pitches[1:]} <= tones               # the chord's own tones
+    assert first.chord.root().pitchClass in {p % 12 for p in first.pitches[1:]}
+    assert set(_guide_tones(first.chord).values()) <= {p % 12 for p in first.pitches}
+    report = json.loads(next(out.glob("*.report.json")).read_text())
+    assert any(w["kind"] == "clash" and w["bar"] == 1 for w in report["warnings"])

@@ -52,6 +52,17 @@ def test_range_and_extreme_marks() -> None:
     assert _marks([83, 67, 64, 60], "C7", section="trumpets-4")["range"][0]   # B5 above Bb5
 
 
+def test_no_b9_or_avoid_note_as_the_lowest_voice() -> None:
+    # common practice: the lowest voice is never the b9 over the root nor an avoid note
+    # (a tone outside the chord a half step above one of its tones)
+    assert _marks([71, 66, 63, 48], "B7")["bottom"] == [False, False, False, True]    # C under B7: b9
+    assert _marks([71, 65, 62, 56], "G7")["bottom"] == [False, False, False, True]    # Ab under G7
+    assert _marks([72, 64, 59, 53], "Cmaj7")["bottom"] == [False, False, False, True]  # F under Cmaj7
+    assert not any(_marks([71, 65, 62, 55], "G7")["bottom"])                          # G: the root
+    assert not any(_marks([74, 70, 64, 50], "C7")["bottom"])                          # D: the 9
+    assert not any(_marks([71, 71, 71, 59], "B7", "unison")["bottom"])                # unison exempt
+
+
 def _project(folder: Path, old: str, new: str, name: str = "p.toml") -> Path:
     assert old in BASIC
     return write_project(folder, BASIC.replace(old, new), name)
