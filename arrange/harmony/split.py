@@ -15,6 +15,7 @@ so an approach chord on it never sounds over its target's arrival.
 """
 from __future__ import annotations
 
+from bisect import bisect_left, bisect_right
 from dataclasses import replace
 from fractions import Fraction
 
@@ -37,15 +38,20 @@ def _perf(line: Line, t: Fraction) -> Fraction:
     return warp(t, Fraction(line.swing).limit_denominator(1000))
 
 
-def _cuts(note: Note, fw: tuple[FrameworkChord, ...], key_of) -> list[Fraction]:  # noqa: ANN001
+def _cuts(note: Note, fw: tuple[FrameworkChord, ...], key_of,  # noqa: ANN001
+          onsets: list[Fraction] | None = None) -> list[Fraction]:
     end = note.onset + note.duration
     at = note.onset + (_HALF if note.anticipated else 0)
-    current = None
-    for f in fw:
-        if f.onset <= at:
-            current = f
+    if onsets is None:                          # framework chords in any order: scan them all
+        lo, hi, current = 0, len(fw), None
+        for f in fw:
+            if f.onset <= at:
+                current = f
+    else:                                       # in time order: only the chords near the note
+        lo, hi = bisect_right(onsets, at), bisect_left(onsets, end)
+        current = fw[lo - 1] if lo else None
     out = []
-    for f in fw:
+    for f in fw[lo:hi]:
         if not note.onset < f.onset < end or f.onset <= at:
             continue
         if current is None or f.chord != current.chord or \
@@ -61,9 +67,12 @@ def split_held(line: Line, fw: tuple[FrameworkChord, ...], key_of) -> Line:  # n
     move with the notes they name; a line with nothing to cut is returned as it is."""
     pieces: list[Note] = []
     first_of: list[int] = []          # old index -> new index of its first piece
+    onsets: list[Fraction] | None = [f.onset for f in fw]
+    if any(b < a for a, b in zip(onsets, onsets[1:])):
+        onsets = None                 # not in time order: each note scans every chord
     for note in line.notes:
         first_of.append(len(pieces))
-        cuts = _cuts(note, fw, key_of)
+        cuts = _cuts(note, fw, key_of, onsets)
         if not cuts:
             pieces.append(replace(note, index=len(pieces)))
             continue

@@ -4,6 +4,7 @@ element from), and ``m21_figure``, the figure music21's own parser reads to the 
 (for tests and readers that use music21 as the reference)."""
 from __future__ import annotations
 
+from bisect import bisect_right
 from collections.abc import Sequence
 from fractions import Fraction
 from typing import Any
@@ -33,11 +34,30 @@ def chord_changes(events: Sequence[Any], framework: Sequence[Any]) -> list[tuple
         return e.note.onset < 0 and first is not None and e.role == "framework" and e.chord == first.chord
 
     over_bar_1 = any(pickup_on_first(e) for e in events)
+    # looked up by bisection (a whole score's framework against all its notes): the spans by
+    # start with the latest end so far, and the events' onsets where they are in time order
+    by_start = sorted(spans)
+    starts = [a for a, _b in by_start]
+    reach: list[Fraction] = []
+    for _a, b in by_start:
+        reach.append(b if not reach or b > reach[-1] else reach[-1])
+    onsets = [e.note.onset for e in events]
+    ordered = all(a <= b for a, b in zip(onsets, onsets[1:]))
+
+    def sounding(t: Fraction) -> bool:                      # a lead note sounds at t
+        k = bisect_right(starts, t)
+        return k > 0 and reach[k - 1] > t
+
     rows: list[tuple[Fraction, int, Chord]] = []          # (time, 0 framework beat / 1 note, chord)
     for fc in framework:
-        if any(a <= fc.onset < b for a, b in spans) and not (fc is first and over_bar_1):
+        if sounding(fc.onset) and not (fc is first and over_bar_1):
             continue                                        # a lead note sounds: its chord is there
-        inside = [e for e in events if fc.onset < e.note.onset < fc.onset + fc.duration]
+        end = fc.onset + fc.duration
+        if ordered:
+            k = bisect_right(onsets, fc.onset)
+            inside = events[k:k + 1] if k < len(events) and onsets[k] < end else []
+        else:
+            inside = [e for e in events if fc.onset < e.note.onset < end]
         chord = fc.chord
         if inside and inside[0].role == "framework" and inside[0].chord.root == fc.chord.root:
             chord = inside[0].chord
