@@ -257,7 +257,8 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
         if rhythm is not None:
             from arrange.writers.xml_rhythm import add_rhythm_parts
 
-            xml = add_rhythm_parts(xml, rhythm, voiced.harmonized, len(voiced.section.parts))
+            xml = add_rhythm_parts(xml, rhythm, voiced.harmonized, len(voiced.section.parts),
+                                   bass_names=_bass_names(voiced, layers, rhythm))
         if "musicxml" in formats:
             files[f"{slug}.musicxml"] = xml
         if "preview" in formats:
@@ -289,7 +290,7 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
             from arrange.writers.xml_rhythm import rhythm_part_files
 
             named += rhythm_part_files(rhythm, voiced.harmonized, project.title, project.tempo, _style(project),
-                                       __version__)
+                                       __version__, bass_names=_bass_names(voiced, layers, rhythm))
         for k, (name, part_xml) in enumerate(named, start=1):
             stem = f"{parts_dir}/part{k:02d}-{slugify(name)}"
             if out.parts:
@@ -326,20 +327,20 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
             data["warnings"] = list(data["warnings"]) + layer_warnings(layers, data["events"],
                                                                        fold_index(voiced))
         if rhythm is not None:
-            data["rhythm_section"] = rhythm_data(rhythm)
+            from arrange.writers.report_rhythm import rhythm_section_data
+
+            data["rhythm_section"] = rhythm_section_data(rhythm, voiced.harmonized.line,
+                                                         _bass_names(voiced, layers, rhythm))
         files[f"{slug}.report.json"] = report_json(data)
         files[f"{slug}.report.md"] = report_markdown(data)
     return files
 
 
-def rhythm_data(rhythm: RhythmSection) -> dict[str, object]:
-    """The report's ``rhythm_section``: its parts (names as the score writes them), the
-    bass style and instrument, and the drum part's fill bars."""
-    names = {"guitar": "Guitar", "piano": "Piano", "bass": "Bass", "drums": "Drums"}
-    return {"parts": [{"name": names[p], "role": p} for p in rhythm.parts],
-            "bass_style": rhythm.bass_style, "bass_instrument": rhythm.bass_instrument,
-            "bass_notes": len(rhythm.bass), "slashes": sum(1 for s in rhythm.comping if not s.rest),
-            "fills": list(rhythm.drums.fills) if rhythm.drums is not None else []}
+def _bass_names(voiced: Voiced, layers: tuple[VoicedLayer, ...], rhythm: RhythmSection) -> tuple[str, ...]:
+    """The bass part's concert names by the one spelling rule (``writers.common.bass_names``)."""
+    from arrange.writers.common import bass_names
+
+    return bass_names(voiced, layers, rhythm.bass)
 
 
 def _style(project: Project) -> str:

@@ -70,6 +70,30 @@ def main(debug: bool) -> None:
     _State.debug = debug
 
 
+class _Whole(click.ParamType):
+    """A whole number option read by :func:`arrange.checked.signed`: ASCII digits only, at
+    most nine, an optional sign (click's own ``int`` would take "٣" or "³"-like digits that
+    Python's ``int`` reads, and numbers of thousands of digits)."""
+
+    name = "integer"
+
+    def convert(self, value: Any, param: click.Parameter | None, ctx: click.Context | None) -> int:
+        if isinstance(value, int) and not isinstance(value, bool):
+            return value
+        from arrange.checked import MAX_DIGITS, signed
+        from arrange.exits import one_line
+
+        text = str(value)
+        n = signed(text)
+        if n is not None:
+            return n
+        raise click.BadParameter(f"{one_line(repr(text))} is not a whole number: ASCII digits 0-9 "
+                                 f"(at most {MAX_DIGITS}), e.g. 4", ctx=ctx, param=param)
+
+
+WHOLE = _Whole()
+
+
 def _overlaps(text: str | None) -> tuple[int, ...] | None:
     if text is None:
         return None
@@ -89,9 +113,9 @@ def _overlaps(text: str | None) -> tuple[int, ...] | None:
 # -k the statements, -n the motif's length.  --overlap has no short form: -o was taken.
 @main.command(short_help="Grow a motif into an RI chain and print it.")
 @click.argument("motif")
-@click.option("--statements", "-k", default=4, show_default=True, type=int,
+@click.option("--statements", "-k", default=4, show_default=True, type=WHOLE,
               help="How many statements (1..1000).")
-@click.option("--overlap", default=None, type=int, help="Notes shared by each link (default 2).")
+@click.option("--overlap", default=None, type=WHOLE, help="Notes shared by each link (default 2).")
 @click.option("--overlaps", default=None, help="One overlap per link, e.g. 2,3,2.")
 @click.option("--lead-range", nargs=2, default=None, metavar="LOW HIGH",
               help="Concert range to place the line in, e.g. F4 D5.")
@@ -473,25 +497,25 @@ class _Progress:
 
 
 @main.command(short_help="Search every motif for RI chains with the properties asked.")
-@click.option("--length", "-n", required=True, type=int, help="Notes in the motif (2..8).")
-@click.option("--statements", "-k", default=4, show_default=True, type=int, help="Statements (1..64).")
-@click.option("--overlap", default=2, show_default=True, type=int, help="Notes shared by each link.")
+@click.option("--length", "-n", required=True, type=WHOLE, help="Notes in the motif (2..8).")
+@click.option("--statements", "-k", default=4, show_default=True, type=WHOLE, help="Statements (1..64).")
+@click.option("--overlap", default=2, show_default=True, type=WHOLE, help="Notes shared by each link.")
 @click.option("--start", default=None, help="First note (default C4; a transition's first tonic).")
-@click.option("--max-step", default=None, type=int, help="Largest melodic step in semitones (default 12).")
+@click.option("--max-step", default=None, type=WHOLE, help="Largest melodic step in semitones (default 12).")
 @click.option("--steps", default=None, help="Allowed step sizes, e.g. 1,2,5 (both ways) or +3,-4.")
 @click.option("--no-repeats", is_flag=True, help="No pitch class twice inside the motif.")
-@click.option("--transposition", default=None, type=int, help="Statement 3 lies T semitones from statement 1.")
+@click.option("--transposition", default=None, type=WHOLE, help="Statement 3 lies T semitones from statement 1.")
 @click.option("--transposition-class", is_flag=True, help="Accept --transposition in any octave.")
-@click.option("--compass", default=None, type=int, help="Compass after two statements, semitones.")
-@click.option("--span", default=None, type=int, help="The whole chain within S semitones.")
+@click.option("--compass", default=None, type=WHOLE, help="Compass after two statements, semitones.")
+@click.option("--span", default=None, type=WHOLE, help="The whole chain within S semitones.")
 @click.option("--aggregate", is_flag=True, help="The chain completes all 12 pitch classes.")
-@click.option("--aggregate-within", default=None, type=int, help="... within its first M notes.")
+@click.option("--aggregate-within", default=None, type=WHOLE, help="... within its first M notes.")
 @click.option("--key", "key_text", default=None, help='Key for --diatonic / --chromatic-notes, e.g. "F major".')
 @click.option("--diatonic", is_flag=True, help="Every chain note in the key.")
-@click.option("--chromatic-notes", default=None, type=int, help="At most M chain notes outside the key.")
+@click.option("--chromatic-notes", default=None, type=WHOLE, help="At most M chain notes outside the key.")
 @click.option("--from-key", default=None, help='A transition: the key the chain starts in.')
 @click.option("--to-key", default=None, help="... and the key its last statement reaches.")
-@click.option("--top", default=10, show_default=True, type=int, help="How many results to show (1..1000).")
+@click.option("--top", default=10, show_default=True, type=WHOLE, help="How many results to show (1..1000).")
 @click.option("--count", "count_only", is_flag=True, help="Only count the motifs that meet the constraints.")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object.")
 @click.option("--force", is_flag=True, help="Search a space of more than 10^9 motifs.")

@@ -98,6 +98,36 @@ def copy_demo(tmp_path: Path, name: str) -> Path:
     return dst
 
 
+def in_report_order(score, report: dict) -> list:  # noqa: ANN001
+    """The score's parts in report order: the lead section's parts, then each layer's, then
+    the rhythm section's, matched by part name in order.  The score itself stands in score
+    order (common practice: saxophones above trumpets above trombones), which need not be
+    the order the report lists the voices in."""
+    names = [p["name"] for p in report["section"]["parts"]]
+    names += [p["name"] for la in report.get("layers", []) for p in la["parts"]]
+    names += [p["name"] for p in (report.get("rhythm_section") or {}).get("parts", [])]
+    staves = list(score.parts)
+    used: set[int] = set()
+    out = []
+    for name in names:
+        j = next((j for j, s in enumerate(staves) if j not in used and s.partName == name), None)
+        if j is None:
+            continue
+        used.add(j)
+        out.append(staves[j])
+    return out + [s for j, s in enumerate(staves) if j not in used]
+
+
+def to_report_order(score, report: dict):  # noqa: ANN001, ANN201
+    """``score`` with its parts moved into report order (:func:`in_report_order`), in place."""
+    ordered = in_report_order(score, report)
+    for s in list(score.parts):
+        score.remove(s)
+    for s in ordered:
+        score.insert(0, s)
+    return score
+
+
 def part_notes(report: dict, k: int) -> list[tuple[float, float, int]]:
     """(onset, duration, sounding pitch) of the notes part ``k`` of the lead section plays,
     from report.json: each event, and each of its ``segments`` (a chord change under a held

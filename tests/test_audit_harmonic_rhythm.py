@@ -47,7 +47,7 @@ from pathlib import Path
 from typing import Any
 
 import pytest
-from conftest import DEMOS, run_cli
+from conftest import DEMOS, in_report_order, run_cli
 
 ALL = '["chromatic", "diatonic", "dominant", "diminished", "tritone"]'
 
@@ -309,7 +309,8 @@ def _build(name: str, text: str, root: Path) -> Built:
         fw = [(Fraction(f["onset"]).limit_denominator(96), f["chord"]) for f in report["framework"]]
     written = converter.parse(next(f for f in out.glob("*.musicxml") if ".part" not in f.name))
     n_lead = len(report["section"]["parts"])
-    parts = list(written.toSoundingPitch().parts)
+    # lead section, then layers (the score itself stands in score order: saxophones on top)
+    parts = in_report_order(written.toSoundingPitch(), report)
     symbols = []       # written for the staff they stand over; music21 gives them at concert pitch
     for cs in parts[0].flatten().getElementsByClass(harmony.ChordSymbol):
         symbols.append((Fraction(cs.offset).limit_denominator(96) - pickup, cs))

@@ -103,7 +103,7 @@ parts = {str(parts).lower()}
 
 
 def _project(title: str, key: str, motif: str, framework: str, section: str, *, layers: str = "",
-             groove: str = "straight", output: str = "") -> tuple[str, list[str]]:
+             groove: str = "straight", output: str = "", bass: bool = False) -> tuple[str, list[str]]:
     text = f'''title = "{title}"
 tempo = 132
 meter = "4/4"
@@ -128,6 +128,8 @@ voicing = "close"
 [output]
 {output or 'formats = ["musicxml", "report"]'}
 '''
+    if bass:        # a walking bass line: chromatic approach notes under the voiced chords
+        text += '\n[rhythm_section]\nparts = ["bass"]\nbass = "walking"\n'
     return text, [key]
 
 
@@ -142,9 +144,9 @@ FS = ("F# major", "C#5 B4 D5 A#4 G4 G#4", "F#maj7 | D#m7 | G#m7 C#7 | F#6", "sax
 B = ("B major", "F#4 A4 G#4 D#5 E5 C5", "Bmaj7 | G#m7 | C#m7 F#7 | B6", "brass-8")
 PROJECTS: dict[str, tuple[str, list[str]]] = {
     # the issue's "done when": F# and B major, saxes-5 and brass-8, every technique
-    "fs": _project("Sharp Six", *FS, layers=_pad("brass-8"), groove="swing", output=FULL),
+    "fs": _project("Sharp Six", *FS, layers=_pad("brass-8"), groove="swing", output=FULL, bass=True),
     "fs-concert": _project("Sharp Six Concert", *FS, layers=_pad("brass-8"), groove="swing",
-                           output=CONCERT),
+                           output=CONCERT, bass=True),
     "b": _project("Five Sharps", *B, layers=_pad("saxes-5", rhythm="1"), output=FULL),
     "b-concert": _project("Five Sharps Concert", *B, layers=_pad("saxes-5", rhythm="1"),
                           output=CONCERT),
@@ -157,11 +159,13 @@ PROJECTS: dict[str, tuple[str, list[str]]] = {
     "e": _project("Strings In E", "E major", "B4 D5 C#5 G#4 A4 F4", "Emaj7 | C#m7 | F#m7 B7 | E6",
                   "strings-5", output=CONCERT),
     "dm": _project("Minor Brass", "D minor", "A4 C5 Bb4 E5 F5 C#5", "Dm7 | Gm7 C7 | Fmaj7 | Em7b5 A7",
-                   "brass-8"),
+                   "brass-8", bass=True),
     "f#dorian": _project("Dorian Horns", "F# dorian", "F#4 A4 G#4 D#5 C#5 E4", "F#m7 | B7 | F#m7 | Emaj7",
                          "horns-4"),
     "eblydian": _project("Lydian Brass", "Eb lydian", "Bb4 A4 G4 D5 F5 C5", "Ebmaj7 | F7 | Ebmaj7 | Dm7",
-                         "brass-6", groove="swing"),
+                         "brass-6", groove="swing", bass=True),
+    "gb-bass": _project("Six Flats Walking", "Gb major", "Db5 Bb4 Cb5 F4 G4 Eb5", "Gbmaj7 | Ebm7 | Abm7 Db7 | Gbmaj7",
+                        "saxes-5", groove="swing", layers=_pad("trombones-4", rhythm="1"), bass=True),
     "walk-major": _walk("Walk Major", tuple(f"{t} major" for t in MAJORS), parts=True),
     "walk-minor": _walk("Walk Minor", tuple(f"{t} minor" for t in MINORS)),
     "walk-modes": _walk("Walk Modes", MODE_KEYS),
@@ -194,6 +198,7 @@ class Built:
     keys: list[str]                 # the keys the project names
     chords: list[tuple[float, Any]] = field(default_factory=list)   # (offset, ChordSymbol), concert
     files: list[tuple[str, int, Any, Any]] = field(default_factory=list)  # part files: name, part, written, sounding
+    bass: Any = None                # the rhythm section's bass part as written (None: no bass)
 
     def group(self, k: int) -> int:
         """Parts that read one written key: in a concert score all; in a transposed score
@@ -211,6 +216,25 @@ def _score_parts(report: dict[str, Any]) -> list[Part]:
             out.append(Part(p["name"], p["instrument"], False,
                             [n["pitches"][k] for n in layer["notes"] if n["pitches"][k] is not None]))
     return out
+
+
+def _in_report_order(score: Any, parts: list[Part]) -> Any:
+    """The score's parts in report order (lead section, then layers), matched by name: the
+    score itself stands in score order (saxophones above brass).  The rhythm section's parts
+    are left out: they are checked with the bass below (``_bass``)."""
+    staves = list(score.parts)
+    used: set[int] = set()
+    ordered = []
+    for part in parts:
+        j = next(j for j, s in enumerate(staves) if j not in used and s.partName == part.name)
+        used.add(j)
+        ordered.append(staves[j])
+    for s in staves:
+        score.remove(s)
+    for s in ordered:
+        score.insert(0, s)
+    assert [s.partName for s in score.parts] == [p.name for p in parts]
+    return next((s for j, s in enumerate(staves) if j not in used and s.partName == "Bass"), None)
 
 
 @pytest.fixture(scope="module")
@@ -233,8 +257,7 @@ def built(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Built]:
         report = json.loads(report_path.read_text(encoding="utf-8"))
         score = converter.parse(str(o / f"{stem}.musicxml"))
         parts = _score_parts(report)
-        for extra in list(score.parts)[len(parts):]:     # the rhythm section's parts: not voiced here
-            score.remove(extra)
+        bass = _in_report_order(score, parts)
         sounding = score.toSoundingPitch(inPlace=False)
         # the symbols at concert pitch: over a transposed staff they are written for it
         # (a reader's toSoundingPitch gives the concert symbol back)
@@ -243,7 +266,7 @@ def built(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Built]:
         b = Built(name, o, "concert_score = true" in text, report,
                   (o / f"{stem}.report.md").read_text(encoding="utf-8"), score,
                   sounding, parts,
-                  sorted((o / f"{stem}-parts").glob("part*.musicxml"))[:len(parts)], keys, chords)
+                  sorted((o / f"{stem}-parts").glob("part*.musicxml"))[:len(parts)], keys, chords, bass=bass)
         for k, f in enumerate(b.part_files):
             w = converter.parse(str(f))
             b.files.append((f.name, k, w, w.toSoundingPitch(inPlace=False)))
@@ -465,6 +488,46 @@ def test_one_spelling_per_pitch_class_at_one_moment(built: dict[str, Built]) -> 
     assert not bad, f"{len(bad)} clashing spellings: " + "; ".join(bad[:12])
 
 
+def test_the_bass_reads_each_pitch_class_as_the_score_does(built: dict[str, Built]) -> None:
+    """The written bass line (an octave above sounding, read by music21) takes part in the
+    one-spelling rule: while a bass note sounds, every note of its pitch class in the parts
+    that read the same written key (a concert score: all; a transposed score: the parts in
+    C or octaves) is spelled as the bass spells it (common practice of engraving)."""
+    checked = 0
+    held = 0
+    bad = []
+    for b in built.values():
+        if b.bass is None:
+            continue
+        moments = _moments(b)
+        onsets = sorted(moments)
+        for n in _notes(b.bass.stripTies()):
+            t0, t1 = float(n.offset), float(n.offset + n.quarterLength)
+            others = {}
+            for t in onsets:
+                if t0 - 8 <= t < t1:
+                    for k, other in moments[t]:
+                        if b.group(k) == 0 and other.pitch.pitchClass == n.pitch.pitchClass and \
+                                float(other.offset) < t1 and t0 < float(other.offset + other.quarterLength):
+                            others[id(other)] = (k, other)
+            names = {o.pitch.name for _k, o in others.values()}
+            checked += len(others)
+            if len(names) > 1:
+                # the horns respell the pitch class while the bass holds one note (an
+                # approach chord's degree): a tie keeps its name, so the bass takes one of them
+                held += 1
+                if n.pitch.name not in names:
+                    bad.append(f"{b.name} bar {_bar_of(b, t0)}: bass {n.pitch.name} against {sorted(names)}")
+                continue
+            for k, other in others.values():
+                if other.pitch.name != n.pitch.name:
+                    bad.append(f"{b.name} bar {_bar_of(b, t0)}: bass {n.pitch.name} against "
+                               f"{other.pitch.name} in {b.parts[k].name}")
+    assert checked > 50, checked
+    assert held <= 3, held
+    assert not bad, f"{len(bad)} clashing spellings: " + "; ".join(sorted(set(bad))[:12])
+
+
 def test_chord_tones_are_spelled_by_degree_over_the_root(built: dict[str, Built]) -> None:
     """music21's ChordSymbol spells each printed chord's tones (root, 3rd, 5th, 7th and the
     tensions it names); a lead-section note on one of them takes that name."""
@@ -589,6 +652,45 @@ def test_the_report_spells_as_the_score_does(built: dict[str, Built]) -> None:
                     bad.append(f"{b.name} report.md layer {layer['index']} at {n['onset']}: no row {want}")
     assert compared > 200
     assert not bad, f"{len(bad)} report names off the score: " + "; ".join(bad[:12])
+
+
+_CLASH = re.compile(r"([A-G][#b]*) clashes with the lead's ([A-G][#b]*) \(([^)]+)\)")
+
+
+def test_layer_whys_name_tones_as_the_score_does(built: dict[str, Built]) -> None:
+    """A thinned pad chord's why ("X clashes with the lead's Y (part)") names the lead's
+    note as the score spells it there (music21 reads the part at concert pitch), and the
+    tone left out as music21's chord symbol printed over that moment spells it (the degree
+    over the root)."""
+    from music21 import pitch as m21pitch
+
+    checked = 0
+    bad = []
+    for b in built.values():
+        lead_names = [p["name"] for p in b.report["section"]["parts"]]
+        pickup = float(b.report.get("rhythm", {}).get("pickup", 0) or 0)
+        for layer in b.report.get("layers", []):
+            for n in layer["notes"]:
+                for left, lead_tone, part in _CLASH.findall(n["why"] or ""):
+                    k = lead_names.index(part)
+                    if b.group(k) != 0:
+                        continue
+                    t0 = float(n["onset"]) + pickup
+                    t1 = t0 + float(n["duration"])
+                    pc = m21pitch.Pitch(lead_tone.replace("b", "-") if len(lead_tone) > 1 else lead_tone).pitchClass
+                    sounding = {x.pitch.name.replace("-", "b") for x in _notes(b.sounding.parts[k])
+                                if x.pitch.pitchClass == pc and float(x.offset) < t1
+                                and t0 < float(x.offset + x.quarterLength)}
+                    checked += 1
+                    if sounding and lead_tone not in sounding:
+                        bad.append(f"{b.name} at {n['onset']}: why names the lead's {lead_tone}, score {sounding}")
+                    cs = _chord_at(b, t0)
+                    lpc = m21pitch.Pitch(left.replace("b", "-") if len(left) > 1 else left).pitchClass
+                    tones = {x.name.replace("-", "b") for x in cs.pitches if x.pitchClass == lpc} if cs else set()
+                    if tones and left not in tones:
+                        bad.append(f"{b.name} at {n['onset']}: why leaves out {left}, {cs.figure} spells {tones}")
+    assert checked > 10, checked
+    assert not bad, f"{len(bad)} whys off the score: " + "; ".join(bad[:12])
 
 
 # ---------------------------------------------------------------- the preview

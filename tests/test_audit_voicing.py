@@ -19,13 +19,14 @@ References, beside each check:
 """
 from __future__ import annotations
 
+import json
 import tomllib
 from dataclasses import dataclass
 from fractions import Fraction
 from pathlib import Path
 
 import pytest
-from conftest import DEMOS, ROOT, run_cli
+from conftest import DEMOS, ROOT, run_cli, to_report_order
 
 SECTIONS = tomllib.loads((ROOT / "voicing_rules" / "sections.toml").read_text(encoding="utf-8"))
 
@@ -144,11 +145,13 @@ def built(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Built]:
         jobs.append((name, path))
     for name, path in jobs:
         dest = folder / f"out-{name}"
-        res = run_cli("build", str(path), "-o", str(dest), "--formats", "musicxml")
+        res = run_cli("build", str(path), "-o", str(dest), "--formats", "musicxml,report")
         if res.exit_code != 0:        # an unbuildable project is a finding of its own test
             continue
         xml = next(dest.glob("*.musicxml"))
-        written = converter.parse(str(xml))
+        report = json.loads(next(dest.glob("*.report.json")).read_text(encoding="utf-8"))
+        # the lead section first, as the report lists it (the score stands in score order)
+        written = to_report_order(converter.parse(str(xml)), report)
         out[name] = Built(name, written.toSoundingPitch(), written,
                           _section_size(path.read_text(encoding="utf-8")))
     return out

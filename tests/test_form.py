@@ -471,3 +471,48 @@ def test_demo_chart_layout_read_by_music21(lantern: tuple[Path, dict]) -> None:
     # the report says which passage and phrase each note belongs to
     assert all(e["passage"] in range(1, 6) for e in events)
     assert all((e["phrase"] is None) == (e["passage"] == 4) for e in events)
+
+
+def test_report_says_what_each_rhythm_player_plays_per_passage(form_band: tuple[Path, dict]) -> None:
+    """The report's rhythm section, per passage and player, against music21's reading of
+    the written parts: the bass's note count (ties merged), lowest and highest note
+    (sounding), the comping's bars of accented rhythmic slashes, and the drum part's bars
+    marked "Fill"."""
+    from music21 import articulations, converter, expressions
+
+    out, report = form_band
+    rs = report["rhythm_section"]
+    assert [p["passage"] for p in rs["passages"]] == [1, 2, 3]
+    score = converter.parse(str(out / "three-passages.musicxml"))
+    parts = {p.partName: p for p in score.parts}
+    pickup = report["rhythm"]["pickup"]
+
+    def bar_of(offset: float) -> int:
+        return int((offset - pickup) // 4) + 1
+
+    bass = parts["Bass"].toSoundingPitch().flatten().stripTies()
+    bass_notes = [(bar_of(n.offset), n) for n in bass.notes if n.isNote]
+    piano = parts["Piano"].flatten()
+    hit_bars = {bar_of(n.offset) for n in piano.notes
+                if any(isinstance(a, articulations.Accent) for a in n.articulations)}
+    drums = parts["Drums"]
+    fill_bars = {m.number for m in drums.getElementsByClass("Measure")
+                 for t in m.recurse().getElementsByClass(expressions.TextExpression) if t.content == "Fill"}
+    md = (out / "three-passages.report.md").read_text()
+    assert "## Rhythm section" in md
+    for k, p in enumerate(rs["passages"]):
+        lo, hi = p["first_bar"], p["last_bar"]
+        rows = {r["role"]: r for r in p["parts"]}
+        assert set(rows) == {"piano", "guitar", "bass", "drums"}
+        mine = [n for b, n in bass_notes if lo <= b <= hi or (k == 0 and b < lo)]
+        assert rows["bass"]["notes"] == len(mine), (p, len(mine))
+        low = min(mine, key=lambda n: n.pitch.midi).pitch
+        high = max(mine, key=lambda n: n.pitch.midi).pitch
+        assert rows["bass"]["low"] == low.nameWithOctave.replace("-", "b")
+        assert rows["bass"]["high"] == high.nameWithOctave.replace("-", "b")
+        assert rows["piano"]["hit_bars"] == sorted(b for b in hit_bars if lo <= b <= hi)
+        assert rows["drums"]["fill_bars"] == sorted(b for b in fill_bars if lo <= b <= hi)
+        for row in p["parts"]:
+            assert f"| {p['passage']} ({p['name']}) | {lo}-{hi} | {row['name']} | {row['plays']} |" in md
+        # a straight groove: roots and fifths (README's bass styles)
+        assert rs["bass_style"] == "roots-fifths" and "roots and fifths" in rows["bass"]["plays"]

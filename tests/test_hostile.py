@@ -174,6 +174,14 @@ USAGE_ROWS: list[tuple[str, list[str], list[str]]] = [
     ("design-steps-huge", ["design", "-n", "4", "--steps", f"1,{HUGE}"], ["steps"]),
     ("design-steps-superscript", ["design", "-n", "4", "--steps", f"1,{SUP2}"], ["steps"]),
     ("design-length-huge", ["design", "-n", HUGE], ["length"]),
+    # digits of other scripts: Python's int() reads ARABIC-INDIC DIGIT THREE as 3 (Unicode
+    # category Nd), the README accepts ASCII digits only
+    ("chain-k-arabic-indic", ["chain", "C4 D4 E4", "-k", "\u0663"], ["statements", "ASCII"]),
+    ("chain-overlap-devanagari", ["chain", "C4 D4 E4 F4", "--overlap", "\u0967"], ["overlap", "ASCII"]),
+    ("design-length-arabic-indic", ["design", "-n", "\u0664"], ["length", "ASCII"]),
+    ("design-top-fullwidth", ["design", "-n", "4", "--top", "\uff13"], ["top", "ASCII"]),
+    ("design-transposition-signed-thai", ["design", "-n", "4", "--transposition", "-\u0e53"],
+     ["transposition", "ASCII"]),
     # 19^7 = 893,871,739 motifs passes the 10^9 space check but takes many minutes
     ("design-over-the-time-budget", ["design", "-n", "8", "--max-step", "9", "--statements", "64",
                                      "--aggregate"], ["--force"]),
@@ -476,3 +484,76 @@ def test_generated_projects(tmp_path: Path, case: tuple[str, bool]) -> None:
     else:
         assert len(child.error_lines()) == 1, child.err[-800:]
         assert tree(out) == before
+
+
+# ---------------------------------------------------------------- interrupted before writing
+
+def test_ctrl_c_before_the_write_phase_writes_nothing(tmp_path: Path) -> None:
+    """Ctrl-C (SIGINT, POSIX) while the stages still run: exit 130 (128 + 2, the shell's
+    convention) with one line, and the output folder exactly as it was: no new file, no
+    temporary file, the old files untouched."""
+    import signal
+    import time
+
+    from childrun import finish, start
+
+    text = _sub("statements = 4", "statements = 400", _sub('overlap = 2', 'overlap = 1'))
+    text = _sub('framework = "F6 | F6 | Gm7 C7 | F6"', 'framework = "F6 | F6 | Gm7 C7 | F6"\napproach = []', text)
+    text += '\n[[layers]]\nsection = "saxes-5"\nrole = "pad"\nrhythm = "4"\n'
+    proj = tmp_path / "p.toml"
+    proj.write_text(text, encoding="utf-8")
+    out, before = _seeded_out(tmp_path)
+    t0 = time.monotonic()
+    proc, rep = start(["build", str(proj), "-o", str(out)], tmp_path)
+    assert proc.stderr is not None
+    seen = ""
+    while "voicing ..." not in seen:                     # the stages have begun
+        line = proc.stderr.readline()
+        if not line:
+            break
+        seen += line
+    proc.send_signal(signal.SIGINT)
+    child = finish(proc, rep, t0, timeout=120)
+    err = seen + child.err
+    assert child.code == 130, (child.code, err[-600:])
+    assert "writing ..." not in err, "the build reached its write phase before the signal"
+    lines = [ln for ln in err.splitlines() if ln.startswith("arrange:")]
+    assert len(lines) == 1 and "interrupted by Ctrl-C" in lines[0], err
+    assert "Traceback" not in err and "Aborted" not in err
+    assert tree(out) == before
+
+
+# ---------------------------------------------------------------- the preview's page limit
+
+def test_a_long_preview_draws_its_first_pages_and_says_so(tmp_path: Path) -> None:
+    """A score longer than the preview's page limit builds (exit 0): the picture holds the
+    first pages only, a one-line notice on stderr says how many the score has, and the
+    MusicXML holds every bar (music21 counts the measures).  The stacked SVG is read with
+    ElementTree: one nested <svg> per page drawn."""
+    import xml.etree.ElementTree as ET
+
+    from music21 import converter, stream
+
+    from arrange.writers.preview import MAX_PAGES
+
+    text = _sub("statements = 4", "statements = 90", _sub('overlap = 2', 'overlap = 1'))
+    text = _sub('name = "trombones-4"', 'name = "big-band"', text)
+    text = _sub('formats = ["musicxml", "midi", "report"]', 'formats = ["musicxml", "report", "preview"]', text)
+    text = _sub('key = "F major"', 'key = "F major"', text).replace('motif = "A3 G3 C4 Bb3"', 'motif = "A4 G4 C5 Bb4"')
+    proj = tmp_path / "p.toml"
+    proj.write_text(text, encoding="utf-8")
+    child = run(["build", str(proj), "-o", str(tmp_path / "out")], tmp_path, timeout=300)
+    assert child.code == 0, child.err[-800:]
+    notes = [ln for ln in child.err.splitlines() if "preview:" in ln]
+    assert len(notes) == 1, child.err
+    m = re.search(r"the first (\d+) of (\d+) pages are drawn", notes[0])
+    assert m and int(m.group(1)) == MAX_PAGES < int(m.group(2)), notes
+    svg = ET.parse(tmp_path / "out" / "hostile-cue.svg").getroot()
+    pages = [el for el in svg if el.tag.endswith("svg")]
+    assert len(pages) == MAX_PAGES
+    import json
+
+    report = json.loads((tmp_path / "out" / "hostile-cue.report.json").read_text())
+    score = converter.parse(str(tmp_path / "out" / "hostile-cue.musicxml"))
+    measures = score.parts[0].getElementsByClass(stream.Measure)
+    assert len(measures) == report["bars"] + (1 if report["rhythm"]["pickup"] else 0)

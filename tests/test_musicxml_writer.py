@@ -27,7 +27,7 @@ from fractions import Fraction
 from pathlib import Path
 
 import pytest
-from conftest import BASIC, DEMOS, ROOT, part_notes, run_cli, sounding_events, write_project
+from conftest import BASIC, DEMOS, ROOT, in_report_order, part_notes, run_cli, sounding_events, write_project
 
 from arrange.writers.symbols import m21_figure
 
@@ -188,7 +188,7 @@ def test_music21_reads_the_sounding_notes_ties_and_transpositions(built) -> None
         score = _m21(path)
         info = _parts_info(report)
         assert len(score.parts) == len(ks) + _rhythm_parts(report, ks), path.name
-        for part, k in zip(score.parts[:len(ks)], ks, strict=True):
+        for part, k in zip(in_report_order(score, report)[:len(ks)], ks, strict=True):
             inst = part.getInstrument(returnDefault=False)
             shift = inst.transposition.semitones if inst is not None and inst.transposition else 0
             # written minus sounding is the instrument's transposition (music21's interval
@@ -208,7 +208,7 @@ def test_music21_reads_the_key_and_time_signatures(built) -> None:
         score = _m21(path)
         changes = {1: report["key"]} | {c["bar"]: c["key"] for c in report.get("keys", [])}
         pickup = 1 if report["rhythm"]["pickup"] else 0
-        for part, k in zip(score.parts[:len(ks)], ks, strict=True):
+        for part, k in zip(in_report_order(score, report)[:len(ks)], ks, strict=True):
             measures = list(part.getElementsByClass(stream.Measure))
             ts = measures[0].getElementsByClass(meter.TimeSignature)[0]
             assert ts.ratioString == report["rhythm"]["written_meter"], path.name
@@ -237,12 +237,13 @@ def _symbol(cs) -> str:  # noqa: ANN001
 
 
 def _lead_symbols(path: Path, report: dict) -> list[tuple[Fraction, str]]:
-    """(offset in the part, symbol) of the chord symbols over the file's first staff, read
-    by music21 at sounding pitch: ``toSoundingPitch`` of a transposed staff (a reader takes
-    a part's ``<harmony>`` as written pitch, MusicXML 4.0)."""
+    """(offset in the part, symbol) of the chord symbols over the file's lead staff (the
+    score stands in score order: the lead found by name), read by music21 at sounding pitch:
+    ``toSoundingPitch`` of a transposed staff (a reader takes a part's ``<harmony>`` as
+    written pitch, MusicXML 4.0)."""
     from music21 import harmony
 
-    part = _m21(path).parts[0]
+    part = in_report_order(_m21(path), report)[0]
     if report["section"]["parts"][0]["transposition"] and "Concert score" not in path.read_text():
         part = part.toSoundingPitch()
     return sorted((Q(cs.getOffsetInHierarchy(part)).limit_denominator(96), _symbol(cs))
@@ -396,7 +397,7 @@ def test_partitura_reads_the_same_written_notes(built) -> None:
         ps = partitura.load_musicxml(str(path))         # partitura as the reader (ties merged)
         info = _parts_info(report)
         assert len(ps.parts) == len(ks) + _rhythm_parts(report, ks)
-        for part, k in zip(ps.parts[:len(ks)], ks, strict=True):
+        for part, k in zip(ps.parts[:len(ks)], _score_order(path, ks), strict=True):
             na = part.note_array()
             got = sorted((Q(float(o)).limit_denominator(96), Q(float(d)).limit_denominator(96), int(p))
                          for o, d, p in zip(na["onset_quarter"], na["duration_quarter"], na["pitch"], strict=True))
@@ -406,6 +407,18 @@ def test_partitura_reads_the_same_written_notes(built) -> None:
             pickup = Q(report["rhythm"]["pickup"]).limit_denominator(96)
             want = [(o - pickup, d, p + semis) for o, d, p in _sounding_notes(report, k)]
             assert got == want, (path.name, k)
+
+
+def _score_order(path: Path, ks: list[int]) -> list[int]:
+    """The report indices of our parts in the order the file lists them: each ``<score-part
+    id="P{k+1}">`` is report part ``k`` (the score stands in score order, saxophones above
+    brass, which need not be the report's order)."""
+    import re
+    import xml.etree.ElementTree as ET
+
+    ids = [sp.get("id", "") for sp in ET.parse(path).getroot().iter("score-part")]
+    order = [int(m.group(1)) - 1 for i in ids if (m := re.fullmatch(r"P(\d+)", i))]
+    return order if len(ks) > 1 else ks
 
 
 def _transposed(path: Path) -> bool:
@@ -423,7 +436,7 @@ def test_verovio_plays_the_same_sounding_notes(built) -> None:
         tracks = [t for t in midi.tracks if any(m.type == "note_on" for m in t)][:len(ks)]
         assert len(tracks) == len(ks), path.name
         tpq = midi.ticks_per_beat
-        for track, k in zip(tracks, ks, strict=True):
+        for track, k in zip(tracks, _score_order(path, ks), strict=True):
             t, got = 0, []
             for msg in track:
                 t += msg.time

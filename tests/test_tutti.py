@@ -60,12 +60,14 @@ def _chords_and_columns(out: Path):  # noqa: ANN202
     from music21 import converter, harmony
 
     written = converter.parse(str(out / "tutti-check.musicxml"))
+    # the lead trumpet (the score puts the saxophones above it: score order)
+    k = [p.partName for p in written.parts].index("Trumpet 1")
     score = written.toSoundingPitch()
     # the score's chord symbols are written for the staff they stand over: read at sounding pitch
     symbols = [(Fraction(cs.offset), cs)
-               for cs in score.parts[0].flatten().getElementsByClass(harmony.ChordSymbol)]
+               for cs in score.parts[k].flatten().getElementsByClass(harmony.ChordSymbol)]
     parts = [(p.partName, p.flatten()) for p in score.parts]
-    lead = parts[0][1]
+    lead = parts[k][1]
     columns = []
     for n in lead.notes:
         if not n.isNote or (n.tie is not None and n.tie.type in ("stop", "continue")):
@@ -165,3 +167,44 @@ def test_the_big_band_demo_has_saxes_brass_and_a_written_rhythm_section(tmp_path
     assert isinstance(drums.getElementsByClass(clef.Clef)[0], clef.PercussionClef)
     for part in score.parts[-4:-1]:
         assert part.flatten().notes, part.partName      # every rhythm player has a part to play
+
+
+BIG_BAND_ORDER = (["Alto Sax 1", "Alto Sax 2", "Tenor Sax 1", "Tenor Sax 2", "Baritone Sax"]
+                  + [f"Trumpet {i}" for i in range(1, 5)]
+                  + ["Trombone 1", "Trombone 2", "Trombone 3", "Bass Trombone"]
+                  + ["Guitar", "Piano", "Bass", "Drums"])
+
+
+def test_big_band_score_in_score_order(tmp_path: Path) -> None:
+    """Common practice of big-band score layout, top to bottom: saxophones, trumpets,
+    trombones, rhythm section, each family in its own bracket, whatever section carries the
+    lead.  music21 reads the part order and the brackets (StaffGroup); the tempo mark and
+    the rehearsal letters stand over the top staff, the chord symbols over the lead trumpet."""
+    from music21 import converter, expressions, harmony, layout, tempo
+
+    text = BIG_BAND.format(voicing="close").replace("statements = 6", "statements = 16") + \
+        '\n[rhythm_section]\nparts = ["guitar", "piano", "bass", "drums"]\n'
+    res = run_cli("build", str(write_project(tmp_path, text)), "-o", str(tmp_path / "out"))
+    assert res.exit_code == 0, res.output
+    score = converter.parse(str(tmp_path / "out" / "tutti-check.musicxml"))
+    names = [p.partName for p in score.parts]
+    assert names == BIG_BAND_ORDER
+    groups = [[p.partName for p in g.getSpannedElements()] for g in score.getElementsByClass(layout.StaffGroup)]
+    for family in (BIG_BAND_ORDER[:5], BIG_BAND_ORDER[5:9], BIG_BAND_ORDER[9:13], BIG_BAND_ORDER[13:]):
+        assert family in groups, (family, groups)
+    top = score.parts[0].flatten()
+    assert top.getElementsByClass(tempo.MetronomeMark)
+    assert top.getElementsByClass(expressions.RehearsalMark)
+    assert not score.parts[names.index("Trumpet 1")].flatten().getElementsByClass(expressions.RehearsalMark)
+    lead = score.parts[names.index("Trumpet 1")].flatten()
+    assert lead.getElementsByClass(harmony.ChordSymbol)
+
+
+def test_big_band_demo_in_score_order(tmp_path: Path) -> None:
+    from conftest import DEMOS
+    from music21 import converter
+
+    res = run_cli("build", str(DEMOS / "foundry-shift-shout.toml"), "-o", str(tmp_path), "--formats", "musicxml")
+    assert res.exit_code == 0, res.output
+    names = [p.partName for p in converter.parse(str(tmp_path / "foundry-shift-shout.musicxml")).parts]
+    assert names[:13] == BIG_BAND_ORDER[:13] and set(names[13:]) == set(BIG_BAND_ORDER[13:])

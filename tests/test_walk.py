@@ -13,7 +13,7 @@ from fractions import Fraction
 from pathlib import Path
 
 import pytest
-from conftest import run_cli, write_project
+from conftest import in_report_order, run_cli, write_project
 from test_harmony import make_line, opts
 
 from arrange.harmony.approach import TECHNIQUES
@@ -144,7 +144,7 @@ def test_demo_spelling_agrees_in_report_why_and_score(tmp_path: Path, demo: Path
     slug = next((tmp_path / "out").glob("*.report.json")).name[:-len(".report.json")]
     data = json.loads((tmp_path / "out" / f"{slug}.report.json").read_text())
     score = converter.parse(str(tmp_path / "out" / f"{slug}.musicxml"))     # music21 as the reader
-    lead = [n for n in score.parts[0].recurse().getElementsByClass(note.Note)
+    lead = [n for n in in_report_order(score, data)[0].recurse().getElementsByClass(note.Note)
             if n.tie is None or n.tie.type == "start"]
     assert len(lead) == len(data["events"])
     for e, n in zip(data["events"], lead, strict=True):

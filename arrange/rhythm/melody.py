@@ -104,7 +104,7 @@ def lay_melody(melody: Melody, meter: Meter, options: RhythmOptions, *, where: s
     end = max(n[1] + n[2] for n in notes)                    # type: ignore[operator]
     total = max(meter.bar, melody.total, -((-end) // meter.bar) * meter.bar)   # type: ignore[operator]
     anticipated = _anticipate(notes, meter.bar, first) if options.anticipate else set()
-    onsets = [notes[k][1] for k in starts]
+    onsets: list[Fraction] = [notes[k][1] for k in starts]          # type: ignore[misc]
     onsets[0] = first
     ends = onsets[1:] + [total]
     spans = [(j, on, end - on, Fraction(1)) for j, (on, end) in enumerate(zip(onsets, ends, strict=True), start=1)]

@@ -4,7 +4,7 @@ from __future__ import annotations
 from fractions import Fraction
 from typing import Any
 
-__all__ = ["json_number", "bar_of_event", "channel_for", "spelled_parts", "written_parts", "tied_on"]
+__all__ = ["json_number", "bar_of_event", "channel_for", "spelled_parts", "written_parts", "tied_on", "bass_names"]
 
 
 def json_number(q: Fraction) -> float | int:
@@ -93,6 +93,58 @@ def spelled_parts(voiced: Any, layers: tuple[Any, ...] = ()) -> tuple[tuple[tupl
         _SPELLED.clear()
     _SPELLED[(id(voiced), id(layers))] = (voiced, layers, out)
     return out
+
+
+def bass_names(voiced: Any, layers: tuple[Any, ...], bass: Any) -> tuple[str, ...]:
+    """Concert names of the written bass line (``RhythmSection.bass``) by the one rule:
+    each note spelled by key, chord and direction (``spell_pitch``), then made to agree
+    with every note the score already spells (``spelled_parts``: lead section and layers,
+    which keep their names), so one pitch class reads one way at one moment."""
+    from arrange.theory.spelling import direction_of, spell_pitch, with_octave
+    from arrange.theory.written import split_name
+
+    if not bass:
+        return ()
+    h = voiced.harmonized
+    bar_len = h.line.meter.bar
+    lead, lay = spelled_parts(voiced, layers)
+    notes: list[tuple[Fraction, Fraction, int, str]] = []
+    for k, names in enumerate(lead):
+        for i, ve in enumerate(voiced.events):
+            n = ve.event.note
+            notes.append((n.onset, n.onset + n.duration, ve.pitches[k], names[i]))
+    for vl, grid in zip(layers, lay, strict=True):
+        for k, layer_names in enumerate(grid):
+            for i, ln in enumerate(vl.notes):
+                nm, p = layer_names[i], ln.pitches[k]
+                if nm is not None and p is not None:
+                    notes.append((ln.onset, ln.onset + ln.duration, p, nm))
+    by_pc: dict[int, list[tuple[Fraction, Fraction, str]]] = {}
+    for on, end, midi, name in notes:
+        by_pc.setdefault(midi % 12, []).append((on, end, name))
+    for v in by_pc.values():
+        v.sort()
+    pitches = [bn.pitch for bn in bass]
+    out = []
+    for i, bn in enumerate(bass):
+        way = direction_of(pitches[i - 1] if i else None, pitches[i], pitches[i + 1] if i + 1 < len(pitches) else None)
+        own = spell_pitch(bn.pitch, h.key_at(max(1, int(bn.onset // bar_len) + 1)), bn.chord, way)
+        t0, t1 = bn.onset, bn.onset + bn.duration
+        here = [(on, split_name(name)[0]) for on, end, name in by_pc.get(bn.pitch % 12, ()) if on < t1 and t0 < end]
+        # one name while it sounds: the score's, where the score has one; where the horns
+        # spell the pitch class two ways while the bass holds (a tie keeps one name), the
+        # bass's own by its chord if the horns use it (an anticipated root keeps the name of
+        # the chord it anticipates), else the name sounding at its attack
+        spelled = {name for _on, name in here}
+        own_pc = split_name(own)[0]
+        if not spelled or own_pc in spelled:
+            out.append(own)
+            continue
+        at_attack = [name for on, name in here if on <= t0]
+        pick = at_attack[-1] if len(spelled) > 1 and at_attack else next(iter(spelled)) if len(spelled) == 1 \
+            else here[0][1]
+        out.append(with_octave(pick, bn.pitch))
+    return tuple(out)
 
 
 _WRITTEN: dict[tuple[int, int, bool], tuple[Any, Any, Any]] = {}

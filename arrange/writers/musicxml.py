@@ -36,11 +36,13 @@ def at_time(line, t: Fraction) -> tuple[int, Fraction]:  # noqa: ANN001
     return m + shift, t - m * bar
 
 
-def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool) -> Staff:
-    """Part ``k`` of the lead section; ``lead``: this staff carries tempo, letters and
-    chord symbols.  Symbols stand at the beat each chord starts (``symbols.chord_changes``)
-    and over a transposed staff are written for it (the transposed score as its parts:
-    one convention for every page a player or a reader takes the symbols from)."""
+def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, top: bool | None = None) -> Staff:
+    """Part ``k`` of the lead section; ``lead``: this staff carries the chord symbols;
+    ``top`` (default ``lead``): it also carries tempo, style and letters (:func:`top_marks`;
+    in the full score they go over the top staff, score order).  Symbols stand at the beat
+    each chord starts (``symbols.chord_changes``) and over a transposed staff are written
+    for it (the transposed score as its parts: one convention for every page a player or a
+    reader takes the symbols from)."""
     h = voiced.harmonized
     line = h.line
     part = voiced.section.parts[k]
@@ -72,14 +74,48 @@ def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool) -> Staff:
             m -= 1
             off = line.pickup if (m == 0 and line.pickup) else line.meter.bar
         staff.add_mark(m, off, 3, marks.wedge("stop"))
-    if lead:
-        heading(staff, info, line)
-        shift = 1 if line.pickup else 0
-        for bar, letter in marks.rehearsal_plan(voiced).items():
-            staff.add_mark(bar - 1 + shift, Fraction(0), 0, marks.rehearsal(letter))
+    if lead if top is None else top:
+        top_marks(staff, voiced, info)
     if lead and info.analysis and info.only_part is None:     # analysis: the score only, never a part
         _analysis(staff, voiced, firsts)
     return staff
+
+
+def top_marks(staff: Staff, voiced: Voiced, info: ScoreInfo) -> None:
+    """Style word, metronome mark and rehearsal letters: over the score's top staff."""
+    line = voiced.harmonized.line
+    heading(staff, info, line)
+    shift = 1 if line.pickup else 0
+    for bar, letter in marks.rehearsal_plan(voiced).items():
+        staff.add_mark(bar - 1 + shift, Fraction(0), 0, marks.rehearsal(letter))
+
+
+# score order, top to bottom, by the family of a part's MusicXML sound id (common practice of
+# score layout; in a big band: saxophones, trumpets, trombones, then the rhythm section, which
+# the rhythm writer appends below everything)
+_SCORE_ORDER = (("wind.", 0), ("brass.french-horn", 1), ("brass.trumpet", 2), ("brass.flugelhorn", 2),
+                ("brass.cornet", 2), ("brass.trombone", 3), ("brass.tuba", 4), ("brass.", 4))
+
+
+def score_rank(sound: str) -> int:
+    return next((r for prefix, r in _SCORE_ORDER if sound.startswith(prefix)), 5)
+
+
+def score_order(staves: list[StaffPart], groups: list[tuple[int, int]]
+                ) -> tuple[list[StaffPart], list[tuple[int, int]]]:
+    """The staves in score order: each bracket (or lone staff) moves whole, by the family of
+    its first part; a stable sort, so like families keep the order they were given."""
+    firsts = {a: b for a, b in groups}
+    blocks: list[list[int]] = []
+    j = 0
+    while j < len(staves):
+        end = firsts.get(j, j)
+        blocks.append(list(range(j, end + 1)))
+        j = end + 1
+    blocks.sort(key=lambda b: score_rank(staves[b[0]].part.instrument.sound))   # type: ignore[attr-defined]
+    order = [j for b in blocks for j in b]
+    where = {old: new for new, old in enumerate(order)}
+    return [staves[j] for j in order], [(where[a], where[b]) for a, b in groups]
 
 
 def _analysis(staff: Staff, voiced: Voiced, firsts: list) -> None:
@@ -106,7 +142,7 @@ def musicxml_bytes(voiced: Voiced, info: ScoreInfo, layers: tuple = ()) -> bytes
         staff = lead_staff(voiced, k, info, lead=True)
         return document(info.title, info.version, parts[k].name,
                         [StaffPart(staff, parts[k], part_abbreviation(parts[k]), k)], [])
-    staves = [StaffPart(lead_staff(voiced, k, info, lead=k == 0), p, part_abbreviation(p), k)
+    staves = [StaffPart(lead_staff(voiced, k, info, lead=k == 0, top=False), p, part_abbreviation(p), k)
               for k, p in enumerate(parts)]
     groups = marks.part_groups([(voiced.section, 0)], bracket_all=False)
     if layers:
@@ -115,6 +151,8 @@ def musicxml_bytes(voiced: Voiced, info: ScoreInfo, layers: tuple = ()) -> bytes
         more, layer_groups = layer_staves(voiced, layers, info, len(parts))
         staves += more
         groups += layer_groups
+    staves, groups = score_order(staves, groups)
+    top_marks(staves[0].staff, voiced, info)
     return document(info.title, info.version, "Concert score" if info.concert else "Transposed score",
                     staves, groups)
 

@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import json
+import re
 from fractions import Fraction
 from typing import Any
 
@@ -10,6 +11,7 @@ from arrange.voicing.layers import VoicedLayer
 from arrange.voicing.shapes import doublings
 from arrange.voicing.voicer import Voiced
 from arrange.writers.common import bar_of_event, json_number, spelled_parts
+from arrange.writers.report_rhythm import rhythm_section_markdown
 
 __all__ = ["json_number", "bar_of_event", "fold_index", "report_data", "report_json", "report_markdown", "md_text"]
 
@@ -255,6 +257,7 @@ def report_markdown(data: dict[str, Any]) -> bytes:
         out.append(f"| {st['statement']} | {st['bar'] or ''} | {', '.join(st['voicings']) or '-'} | "
                    f"{span} | {' '.join(first)} | {doubled or '-'} |")
     out += layers_markdown(data)
+    out += rhythm_section_markdown(data, _cell)
     out += ["", "## Warnings", ""]
     if not data["warnings"]:
         out.append("None.")
@@ -298,6 +301,7 @@ def layers_data(layers: tuple[VoicedLayer, ...], voiced: Voiced | None = None) -
     spelled = spelled_parts(voiced, layers)[1] if voiced is not None else None
     for li, vl in enumerate(layers):
         la = vl.layer
+        whys = [_why_names(n, voiced) if voiced is not None else n.why for n in vl.notes]
         out.append({
             "index": la.index, "section": la.section.name, "role": la.role,
             "rhythm": la.rhythm_text, "dynamics": la.dynamics, "velocity": la.velocity,
@@ -306,11 +310,52 @@ def layers_data(layers: tuple[VoicedLayer, ...], voiced: Voiced | None = None) -
                        "range": list(p.instrument.practical),
                        "extreme": list(p.instrument.extreme)} for p in la.section.parts],
             "notes": [{"onset": json_number(n.onset), "duration": json_number(n.duration), "chord": n.chord.symbol,
-                       "pitches": list(n.pitches), "why": n.why,
+                       "pitches": list(n.pitches), "why": whys[i],
                        **({"names": [spelled[li][k][i] for k in range(len(n.pitches))]} if spelled else {})}
                       for i, n in enumerate(vl.notes)],
         })
     return out
+
+
+_CLASH = re.compile(r"\b([A-G][#b]*) clashes with the lead's ([A-G][#b]*) \(([^)]+)\)")
+_PC = {"C": 0, "D": 2, "E": 4, "F": 5, "G": 7, "A": 9, "B": 11}
+
+
+def _pc(name: str) -> int:
+    return (_PC[name[0]] + name.count("#") - name.count("b")) % 12
+
+
+def _why_names(note: Any, voiced: Voiced) -> str:
+    """A thinned chord's why with the score's names: the tone left out spelled by its degree
+    over the chord (``spell_pc``), the lead's note as the score spells it then
+    (``spelled_parts``)."""
+    from arrange.theory.spelling import spell_pc
+    from arrange.theory.written import split_name
+
+    if not note.why or "clashes" not in note.why:
+        return str(note.why)
+    h = voiced.harmonized
+    key = h.key_at(max(1, int(note.onset // h.line.meter.bar) + 1))
+    lead = spelled_parts(voiced)[0]
+    names = [p.name for p in voiced.section.parts]
+    t0, t1 = note.onset, note.onset + note.duration
+
+    def lead_name(pc: int, part: str, fallback: str) -> str:
+        if part not in names:
+            return fallback
+        k = names.index(part)
+        for i, ve in enumerate(voiced.events):
+            n = ve.event.note
+            if n.onset < t1 and t0 < n.onset + n.duration and ve.pitches[k] % 12 == pc:
+                return split_name(lead[k][i])[0]
+        return fallback
+
+    def fix(m: re.Match[str]) -> str:
+        left, tone, part = m.group(1), m.group(2), m.group(3)
+        return (f"{spell_pc(_pc(left), key, note.chord)} clashes with the lead's "
+                f"{lead_name(_pc(tone), part, tone)} ({part})")
+
+    return _CLASH.sub(fix, note.why)
 
 
 def layer_warnings(layers: tuple[VoicedLayer, ...], events: list[dict[str, Any]],

@@ -267,9 +267,11 @@ def _comp_part(ms: _Measures, rs: RhythmSection, meter, rs_part: str) -> None:  
                 _slash_note(m, pc, stem="up", accent=j == 0, display=at, alter=alter)
 
 
-def _bass_part(ms: _Measures, rs: RhythmSection, meter) -> None:  # noqa: ANN001
-    from arrange.theory.spelling import direction_of, spell_pitch
-
+def _bass_part(ms: _Measures, rs: RhythmSection, meter, names: tuple[str, ...]) -> None:  # noqa: ANN001
+    """The written bass line; ``names`` are its concert names by the one spelling rule
+    (``writers.common.bass_names``: key, chord and direction, agreeing with the score)."""
+    if len(names) != len(rs.bass):
+        raise ValueError("the bass part needs one concert name per bass note")
     changes: list[tuple[Fraction, Chord]] = []
     for bn in rs.bass:
         if not changes or changes[-1][1] != bn.chord:
@@ -281,9 +283,7 @@ def _bass_part(ms: _Measures, rs: RhythmSection, meter) -> None:  # noqa: ANN001
     for i, bn in enumerate(notes):
         _rests(ms, t_end, bn.onset, meter)
         key = ms.harmonized.key_at(int(bn.onset // rs.bar) + 1)
-        way = direction_of(notes[i - 1].pitch if i else None, bn.pitch,
-                           notes[i + 1].pitch if i + 1 < len(notes) else None)
-        name = spell_pitch(bn.pitch, key, bn.chord, way)
+        name = names[i]
         step, rest = name[0], name[1:]
         alter = rest.count("#") - rest.count("b")
         octave = int(rest.lstrip("#b")) + 1             # written an octave above sounding
@@ -355,7 +355,8 @@ def _names(rs: RhythmSection, part: str) -> tuple[str, str, str, int, int | None
 
 
 def rhythm_part_elements(rs: RhythmSection, harmonized: Harmonized,
-                         first_channel: int = 0) -> list[tuple[ET.Element, ET.Element]]:
+                         first_channel: int = 0, bass_names: tuple[str, ...] = ()
+                         ) -> list[tuple[ET.Element, ET.Element]]:
     """``(<score-part>, <part>)`` per asked rhythm part, score order."""
     line = harmonized.line
     meter = line.meter
@@ -394,7 +395,7 @@ def rhythm_part_elements(rs: RhythmSection, harmonized: Harmonized,
         if part in ("piano", "guitar"):
             _comp_part(ms, rs, meter, part)
         elif part == "bass":
-            _bass_part(ms, rs, meter)
+            _bass_part(ms, rs, meter, bass_names)
         else:
             _drum_part(ms, rs, meter)
         ms.finish(sections)
@@ -415,7 +416,7 @@ def _split(data: bytes) -> tuple[bytes, ET.Element]:
 
 
 def add_rhythm_parts(data: bytes, rs: RhythmSection | None, harmonized: Harmonized,
-                     first_channel: int) -> bytes:
+                     first_channel: int, *, bass_names: tuple[str, ...] = ()) -> bytes:
     """The score's bytes with the rhythm parts appended (bracketed, below the others)."""
     if rs is None or not rs.parts:
         return data
@@ -428,7 +429,7 @@ def add_rhythm_parts(data: bytes, rs: RhythmSection | None, harmonized: Harmoniz
     start = _sub(part_list, "part-group", type="start", number=number)
     _sub(start, "group-symbol", "bracket")
     _sub(start, "group-barline", "yes")
-    for sp, part in rhythm_part_elements(rs, harmonized, first_channel):
+    for sp, part in rhythm_part_elements(rs, harmonized, first_channel, bass_names):
         part_list.append(sp)
         root.append(part)
     _sub(part_list, "part-group", type="stop", number=number)
@@ -442,12 +443,12 @@ _HEAD = (b'<?xml version="1.0" encoding="UTF-8"?>\n'
 
 
 def rhythm_part_files(rs: RhythmSection | None, harmonized: Harmonized, title: str, tempo: float,
-                      style: str, version: str = "") -> list[tuple[str, bytes]]:
+                      style: str, version: str = "", *, bass_names: tuple[str, ...] = ()) -> list[tuple[str, bytes]]:
     """One printable MusicXML file per rhythm part: ``(part name, bytes)``."""
     if rs is None:
         return []
     out = []
-    for sp, part in rhythm_part_elements(rs, harmonized):
+    for sp, part in rhythm_part_elements(rs, harmonized, bass_names=bass_names):
         root = ET.Element("score-partwise", version="4.0")
         work = _sub(root, "work")
         _sub(work, "work-title", title)
