@@ -21,7 +21,7 @@ from arrange.voicing.voicer import Voiced, VoicingOptions, voice
 
 __all__ = ["check_size", "written_notes", "MAX_SCORE_NOTES", "run_pipeline", "run_layers",
            "run_rhythm_section", "render_outputs", "render_project", "write_outputs", "BuildResult",
-           "refuse_errors", "default_lead_range"]
+           "refuse_errors", "default_lead_range", "signature_plan"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -251,14 +251,15 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
         from arrange.writers.musicxml import ScoreInfo, musicxml_bytes
 
         info = ScoreInfo(project.title, project.tempo, _style(project), dynamics=out.dynamics,
-                         analysis=out.analysis, concert=out.concert_score, version=__version__)
+                         analysis=out.analysis, concert=out.concert_score, version=__version__,
+                         signatures=signature_plan(project, voiced.harmonized))
     if info is not None and ("musicxml" in formats or "preview" in formats or pdf):
         xml = musicxml_bytes(voiced, info, layers)   # the full score only when it is written or drawn
         if rhythm is not None:
             from arrange.writers.xml_rhythm import add_rhythm_parts
 
-            xml = add_rhythm_parts(xml, rhythm, voiced.harmonized, len(voiced.section.parts),
-                                   bass_names=_bass_names(voiced, layers, rhythm))
+            xml = add_rhythm_parts(xml, rhythm, _signed(voiced.harmonized, info.signatures),
+                                   len(voiced.section.parts), bass_names=_bass_names(voiced, layers, rhythm))
         if "musicxml" in formats:
             files[f"{slug}.musicxml"] = xml
         if "preview" in formats:
@@ -289,8 +290,9 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
         if rhythm is not None:
             from arrange.writers.xml_rhythm import rhythm_part_files
 
-            named += rhythm_part_files(rhythm, voiced.harmonized, project.title, project.tempo, _style(project),
-                                       __version__, bass_names=_bass_names(voiced, layers, rhythm))
+            named += rhythm_part_files(rhythm, _signed(voiced.harmonized, info.signatures), project.title,
+                                       project.tempo, _style(project), __version__,
+                                       bass_names=_bass_names(voiced, layers, rhythm))
         for k, (name, part_xml) in enumerate(named, start=1):
             stem = f"{parts_dir}/part{k:02d}-{slugify(name)}"
             if out.parts:
@@ -331,9 +333,35 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
 
             data["rhythm_section"] = rhythm_section_data(rhythm, voiced.harmonized.line,
                                                          _bass_names(voiced, layers, rhythm))
+        plan = signature_plan(project, voiced.harmonized)     # the key changes the score signs
+        data["signatures"] = [{"bar": b, "key": str(k)}
+                              for b, k in (voiced.harmonized.keys if plan is None else plan)]
         files[f"{slug}.report.json"] = report_json(data)
         files[f"{slug}.report.md"] = report_markdown(data)
     return files
+
+
+def _signed(harmonized: Harmonized, signatures: tuple | None) -> Harmonized:
+    """The harmony as the rhythm section's writer reads its key signatures."""
+    from dataclasses import replace
+
+    return harmonized if signatures is None else replace(harmonized, keys=signatures)
+
+
+def signature_plan(project: Project, harmonized: Harmonized) -> tuple | None:
+    """The key changes the score writes as key signatures, or None for every key change.
+
+    A chain modulating statement by statement (``modulate = "by-statement"``) is a
+    transition: its signature stays until the key it arrives in (the last change), where
+    the new signature stands after a double bar, and the keys passed through on the way
+    read with accidentals (common practice of charts: a signature every phrase is harder
+    to read than a few accidentals).  ``[output] signatures = "each-statement"`` writes
+    a signature at every statement's key instead.  Keys a project names (``keys``) and a
+    form's passages keep their signatures."""
+    if (project.output.signatures == "arrival" and not project.passages
+            and project.harmony.modulate == "by-statement" and len(harmonized.keys) > 1):
+        return (harmonized.keys[-1],)
+    return None
 
 
 def _bass_names(voiced: Voiced, layers: tuple[VoicedLayer, ...], rhythm: RhythmSection) -> tuple[str, ...]:

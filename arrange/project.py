@@ -26,11 +26,12 @@ from arrange.voicing.layers import Layer, read_layers
 from arrange.voicing.sections import Section, section_from_table
 
 __all__ = ["Project", "ChainSpec", "OutputSpec", "load_project", "project_from_data", "slugify",
-           "FORMATS", "DEFAULT_FORMATS", "PAPERS"]
+           "FORMATS", "DEFAULT_FORMATS", "PAPERS", "SIGNATURES"]
 
 DEFAULT_FORMATS = ("musicxml", "midi", "report", "preview")
 FORMATS = (*DEFAULT_FORMATS, "pdf")          # pdf: print-ready score and parts, asked for
 PAPERS = ("a4", "letter")
+SIGNATURES = ("arrival", "each-statement")  # a modulating chain's signatures: at the key it arrives in, or per statement
 MAX_FILE_BYTES = 1_000_000
 MAX_TITLE = 120
 
@@ -55,6 +56,7 @@ class OutputSpec:
     seed: int = 1
     audio: bool = False                   # a WAV through fluidsynth when installed
     paper: str = "a4"                     # the PDF's paper: a4 or letter
+    signatures: str = "arrival"           # modulate = "by-statement": one signature until the arrival key
 
 
 @dataclass(frozen=True, slots=True)
@@ -155,7 +157,8 @@ def _output(t: Table) -> OutputSpec:
         rhythm_section=t.boolean("rhythm_section", False),
         humanize=t.number("humanize", 0.0, low=0, high=60),
         seed=t.integer("seed", 1, low=0, high=2**31 - 1), audio=t.boolean("audio", False),
-        paper=t.string("paper", "a4", choices=PAPERS))
+        paper=t.string("paper", "a4", choices=PAPERS),
+        signatures=t.string("signatures", "arrival", choices=SIGNATURES))
     t.finish()
     return spec
 

@@ -206,7 +206,8 @@ def test_music21_reads_the_key_and_time_signatures(built) -> None:
 
     for path, report, ks in _files(built):
         score = _m21(path)
-        changes = {1: report["key"]} | {c["bar"]: c["key"] for c in report.get("keys", [])}
+        # the key changes the score writes as signatures (a modulating chain: at its arrival)
+        changes = {1: report["key"]} | {c["bar"]: c["key"] for c in report.get("signatures", [])}
         pickup = 1 if report["rhythm"]["pickup"] else 0
         for part, k in zip(in_report_order(score, report)[:len(ks)], ks, strict=True):
             measures = list(part.getElementsByClass(stream.Measure))
@@ -698,6 +699,40 @@ def test_every_key_change_stands_after_a_double_bar(built) -> None:
                     bl = before.rightBarline
                     assert bl is not None and bl.type == "double", (path.name, part.id, m.number)
     assert changes        # the demos modulate
+
+
+@pytest.mark.parametrize("signatures", ["arrival", "each-statement"])
+def test_a_modulating_chain_keeps_its_signature_until_the_key_it_arrives_in(tmp_path: Path,
+                                                                           signatures: str) -> None:
+    """Common practice of charts: a transition that modulates every statement keeps one key
+    signature and reads the keys on the way with accidentals; the new signature stands,
+    after a double bar, where it arrives (the last key change).  ``signatures =
+    "each-statement"`` writes one at every statement's key.  music21 reads the signatures
+    of every staff (score and parts) and the sounding notes, which stay the report's."""
+    from music21 import key, note, stream
+
+    text = (DEMOS / "copper-coast-transition.toml").read_text().replace(
+        "[output]", f'[output]\nsignatures = "{signatures}"')
+    proj = write_project(tmp_path, text, "cc.toml")
+    r = run_cli("build", str(proj), "-o", str(tmp_path / "o"), "--formats", "musicxml,report", "--parts")
+    assert r.exit_code == 0, r.output
+    out = tmp_path / "o"
+    report = json.loads((out / "copper-coast-transition.report.json").read_text())
+    keys = [c["bar"] for c in report["keys"]]
+    assert len(keys) == 3                        # C minor, then A, F# and Eb minor by statement
+    want = {1, keys[-1]} if signatures == "arrival" else {1, *keys}
+    files = [out / "copper-coast-transition.musicxml", *sorted(out.glob("*-parts/part*.musicxml"))]
+    for path in files:
+        for part in _m21(path).parts:
+            if "Drums" in (part.partName or ""):
+                continue
+            measures = list(part.getElementsByClass(stream.Measure))
+            got = {m.number for m in measures if m.getElementsByClass(key.KeySignature)}
+            assert got == want, (path.name, part.partName, sorted(got))
+    # the notes are the same whichever way the signatures stand (music21, sounding pitch)
+    score = _m21(out / "copper-coast-transition.musicxml").toSoundingPitch()
+    lead = [n.pitch.midi for n in score.parts[0].stripTies().flatten().getElementsByClass(note.Note)]
+    assert lead == [e["lead"] for e in report["events"]]
 
 
 def test_analysis_labels_in_the_score_only(built) -> None:

@@ -82,7 +82,7 @@ def test_spread_puts_the_root_under_the_open_structure(symbol: str, lead: int, c
 
 @pytest.mark.parametrize("symbol", ["Cmaj7", "C6", "Cm7", "Cm6", "C7", "Cm7b5", "Cdim7", "C7sus4",
                                     "C9", "C13", "Cm9", "C7b9", "C7#9", "C7alt", "Cmaj9", "Cm11"])
-@pytest.mark.parametrize("n", [4, 5, 6, 8])
+@pytest.mark.parametrize("n", [4, 5, 6, 8, 10, 13])
 def test_no_candidate_loses_a_guide_tone(symbol: str, n: int) -> None:
     # common practice: with four or more parts every voicing holds the 3rd and the 7th
     # (the 6th of a sixth chord, the 4th of a sus chord), whatever the lead

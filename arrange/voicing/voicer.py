@@ -142,12 +142,11 @@ FALLBACK = {"close": ("drop2", "drop3", "drop2-4", "spread"), "drop2": ("drop3",
 
 def candidates(ev: Event, vtype: str, section: Section, weights: dict[str, float],
                cache: dict[tuple[object, ...], tuple[np.ndarray, np.ndarray]],
-               options: VoicingOptions = VoicingOptions(), lead: int | None = None
-               ) -> tuple[np.ndarray, np.ndarray]:
-    """Candidate voicings ``(k, n)`` of one note (its lead at ``lead``, by default as
-    placed) and their costs ``(k,)``, best kept.  Unless ``allow_extreme``, the extreme
+               options: VoicingOptions = VoicingOptions()) -> tuple[np.ndarray, np.ndarray]:
+    """Candidate voicings ``(k, n)`` of one note (its lead as placed) and their costs
+    ``(k,)``, best kept.  Unless ``allow_extreme``, the extreme
     ranges are a wall: a voicing with a note beyond one is no candidate (``k`` may be 0)."""
-    pitch = ev.note.pitch if lead is None else lead
+    pitch = ev.note.pitch
     key = (pitch, ev.chord, vtype, options.guide_options, options.allow_extreme)
     hit = cache.get(key)
     if hit is not None:
@@ -246,21 +245,21 @@ def _check_lead(harmonized: Harmonized, section: Section, options: VoicingOption
 
 def _choose(ev: Event, vtype: str, section: Section, weights: dict[str, float],
             cache: dict[tuple[object, ...], tuple[np.ndarray, np.ndarray]], options: VoicingOptions,
-            bar: int) -> tuple[Event, str, np.ndarray, np.ndarray, list[Finding], int]:
+            bar: int) -> tuple[str, np.ndarray, np.ndarray, list[Finding]]:
     """The candidates of one note: of its planned type; where none fits inside the extreme
     ranges, of the other types.  Raises when nothing fits (the lead stays as written; a
     chain placed by the build tries its other octaves, ``build.run_pipeline``)."""
     notes: list[Finding] = []
     P, c = candidates(ev, vtype, section, weights, cache, options)
     if len(P):
-        return ev, vtype, P, c, notes, ev.note.pitch
+        return vtype, P, c, notes
     for other in FALLBACK.get(vtype, ()):
         P, c = candidates(ev, other, section, weights, cache, options)
         if len(P):
             notes.append(Finding("shape", None, None, (
                 f"bar {bar}: {other} instead of {vtype}: no {vtype} voicing of the lead "
                 f"{pitch_name(ev.note.pitch)} over {ev.chord.symbol} fits inside the extreme ranges")))
-            return ev, other, P, c, notes, ev.note.pitch
+            return other, P, c, notes
     raise _unplaceable(ev, vtype, section, bar)
 
 
@@ -306,11 +305,8 @@ def voice(harmonized: Harmonized, section: Section, options: VoicingOptions) -> 
     bars = [_bar(ev, bar_len) for ev in events]
     cands, costs = [], []
     notes: list[Finding] = []
-    placed = list(events)
     for i, ev in enumerate(events):
-        ev2, vtype, P, c, found_here, lead = _choose(ev, types[i], section, weights, cache, options, bars[i])
-        if lead != ev.note.pitch:
-            placed[i] = replace(ev, note=replace(ev.note, pitch=lead))
+        vtype, P, c, found_here = _choose(ev, types[i], section, weights, cache, options, bars[i])
         types[i] = vtype
         notes.extend(replace(f, event=i) for f in found_here)
         cands.append(P)
@@ -320,7 +316,7 @@ def voice(harmonized: Harmonized, section: Section, options: VoicingOptions) -> 
     ctx = rules.context([ev.chord for ev in events], types)
     found = rules.findings(chosen, ctx, section, bars=bars, allow_extreme=options.allow_extreme,
                            vtypes=types)
-    extra = _clash_and_guides(tuple(placed), chosen, types, section, bars, options)
+    extra = _clash_and_guides(events, chosen, types, section, bars, options)
     voiced = tuple(VoicedEvent(ev, vtype, tuple(int(p) for p in row))
-                   for ev, vtype, row in zip(placed, types, chosen, strict=True))
+                   for ev, vtype, row in zip(events, types, chosen, strict=True))
     return Voiced(harmonized, section, voiced, tuple(Finding(*f) for f in found) + tuple(notes) + tuple(extra))

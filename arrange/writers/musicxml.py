@@ -50,7 +50,7 @@ def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, top: bool | 
     clef = part.instrument.clef
     if info.concert and part.instrument.transposition:
         clef = concert_clef(clef, [ve.pitches[k] for ve in voiced.events])
-    staff = Staff(line, written_keys(h, ivl), clef, ivl, passage_bars(line))
+    staff = Staff(line, written_keys(h, ivl, info.signatures), clef, ivl, passage_bars(line))
     names = written_parts(voiced, (), info.concert)[0][k]     # theory.written, one rule for all
     firsts = []
     for i, ve in enumerate(voiced.events):

@@ -38,15 +38,25 @@ def swing_ratio(line) -> tuple[int, int] | None:  # noqa: ANN001
     return r.numerator, r.denominator - r.numerator
 
 
-def written_keys(harmonized, ivl: Interval) -> tuple[tuple[int, str], ...]:  # noqa: ANN001
-    """(fifths, mode) of every written measure, in the staff's written key."""
+def written_keys(harmonized, ivl: Interval, signatures: tuple | None = None) -> tuple[tuple[int, str], ...]:  # noqa: ANN001
+    """(fifths, mode) of every written measure, in the staff's written key; ``signatures``:
+    the (first bar, Key) changes written as signatures (None: the harmony's key changes)."""
     line = harmonized.line
     shift = 1 if line.pickup else 0
+    changes = harmonized.keys if signatures is None else signatures
+
+    def key_at(bar: int):  # noqa: ANN202
+        current = harmonized.key
+        for first, k in changes:
+            if first <= bar:
+                current = k
+        return current
+
     out = []
     for m_i in range(line.measures):
         # the one key-signature rule (theory.keys.written_key): never past 7 accidentals,
         # a transposed key past 6 as its enharmonic key with fewer
-        k = written_key(harmonized.key_at(max(1, m_i + 1 - shift)), ivl.semitones)
+        k = written_key(key_at(max(1, m_i + 1 - shift)), ivl.semitones)
         out.append((k.fifths, k.signature_mode))
     return tuple(out)
 

@@ -32,7 +32,7 @@ def _staff(voiced: Voiced, layers: tuple[VoicedLayer, ...], li: int, k: int, inf
     clef = part.instrument.clef
     if concert and part.instrument.transposition:
         clef = concert_clef(clef, [p for n in vl.notes if (p := n.pitches[k]) is not None])
-    staff = Staff(h.line, written_keys(h, ivl), clef, ivl, passage_bars(h.line))
+    staff = Staff(h.line, written_keys(h, ivl, info.signatures), clef, ivl, passage_bars(h.line))
     bar_len = h.line.meter.bar
     voice = [n.pitches[k] for n in vl.notes]
     names = written_parts(voiced, layers, concert)[1][li][k]   # theory.written, one rule for all

@@ -50,6 +50,9 @@ class ScoreInfo:
     concert: bool = False                 # concert score instead of a transposed one
     only_part: int | None = None          # build the single part k (for --parts)
     version: str = ""
+    # the key changes written as key signatures, (first bar, Key); None: every key change
+    # of the harmony (a modulating transition may keep its signature: build.signature_plan)
+    signatures: tuple | None = None
 
 
 @dataclass(frozen=True, slots=True)
