@@ -54,8 +54,11 @@ def _layout(musicxml: bytes) -> list:
     order, so the floor makes the same calls with no choice of its own to make (verovio's
     drawing depends on the whole sequence: its generated element ids run on from one
     loaded document to the next)."""
+    import sys
+
     import verovio
 
+    sys.path.insert(0, str(Path(__file__).resolve().parent.parent))     # this checkout's arrange
     from arrange.writers import preview
 
     calls: list = []

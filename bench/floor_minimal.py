@@ -21,11 +21,6 @@ import re
 import sys
 from pathlib import Path
 
-_SERIF = "Times, 'Times New Roman', 'Liberation Serif', 'DejaVu Serif', 'Noto Serif', serif"
-_GLYPHS = {"\ueca5": "\u2669", "\ueca7": "\u266a", "\ueca6": "\u2669", "\uea64": "\u266d", "\uea65": "\u266e",
-           "\uea66": "\u266f", "\ue260": "\u266d", "\ue261": "\u266e", "\ue262": "\u266f", "\uecb7": ".", " ": ""}
-_SMUFL = re.compile(r'<tspan font-family="Leipzig" font-size="(\d+)px">([^<]*)</tspan>')
-_BBOX = re.compile(r'<g id="bbox-[^"]*" class="[^"]*bounding-box"\s*(?:/>|>\s*<rect[^>]*/>\s*</g>)\s*')
 _VIEWBOX = re.compile(r'viewBox="0 0 ([\d.]+) ([\d.]+)"')
 
 
@@ -44,14 +39,6 @@ def _xml(node: list, out: list[str]) -> None:
     out.append(tail)
 
 
-def _glyphs(m: re.Match[str]) -> str:
-    text = m.group(2)
-    if not text or any(c not in _GLYPHS for c in text):
-        return m.group(0)
-    return (f'<tspan font-family="DejaVu Sans, Segoe UI Symbol, sans-serif" font-size="{round(int(m.group(1)) * 0.6)}px">'
-            + "".join(_GLYPHS[c] for c in text) + "</tspan>")
-
-
 def _preview(calls: list) -> tuple[bytes, bytes]:
     import resvg_py
     import verovio
@@ -64,8 +51,12 @@ def _preview(calls: list) -> tuple[bytes, bytes]:
             pages = []
         elif name == "renderToSVG":
             pages.append(out)
-    docs = [_SMUFL.sub(_glyphs, _BBOX.sub("", svg)).replace('font-family="Times, serif"', f'font-family="{_SERIF}"')
-            for svg in pages[:6]]
+    # the text clean-up arrange's preview applies to each drawn page (no decision in it):
+    # its own functions, so the floor follows them as they change (this checkout's)
+    sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
+    from arrange.writers import preview
+
+    docs = [preview._fonts(preview._plain_text_glyphs(preview._BBOX.sub("", svg))) for svg in pages[:6]]
     sizes = []
     for d in docs:
         m = _VIEWBOX.search(d)

@@ -605,6 +605,9 @@ def test_no_two_chord_symbols_closer_than_three_quarters_of_an_em(built) -> None
                     gap = (dx * dx + dy * dy) ** 0.5 / em
                     assert gap >= 0.75, (slug, page, a[5], b[5], round(gap, 2))
                     pairs += 1
+        drawn = folder / f"{slug}.svg"       # the written preview: no measuring box left in a text
+        if drawn.exists():
+            assert "bounding-box" not in drawn.read_text(), slug
     assert pairs
 
 

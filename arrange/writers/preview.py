@@ -76,20 +76,35 @@ def _layout(musicxml: bytes, page: dict[str, object] | None = None):  # noqa: AN
 SYMBOL_GAP = 0.75         # em: the least space between two chord symbols in the picture
 _HARM_FONT = 4.5          # verovio's default lyricSize: the drawn size of a chord symbol
 _HARM_SCALE = 8.0 / 4.5   # verovio's largest lyricSize over it
-_HARM = re.compile(r"(<harm\b[^>]*>)(.*?)(</harm>)", re.S)
 _PASSES = 4               # layouts at most: each splits every crowded system in two
-_BBOX = re.compile(r'<g id="bbox-[^"]*" class="[^"]*bounding-box"\s*(?:/>|>\s*<rect[^>]*/>\s*</g>)\s*')
+_BBOX = re.compile(r'<g id="bbox-[^"]*"[^>]*?(?:/>|>\s*<rect[^>]*/>\s*</g>)\s*')
 _SYSTEM = re.compile(r'<g id="[^"]*" class="system"')
 _MEASURE = re.compile(r'<g id="([^"]+)" class="measure"')
 _HARM_BOX = re.compile(r'class="harm">.*?class="text bounding-box">\s*<rect x="(-?\d+)" y="(-?\d+)" '
                        r'height="(\d+)" width="(\d+)".*?font-size="(\d+)px"', re.S)
 
 
+_HEAD = re.compile(r"<pgHead\b.*?</pgHead>", re.S)
+_HEAD_REND = re.compile(r"(<rend\b[^>]*>)([^<]+)(</rend>)")
+_TEXTS = re.compile(r"(<(harm|dir|tempo|label|labelAbbr|reh)\b[^>]*(?<!/)>)(.*?)(</\2>)", re.S)
+
+
 def spaced_symbols(mei: str) -> str:
     """Every ``<harm>`` of verovio's MEI drawn through a ``<rend>`` at 1 / ``_HARM_SCALE``
-    of the font verovio spaces it in."""
+    of the font verovio spaces it in; the other texts that font sizes (directions, tempo,
+    staff labels, rehearsal letters, the page head) are drawn back at their usual size the
+    same way, so only the chord symbols' spacing changes (verovio's own measure numbers
+    keep the larger font)."""
     size = f"{100 / _HARM_SCALE:.0f}%"
-    return _HARM.sub(lambda m: f'{m.group(1)}<rend fontsize="{size}">{m.group(2)}</rend>{m.group(3)}', mei)
+
+    def wrap(m: re.Match[str]) -> str:
+        return f'{m.group(1)}<rend fontsize="{size}">{m.group(3)}</rend>{m.group(4)}'
+
+    def head(m: re.Match[str]) -> str:
+        return _HEAD_REND.sub(lambda r: f'{r.group(1)}<rend fontsize="{size}">{r.group(2)}</rend>{r.group(3)}',
+                              m.group(0))
+
+    return _HEAD.sub(head, _TEXTS.sub(wrap, mei))
 
 
 def symbol_gaps(svg: str) -> list[tuple[list[str], float]]:
@@ -212,7 +227,10 @@ def _plain_text_glyphs(svg: str) -> str:
         text = m.group(2)
         if not text or any(c not in _METRONOME_NOTES for c in text):
             return m.group(0)
-        size = round(int(m.group(1)) * 0.6)
+        # verovio draws a SMuFL glyph in text at the size of the text around it (a <rend> of
+        # spaced_symbols), about 0.56 of the music font it would use: the plain glyph
+        # takes 0.6 of that music font, as before
+        size = round(int(m.group(1)) * 0.6 * _HARM_SCALE)
         return (f'<tspan font-family="DejaVu Sans, Segoe UI Symbol, sans-serif" font-size="{size}px">'
                 + "".join(_METRONOME_NOTES[c] for c in text) + "</tspan>")
 
