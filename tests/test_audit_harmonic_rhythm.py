@@ -625,3 +625,15 @@ def test_new_user_project_shows_every_framework_chord(built: dict[str, Built]) -
     assert not section_violations(b)
     last = b.lead_parts[0][-1]
     assert last.end - last.onset >= 2            # the held last note is there
+
+
+def test_new_user_preview_draws_every_symbol(built: dict[str, Built]) -> None:
+    """The preview (verovio's SVG, class "harm" per chord symbol it draws) shows every symbol
+    music21 reads over the lead staff, so each framework chord the score places at its beat
+    is in the picture too."""
+    b = built["new-user"]
+    assert b.folder is not None
+    res = run_cli("build", str(b.folder / "p.toml"), "-o", str(b.folder / "preview"), "--formats", "preview")
+    assert res.exit_code == 0, res.output
+    svg = next((b.folder / "preview").glob("*.svg")).read_text(encoding="utf-8")
+    assert svg.count('class="harm"') == len(b.symbols) >= len(_changes(b))
