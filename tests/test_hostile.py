@@ -414,6 +414,7 @@ _LAYER_BAD = [{"section": "kazoos"}, {"section": "trombones-4", "rhythm": "q"},
 
 
 def _toml_value(v: object) -> str:
+    """A TOML value; strings with every control character and noncharacter escaped (TOML 1.0)."""
     if isinstance(v, bool):
         return "true" if v else "false"
     if isinstance(v, (int, float)):
@@ -423,7 +424,7 @@ def _toml_value(v: object) -> str:
     if isinstance(v, list):
         return "[" + ", ".join(_toml_value(x) for x in v) + "]"
     if isinstance(v, dict):
-        return "{ " + ", ".join(f"{k} = {_toml_value(x)}" for k, x in v.items()) + " }"
+        return "{ " + ", ".join(f'"{k}" = {_toml_value(x)}' for k, x in v.items()) + " }"
     raise TypeError(v)
 
 

@@ -20,22 +20,7 @@ from pathlib import Path
 
 import pytest
 from conftest import run_cli, snapshot
-from test_hostile import _esc
-
-
-def _toml_value(v: object) -> str:
-    """A TOML value; strings with every control character and noncharacter escaped (TOML 1.0)."""
-    if isinstance(v, bool):
-        return "true" if v else "false"
-    if isinstance(v, (int, float)):
-        return repr(v)
-    if isinstance(v, str):
-        return _esc(v)
-    if isinstance(v, list):
-        return "[" + ", ".join(_toml_value(x) for x in v) + "]"
-    if isinstance(v, dict):
-        return "{ " + ", ".join(f'"{k}" = {_toml_value(x)}' for k, x in v.items()) + " }"
-    raise TypeError(v)
+from test_hostile import _toml_value
 
 BASE: dict = {
     "title": "Sweep Form",
