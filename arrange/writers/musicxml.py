@@ -20,7 +20,6 @@ from arrange.writers.common import written_parts
 from arrange.writers.symbols import chord_changes
 from arrange.writers.xml_harmony import harmony_element
 from arrange.writers.xml_document import StaffPart, document, heading, passage_bars, swing_ratio, written_keys  # noqa: F401
-from arrange.writers.xml_layers import layer_staves
 from arrange.writers.xml_score import ScoreInfo, Staff, concert_clef, interval_of, part_abbreviation
 
 __all__ = ["ScoreInfo", "musicxml_bytes", "part_bytes", "swing_ratio", "lead_staff", "at_time"]
@@ -148,6 +147,8 @@ def musicxml_bytes(voiced: Voiced, info: ScoreInfo, layers: tuple = ()) -> bytes
     if layers:
         if not groups:
             groups = [(0, len(parts) - 1)]
+        from arrange.writers.xml_layers import layer_staves
+
         more, layer_groups = layer_staves(voiced, layers, info, len(parts))
         staves += more
         groups += layer_groups
