@@ -259,18 +259,21 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
     info = None
     pdf = "pdf" in formats
     if "musicxml" in formats or "preview" in formats or out.parts or pdf:
-        from arrange.writers.musicxml import ScoreInfo, musicxml_bytes
+        from arrange.writers.musicxml import ScoreInfo, musicxml_bytes, score_tree
 
         info = ScoreInfo(project.title, project.tempo, _style(project), dynamics=out.dynamics,
                          analysis=out.analysis, concert=out.concert_score, version=__version__,
                          signatures=signature_plan(project, voiced.harmonized))
     if info is not None and ("musicxml" in formats or "preview" in formats or pdf):
-        xml = musicxml_bytes(voiced, info, layers)   # the full score only when it is written or drawn
-        if rhythm is not None:
-            from arrange.writers.xml_rhythm import add_rhythm_parts
+        # the full score only when it is written or drawn
+        if rhythm is not None and rhythm.parts:
+            from arrange.writers.xml_rhythm import rhythm_score_bytes
 
-            xml = add_rhythm_parts(xml, rhythm, _signed(voiced.harmonized, info.signatures),
-                                   len(voiced.section.parts), bass_names=_bass_names(voiced, layers, rhythm))
+            xml = rhythm_score_bytes(score_tree(voiced, info, layers), rhythm,
+                                     _signed(voiced.harmonized, info.signatures), len(voiced.section.parts),
+                                     bass_names=_bass_names(voiced, layers, rhythm))
+        else:
+            xml = musicxml_bytes(voiced, info, layers)
         if "musicxml" in formats:
             files[f"{slug}.musicxml"] = xml
         if "preview" in formats:
