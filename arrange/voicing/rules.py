@@ -31,33 +31,21 @@ from functools import lru_cache
 
 import numpy as np
 
-from arrange.checked import whole
-from arrange.errors import VoicingError
 from arrange.theory.chords import Chord
-from arrange.theory.pitch import parse_pitch, pitch_name
-from arrange.voicing.sections import Section, read_rules
+from arrange.theory.pitch import pitch_name
+from arrange.voicing.sections import INTERVAL_NAMES, Section, low_interval_table
 
 __all__ = ["KINDS", "Context", "context", "masks", "penalties", "low_interval_limits", "findings",
            "INTERVAL_NAMES"]
 
 KINDS = ("range", "extreme", "low-interval", "voice-crossing", "minor-ninth", "doubling", "gap", "bottom")
-INTERVAL_NAMES = ("unison", "minor second", "major second", "minor third", "major third",
-                  "perfect fourth", "tritone", "perfect fifth", "minor sixth", "major sixth",
-                  "minor seventh", "major seventh", "octave", "minor ninth", "major ninth",
-                  "minor tenth", "major tenth")
 
 
 @lru_cache(maxsize=1)
 def low_interval_limits() -> np.ndarray:
-    """Lowest allowed lower note by interval (index = semitones, 0..24); -1 = no limit."""
-    where = "voicing_rules/limits.toml [low_interval]"
-    table = read_rules("limits.toml").get("low_interval", {})
-    out = np.full(25, -1, dtype=np.int64)
-    for key, value in table.items():
-        if whole(str(key)) is None or not 1 <= int(key) <= 24:
-            raise VoicingError(f"interval {key!r}", where=where, accepted="semitones 1..24")
-        out[int(key)] = parse_pitch(value, where=f"{where}, key {key!r}")
-    return out
+    """Lowest allowed lower note by interval (index = semitones, 0..24); -1 = no limit
+    (``sections.low_interval_table`` as an array)."""
+    return np.array(low_interval_table(), dtype=np.int64)
 
 
 @dataclass(frozen=True, slots=True)
