@@ -93,7 +93,7 @@ def _sounding(notes: Iterable[tuple[Fraction, Fraction, int]], a: Fraction, b: F
 
 def audit(xml: Path, lead_names: tuple[str, ...], pad_names: tuple[str, ...]) -> Audit:
     """Every quarter-note beat where a pad note sounds: pad notes at or above the lowest
-    lead-section note sounding in the beat, and adjacent voices (at each instant of the beat
+    lead-section note sounding with them in the beat, and adjacent voices (at each instant of the beat
     where a note starts) below their low-interval limit, one of them a pad note."""
     from music21 import converter
 
@@ -110,12 +110,14 @@ def audit(xml: Path, lead_names: tuple[str, ...], pad_names: tuple[str, ...]) ->
         if not _sounding(pad_all, a, b):
             continue
         out.beats += 1
-        low = _sounding(lead, a, b)
-        if low:
-            for name, ns in pad.items():
-                for p in sorted(set(_sounding(ns, a, b))):
-                    if p >= min(low):
-                        out.above.append((k, name, p, min(low)))
+        for name, ns in pad.items():
+            for t0, t1, p in ns:
+                if not (t0 < b and t1 > a):
+                    continue
+                # the lead-section notes sounding with this pad note inside the beat
+                low = _sounding(lead, max(a, t0), min(b, t1))
+                if low and p >= min(low):
+                    out.above.append((k, name, p, min(low)))
         instants = sorted({a} | {t0 for t0, _t1, _p in lead + pad_all if a < t0 < b})
         pairs: set[tuple[int, int]] = set()
         for t in instants:
@@ -148,8 +150,47 @@ def audits(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Audit]:
 
 
 @pytest.mark.parametrize("name", sorted(PROJECTS))
-def test_pad_sits_under_the_section_within_the_low_interval_limits(audits: dict[str, Audit], name: str) -> None:
+def test_pad_sits_under_the_section_within_the_low_interval_limits(audits: dict[str, Audit],
+                                                                     name: str) -> None:
     a = audits[name]
     assert a.beats > 0                                  # the pad sounds at all
     assert not a.above, (name, len(a.above), a.above[:8])
     assert not a.muddy, (name, len(a.muddy), a.muddy[:8])
+
+
+def test_a_pad_with_no_room_under_the_section_rests_and_says_so(tmp_path: Path) -> None:
+    """Trumpets as a pad under a trombone lead: no trumpet note lies under the trombones within
+    the limits, so the pad rests through every chord (music21 reads only rests on its staves)
+    and the report names each chord; stated ``placement = "among"`` it sounds."""
+    import json
+
+    from music21 import converter
+
+    text = BASIC + _pad("trumpets-4", "1")
+    (tmp_path / "p.toml").write_text(text, encoding="utf-8")
+    res = run_cli("build", str(tmp_path / "p.toml"), "-o", str(tmp_path / "o"),
+                  "--formats", "musicxml,report")
+    assert res.exit_code == 0, res.output
+    report = json.loads((tmp_path / "o" / "test-cue.report.json").read_text(encoding="utf-8"))
+    rests = [w for w in report["warnings"] if w["kind"] == "layer-rest"]
+    assert rests and not report["layers"][0]["notes"]
+    assert all("rests through" in w["message"] and "lowest note" in w["message"] and w["bar"] for w in rests)
+    score = converter.parse(str(tmp_path / "o" / "test-cue.musicxml"))      # music21 as the reader
+    for part in score.parts:
+        if part.partName in TRUMPETS:
+            assert not part.flatten().notes
+    among = text.replace('dynamics = "p"\n', 'dynamics = "p"\nplacement = "among"\n')
+    (tmp_path / "q.toml").write_text(among, encoding="utf-8")
+    res = run_cli("build", str(tmp_path / "q.toml"), "-o", str(tmp_path / "q"), "--formats", "report")
+    assert res.exit_code == 0, res.output
+    report = json.loads((tmp_path / "q" / "test-cue.report.json").read_text(encoding="utf-8"))
+    assert report["layers"][0]["notes"] and report["layers"][0]["placement"] == "among"
+    assert not [w for w in report["warnings"] if w["kind"] == "layer-rest"]
+
+
+def test_an_unknown_placement_is_refused(tmp_path: Path) -> None:
+    (tmp_path / "p.toml").write_text(BASIC + _pad("trumpets-4", "1").replace(
+        'dynamics = "p"\n', 'dynamics = "p"\nplacement = "over"\n'), encoding="utf-8")
+    res = run_cli("build", str(tmp_path / "p.toml"), "-o", str(tmp_path / "o"))
+    assert res.exit_code == 2 and "placement" in res.output and "under" in res.output
+    assert len(res.output.strip().splitlines()) == 1 and not (tmp_path / "o").exists()
