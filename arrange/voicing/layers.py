@@ -350,18 +350,14 @@ def _voice_layer(harmonized: Harmonized, voiced: Voiced, layer: Layer) -> Voiced
             fits = fits_under(P, tuple(min(p) for _i, _w, p in snd))
         else:       # among: anywhere; the costs keep it as low as they can (cross_costs)
             fits = np.ones(len(P), dtype=bool)
-        if not fits.any():
-            # no room under the section for even one voice: the background rests there
-            # (an arranger leaves it out rather than muddy or cover the section)
+        roomy = bool((fits & ~R.any(axis=1)).any())      # a voicing of every part fits under
+        if not roomy and not (fits & (rc == 0)).any():
+            # no room under the section for even its root at the bottom: the background
+            # rests there (an arranger leaves it out rather than muddy or cover the section,
+            # or put another tone in the bass)
             silent.append((onset, dur, chord, snd))
             continue
         pool = fits
-        roomy = bool((fits & ~R.any(axis=1)).any())      # a voicing of every part fits under
-        if roomy:
-            # the open shell without a guide tone (root, fifth) serves only a cramped chord:
-            # elsewhere a pad keeps a guide tone, even one that rubs (pads.thinned_sets)
-            guided = pool & ~_holds_none(P, R, tone_order(chord)[:2])
-            pool = guided if guided.any() else pool
         fewest = _fewest_clashes(P, R, chord, snd, pool)
         chosen = fewest
         if (fewest & (P.min(axis=1) % 12 == bass % 12)).any():
@@ -411,7 +407,7 @@ def _rest_findings(harmonized: Harmonized, layer: Layer,
         out.append(LayerFinding(
             "layer-rest", snd[0][0] if snd else None, None,
             f"{name}, bar {int(onset // bar_len) + 1}: rests through {chord.symbol}: no voicing of it "
-            f"fits under {below} within the low-interval limits", "warning"))
+            f"with its root at the bottom fits under {below} within the low-interval limits", "warning"))
     return out
 
 

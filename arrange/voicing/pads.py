@@ -228,8 +228,8 @@ def thinned_sets(chord: Chord, n: int, safe: tuple[int, ...]) -> list[tuple[tupl
 
 def room_sets(chord: Chord, n: int) -> list[tuple[tuple[int, ...], float]]:
     """``(tones, cost)`` of the thinner pads that make room under a low lead section: ``1 ..
-    n - 1`` distinct chord tones (:func:`tone_order`) holding a guide tone, or the root alone
-    or with its fifth (the open shell under a low section), the other parts resting.  Each tone
+    n - 1`` distinct chord tones (:func:`tone_order`) holding the root or a guide tone (the
+    open root and fifth under a low section), the other parts resting.  Each tone
     left out costs ``thinned`` and each resting part ``rest`` on top of the preference cost,
     so a pad thins only where its full voicing cannot sit under the section within the
     low-interval limits (:func:`fits_under`)."""
@@ -242,8 +242,7 @@ def room_sets(chord: Chord, n: int) -> list[tuple[tuple[int, ...], float]]:
     for s in range(1, min(n - 1, len(order)) + 1):
         for combo in combinations(range(len(order)), s):
             pcs = tuple(order[i] for i in combo)
-            # a background keeps a guide tone, or is the open shell of root and fifth
-            if not guides & set(pcs) and not set(pcs) <= {bass, fifth_pc(chord)}:
+            if not (guides | {bass}) & set(pcs):      # a background keeps its root or a guide tone
                 continue
             out.append((pcs, lr.weight("choice") * sum(combo)
                         + lr.weight("missing_guide") * len(guides - set(pcs))
