@@ -23,11 +23,26 @@ def dynamic_of(statement: int, dynamics: tuple[str, ...]) -> str:
     return dynamics[min(statement, len(dynamics)) - 1]
 
 
+_ENTRANCES: dict[tuple[int, tuple[str, ...]], tuple[Voiced, list[tuple[int, str]]]] = {}
+
+
 def entrances(voiced: Voiced, dynamics: tuple[str, ...]) -> list[tuple[int, str]]:
     """(event index, dynamic) wherever a dynamic is printed: the first note, the first
     note after a rest of a bar or more (an entrance a player counts in), and every note
     where the level changes (common practice: a dynamic holds until a new one; a short
-    rest inside a phrase does not restate it)."""
+    rest inside a phrase does not restate it).  Worked out once per score (every staff
+    and the MIDI ask for it)."""
+    hit = _ENTRANCES.get((id(voiced), dynamics))
+    if hit is not None and hit[0] is voiced:
+        return list(hit[1])
+    out = _entrances(voiced, dynamics)
+    if len(_ENTRANCES) > 8:
+        _ENTRANCES.clear()
+    _ENTRANCES[(id(voiced), dynamics)] = (voiced, out)
+    return list(out)
+
+
+def _entrances(voiced: Voiced, dynamics: tuple[str, ...]) -> list[tuple[int, str]]:
     bar = voiced.harmonized.line.meter.bar
     out: list[tuple[int, str]] = []
     prev_end: Fraction | None = None

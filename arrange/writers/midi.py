@@ -54,7 +54,14 @@ def track_head(name: str, channel: int, program: int) -> list[tuple[int, int, An
 
 
 def _tick(q: Fraction) -> int:
-    return int(round(q * TICKS))
+    """``round(q * TICKS)`` (half to even, as ``Fraction.__round__``) in integers."""
+    floor, rem = divmod(q.numerator * TICKS, q.denominator)
+    twice = 2 * rem
+    if twice < q.denominator:
+        return floor
+    if twice > q.denominator:
+        return floor + 1
+    return floor + (floor & 1)
 
 
 def _note(events: list[tuple[int, int, Any]], channel: int, pitch: int, on: int, off: int, velocity: int) -> None:
