@@ -116,6 +116,7 @@ def _normalise(text: str) -> str:
 
 @dataclass(slots=True)
 class _Parts:
+    """A chord symbol's parts while it is read."""
     third: str = "M"         # M, m, sus2, sus4
     fifth: int = 7           # 6 (b5), 7, 8 (#5)
     sixth: bool = False

@@ -39,6 +39,7 @@ VELOCITY = {"ppp": 20, "pp": 33, "p": 49, "mp": 64, "mf": 80, "f": 96, "ff": 112
 
 @dataclass(frozen=True, slots=True)
 class MidiOptions:
+    """The mock-up's dynamics per statement and its optional, seeded humanizing."""
     dynamics: tuple[str, ...] = ("mf",)
     humanize: float = 0.0        # milliseconds of timing spread, 0 = none
     seed: int = 1
