@@ -219,3 +219,91 @@ def test_unknown_section_in_a_passage(tmp_path: Path) -> None:
     assert "passage 3" in errors[0] and "trumpets-9" in errors[0], errors[0]
     assert "trumpets-4" in errors[0] and "saxes-5" in errors[0], errors[0]
     assert snapshot(tmp_path / "out") == {}
+
+
+SHARED = f'''title = "Shared Players"
+tempo = 120
+key = "F major"
+
+[section]
+name = "brass-6"
+voicing = "close"
+
+[[passages]]
+name = "Brass"
+melody = "{SOLI}"
+
+[[passages]]
+name = "Trumpets"
+section = {{ name = "trumpets-4", voicing = "close" }}
+melody = "{SOLI}"
+
+[output]
+formats = ["musicxml", "midi", "report"]
+'''
+
+
+def test_a_player_two_sections_share_reads_one_staff(tmp_path: Path) -> None:
+    """brass-6 then trumpets-4: Trumpets 1-3 play in both (one staff per player, common
+    practice of chart layout), Trumpet 4 only in the second, the trombones only in the first.
+    music21 reads the score; mido reads one track per staff."""
+    import mido
+    from music21 import converter
+
+    p = write_project(tmp_path, SHARED)
+    r = run_cli("build", str(p), "-o", str(tmp_path / "out"))
+    assert r.exit_code == 0, r.output
+    report = json.loads((tmp_path / "out" / "shared-players.report.json").read_text())
+    score = converter.parse(str(tmp_path / "out" / "shared-players.musicxml"))
+    names = [pt.partName for pt in score.parts]
+    assert names == TRUMPETS + ["Trombone 1", "Trombone 2", "Trombone 3"]
+    first, second = _bars(report, 1), _bars(report, 2)
+    for part in score.parts:
+        bars = set(_sounding_by_measure(part)) - {0, first[-1]}      # pickups aside
+        if part.partName in ("Trumpet 1", "Trumpet 2", "Trumpet 3"):
+            assert bars & set(first) and bars & set(second), part.partName
+        elif part.partName == "Trumpet 4":
+            assert bars and bars <= set(second), part.partName
+        else:
+            assert bars and bars <= set(first), part.partName
+    lead = _sounding_by_measure(score.parts[0])
+    assert [p for b in sorted(lead) for p in lead[b]] == SOLI_MIDI + SOLI_MIDI
+    mf = mido.MidiFile(str(tmp_path / "out" / "shared-players.mid"))
+    assert [next(m.name for m in t if m.type == "track_name") for t in mf.tracks[1:]] == names
+
+
+def test_a_player_a_layer_also_uses_is_refused(tmp_path: Path) -> None:
+    """A passage's section and a [[layers]] section that share a player (Trombone 1 of
+    trombones-4 both times) would give one player two staves: exit 2, one line naming the
+    passage and the player, nothing written."""
+    text = FORM.replace('section = "trumpets-4"', 'section = "trombones-4"').replace(
+        BRASS, "Eb4:4 | [Ab6] C4:4. Bb3:8 Ab3:4 Eb4:4 | [Bbm7] Db4:4 C4:8 Bb3:8 [Eb7] G3:4 Bb3:4 | [Ab6] Ab3:1 |") \
+        + '\n[[layers]]\nsection = "trombones-4"\nrole = "pad"\nrhythm = "1"\n'
+    p = write_project(tmp_path, text)
+    r = run_cli("build", str(p), "-o", str(tmp_path / "out"))
+    assert r.exit_code == 2, r.output
+    errors = [x for x in r.output.splitlines() if x.startswith("arrange: error")]
+    assert len(errors) == 1 and "Traceback" not in r.output, r.output
+    assert "passage 3" in errors[0] and "Trombone 1" in errors[0], errors[0]
+    assert snapshot(tmp_path / "out") == {}
+
+
+def test_inline_section_in_a_passage(tmp_path: Path) -> None:
+    """A passage's section defined inline (as the project's [section] may be): its parts are
+    the staves, with their instruments' General MIDI programs (music21 ``midiProgram``)."""
+    import mido
+    from music21 import instrument
+
+    text = FORM.replace('section = "trumpets-4"', 'section = { name = "horns", parts = [ '
+                        '{ name = "Flugelhorn", instrument = "flugelhorn" }, '
+                        '{ name = "Horn 1", instrument = "horn" }, { name = "Horn 2", instrument = "horn" } ] }')
+    p = write_project(tmp_path, text)
+    r = run_cli("build", str(p), "-o", str(tmp_path / "out"))
+    assert r.exit_code == 0, r.output
+    mf = mido.MidiFile(str(tmp_path / "out" / "two-sections.mid"))
+    programs = {next(m.name for m in t if m.type == "track_name"):
+                [m.program for m in t if m.type == "program_change"] for t in mf.tracks[1:]}
+    assert programs["Horn 1"] == [instrument.Horn().midiProgram]
+    assert programs["Alto Sax 1"] == [instrument.AltoSaxophone().midiProgram]
+    report = json.loads((tmp_path / "out" / "two-sections.report.json").read_text())
+    assert report["passages"][2]["section"] == "horns"
