@@ -67,6 +67,7 @@ section = "trombones-4"
 role = "pad"                     # pad: the framework chords held | hits: short chords on the accents
 rhythm = "2"                     # note values for the chords
 dynamics = "p"
+# placement = "under"            # under the lead section (thinned where it is low) | among: may reach into it
 # A second layer: short chords on the accents
 # [[layers]]
 # section = "saxes-5"

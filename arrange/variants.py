@@ -243,13 +243,42 @@ def _render_all(variants: list[Variant], formats: tuple[str, ...] | None) -> lis
             except ValueError:                 # no fork on this platform
                 context = None
             if context is not None:
+                # the writers, verovio, resvg and mido are imported here, before the
+                # workers are forked, so that they start with them instead of each paying
+                # for them again; frozen, those objects stay out of the workers' garbage
+                # collections and their memory pages stay shared
+                import gc
+
+                _preload(formats or ())
+                gc.collect()
+                gc.freeze()
                 # leaving the block terminates the workers (Ctrl-C and SIGTERM are the
                 # parent's to handle: the workers ignore the one and die of the other)
-                with context.Pool(workers, initializer=_worker_signals) as pool:
-                    return pool.map(_render_one, range(len(variants)), chunksize=1)
+                try:
+                    with context.Pool(workers, initializer=_worker_signals) as pool:
+                        return pool.map(_render_one, range(len(variants)), chunksize=1)
+                finally:
+                    gc.unfreeze()
         return [_render_one(i) for i in range(len(variants))]
     finally:
         _JOBS = ([], None)
+
+
+def _preload(formats: tuple[str, ...]) -> None:
+    """The modules every combination's writers import (``formats`` empty: the projects'
+    own formats, the preview among them)."""
+    import arrange.writers.midi
+    import arrange.writers.musicxml
+    import arrange.writers.report  # noqa: F401
+
+    if not formats or "preview" in formats:
+        from arrange.writers import preview
+
+        preview.have_png()                     # imports resvg-py where it is installed
+        try:
+            import verovio  # noqa: F401
+        except ImportError:                    # the combinations say so, one by one
+            pass
 
 
 def _worker_signals() -> None:

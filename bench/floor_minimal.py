@@ -56,7 +56,7 @@ def _preview(calls: list) -> tuple[bytes, bytes]:
     sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
     from arrange.writers import preview
 
-    docs = [preview._fonts(preview._plain_text_glyphs(preview._BBOX.sub("", svg))) for svg in pages[:6]]
+    docs = [preview.drawn_page(svg) for svg in pages[:6]]
     sizes = []
     for d in docs:
         m = _VIEWBOX.search(d)

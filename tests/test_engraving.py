@@ -77,3 +77,20 @@ def test_the_reader_catches_a_missing_natural(tmp_path: Path) -> None:
     f = tmp_path / "x.musicxml"
     f.write_text(xml)
     assert misread_notes(f) == ["P1 m.1: B3 alter 0 reads as -1"]
+
+
+def test_every_staff_has_its_own_margin_name(demo_files: list[Path]) -> None:
+    """Systems after the first name each staff by its abbreviation, and two staves of one
+    score never share one ('Tbn. 1', 'Tbn. 2', not 'Tbn.' twice: common practice of score
+    layout).  music21 reads the names from the written score."""
+    from music21 import converter
+    clashes = {}
+    for f in [f for f in demo_files if f.stem.count(".") == 0]:
+        score = converter.parse(str(f), format="musicxml")
+        names = [(p.partName, p.partAbbreviation) for p in score.parts]
+        assert all(a for _, a in names), (f.name, names)
+        abbrs = [a for _, a in names]
+        dup = sorted({a for a in abbrs if abbrs.count(a) > 1})
+        if dup:
+            clashes[f.name] = dup
+    assert not clashes, clashes

@@ -157,7 +157,8 @@ def test_a_passage_leaves_out_a_layer(form: tuple[Path, dict]) -> None:
     for part in pads:
         sounding = {m.number for m in part.getElementsByClass(stream.Measure) if m.notes}
         assert not sounding & set(range(turn["first_bar"], turn["last_bar"] + 1))
-    top = {m.number for m in pads[0].getElementsByClass(stream.Measure) if m.notes}
+    # the pad sounds in every other bar (one part or another: a thinned chord rests some)
+    top = {m.number for part in pads for m in part.getElementsByClass(stream.Measure) if m.notes}
     assert top >= set(range(1, turn["first_bar"])) | set(range(turn["last_bar"] + 1, report["bars"] + 1))
 
 

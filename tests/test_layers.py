@@ -73,7 +73,7 @@ def test_report_layers_shape(demo) -> None:
         assert len(n["pitches"]) == 4                       # one per part, null where it rests
         sounding = [p for p in n["pitches"] if p is not None]
         assert sounding == sorted(sounding, reverse=True)   # top to bottom
-        assert n["pitches"][0] is not None                  # the lead trombone always plays
+        assert sounding                                     # a chord left out is no note at all
         assert isinstance(n["why"], str) and (n["why"] or None not in n["pitches"])
 
 
@@ -126,15 +126,43 @@ def test_pad_tones_are_chord_tones_or_tensions(demo) -> None:
         for p in n["pitches"]:
             assert p is None or p % 12 in tones | tensions, (n["chord"], p)
         # guide tones first (common practice): the third or the seventh always sounds;
-        # one gives way only to avoid a clash with the lead section
+        # one gives way only to avoid a clash with the lead section, or where there is no
+        # room for it under the section
         guides = {cs.third.pitchClass, cs.seventh.pitchClass if cs.seventh else cs.third.pitchClass}
         played = {p % 12 for p in n["pitches"] if p is not None}
-        assert guides & played
-        # a guide tone left out would rub (m2/m9, music21's interval) against a lead note
-        # sounding during the chord
         lead = _lead_during(report, n)
+        assert guides & played or not any(_room_for(g, n, report) for g in guides), n
+        # a guide tone left out would rub (m2/m9, music21's interval) against a lead note
+        # sounding during the chord, or finds no room under the section
         for g in guides - played:
-            assert any(_rubs(g, q) for q in lead), (n, g)
+            assert any(_rubs(g, q) for q in lead) or not _room_for(g, n, report), (n, g)
+
+
+# lowest lower note of an interval between adjacent voices (semitones), a handbook table from
+# memory (as tests/test_audit_pads.py); and the bass trombone's lowest practical note, Bb1 (from memory)
+LOW_LIMITS = {1: 52, 2: 51, 3: 48, 4: 46, 5: 45, 6: 46, 7: 34, 8: 41, 9: 41, 10: 41, 11: 41,
+              13: 40, 14: 39, 15: 36, 16: 34}
+LOWEST = 34
+
+
+def _room_for(pc: int, n: dict, report: dict) -> bool:
+    """Whether pitch class ``pc`` could join pad chord ``n`` under the lead section: a part
+    rests or two sound one pitch class, and some octave of ``pc`` below the lowest lead note
+    sounding with the chord keeps every adjacent interval (the section's lowest note above
+    the pad included) within the low-interval limits."""
+    sounding = [p for p in n["pitches"] if p is not None]
+    if len(sounding) == len(n["pitches"]) and len({p % 12 for p in sounding}) == len(sounding):
+        return False                                   # every part plays its own tone
+    start, end = n["onset"], n["onset"] + n["duration"]
+    lows = {min(e["pitches"]) for e in sounding_events(report)
+            if e["onset"] < end and e["onset"] + e["duration"] > start}
+    for p in range(LOWEST + (pc - LOWEST) % 12, min(lows), 12):
+        voices = sorted(set(sounding) | {p})
+        ok = all(LOW_LIMITS.get(b - a, 0) <= a for a, b in zip(voices, voices[1:], strict=False))
+        ok = ok and all(LOW_LIMITS.get(low - voices[-1], 0) <= voices[-1] for low in lows)
+        if ok:
+            return True
+    return False
 
 
 def _lead_during(report: dict, n: dict) -> set[int]:
@@ -171,8 +199,10 @@ def test_pad_moves_smoothly(demo) -> None:
     # roots, by leap: the upper voices are judged
     moves = [abs(a - b) for x, y in zip(notes, notes[1:], strict=False) for a, b in
              zip(x["pitches"][:-1], y["pitches"][:-1], strict=True) if a is not None and b is not None]
-    # inner voices mostly by step or common tone (common practice): most moves <= 2 semitones
-    assert moves and sum(m <= 2 for m in moves) / len(moves) >= 0.75
+    # inner voices mostly by step or common tone (common practice): most moves <= 2 semitones;
+    # under the trumpets' low voices a pad's voices sometimes leap to stay under them within
+    # the low-interval limits (tests/test_audit_pads.py), so two moves in three, none past a sixth
+    assert moves and sum(m <= 2 for m in moves) / len(moves) >= 2 / 3 and max(moves) <= 9
 
 
 def _clashes(report: dict) -> set[tuple[str, str, int, int]]:
@@ -249,7 +279,7 @@ def test_constructed_minor_ninth_is_reported(tmp_path: Path) -> None:
     # a guide tone rather than add clashes, so some parts may rest)
     names = [p.name for p in layer.layer.section.parts]
     sounding = {names[j] for n in layer.notes for j, p in enumerate(n.pitches) if p is not None}
-    assert {f.part for f in m9} == sounding and "Trombone 1" in sounding
+    assert {f.part for f in m9} == sounding and sounding
     for f in m9:
         assert f.other_part and f.other_part in f.message and f.part in f.message
     # the known pair: each pad pitch p against the cluster note a minor ninth (or compound) above
@@ -434,9 +464,10 @@ def test_demo_thins_rather_than_clashes(demo) -> None:
 
 def test_thinned_chords_keep_a_guide_tone_and_say_why(chromatic) -> None:
     """A thinned pad chord (a part resting or fewer tones than parts) still holds the third
-    or seventh of its framework chord (music21 ChordSymbol) and its ``why`` names a
-    left-out tone and the lead note it would rub against (common practice: thin a pad
-    rather than let it rub)."""
+    or seventh of its framework chord (music21 ChordSymbol) unless each of them would rub
+    against a lead note sounding with it or finds no room under the section (then the root
+    states the chord), and its ``why`` names a left-out tone and the lead note it would rub
+    against (common practice: thin a pad rather than let it rub)."""
     from music21 import harmony
 
     _, report = chromatic
@@ -447,7 +478,10 @@ def test_thinned_chords_keep_a_guide_tone_and_say_why(chromatic) -> None:
         played = {p % 12 for p in n["pitches"] if p is not None}
         # the guide tones: third, and seventh (a sixth chord: its sixth, music21's chord step 6)
         guide = cs.seventh or cs.getChordStep(6) or cs.third
-        assert played & {cs.third.pitchClass, guide.pitchClass}, n
+        guides = {cs.third.pitchClass, guide.pitchClass}
+        lead = _lead_during(report, n)
+        kept_out = all(any(_rubs(g, q) for q in lead) or not _room_for(g, n, report) for g in guides)
+        assert played & guides or (kept_out and cs.bass().pitchClass in played), n
         assert n["why"].startswith("thinned: ") and "clashes with the lead's" in n["why"]
         for k, p in enumerate(n["pitches"]):
             if p is None:

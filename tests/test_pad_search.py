@@ -119,7 +119,9 @@ def test_solve_finds_the_cheapest_path() -> None:
 
 def test_cli_pad_unchanged_when_built_twice(tmp_path) -> None:
     """End to end: the cached search gives the same pad in a second build in one process."""
-    proj = write_project(tmp_path, BASIC + '\n[[layers]]\nsection = "trumpets-4"\nrole = "pad"\n')
+    # trumpets over a trombone lead: stated to sound among them (under them they find no room)
+    proj = write_project(tmp_path, BASIC + '\n[[layers]]\nsection = "trumpets-4"\nrole = "pad"\n'
+                         'placement = "among"\n')
     outs = []
     for k in range(2):
         out = tmp_path / f"o{k}"

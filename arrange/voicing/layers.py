@@ -11,14 +11,18 @@
 
 Each chord is voiced by :mod:`arrange.pads` (guide tones first, then allowed
 tensions; the voicing stage's rule checks) and the whole layer is chosen by a
-dynamic programme that keeps common tones and moves by step, and sits below
-the lead section's lowest voice wherever it can.  Each chord is voiced against
-every lead-section pitch sounding during its whole duration; where no full
-voicing is clash free it is thinned (clash-free tones only, doubled in octaves
-or with parts resting: a ``None`` pitch) and ``LayerNote.why`` says why.
-Findings: the rule checks of the chosen chords (resting parts left out), and every minor second or minor ninth between a background
-note and a lead-section note sounding with it (``clash-minor-second``,
-``clash-minor-ninth``: the message names both parts).
+dynamic programme that keeps common tones and moves by step.  With ``placement =
+"under"`` (the default) every chord sits below the lead section's lowest sounding
+note within the low-interval limits (:func:`arrange.voicing.pads.fits_under`),
+thinned where the section leaves no room for every part, and left out (the layer
+rests, a ``layer-rest`` finding) where not one note fits; ``"among"`` lets it reach
+into the section.  Each chord is voiced against every lead-section pitch sounding
+during its whole duration; where no full voicing is clash free it is thinned
+(clash-free tones only, doubled in octaves or with parts resting: a ``None``
+pitch) and ``LayerNote.why`` says why.  Findings: the rule checks of the chosen
+chords (resting parts left out), ``layer-rest``, and every minor second or minor
+ninth between a background note and a lead-section note sounding with it
+(``clash-minor-second``, ``clash-minor-ninth``: the message names both parts).
 """
 from __future__ import annotations
 
@@ -35,15 +39,21 @@ from arrange.tables import Table
 from arrange.theory.chords import Chord
 from arrange.theory.pitch import pitch_name
 from arrange.voicing import rules
-from arrange.voicing.pads import candidates, clash_pairs, cross_costs, layer_rules, rubs, tone_order, velocity
+from arrange.voicing.pads import (candidates, clash_pairs, cross_costs, fits_under, layer_rules, rubs,
+                                  tone_order, velocity)
 from arrange.voicing.sections import Section, section_from_table
 from arrange.voicing.shapes import recipes
 from arrange.voicing.voicer import Voiced
 
-__all__ = ["Layer", "LayerNote", "LayerFinding", "VoicedLayer", "ROLES", "DYNAMICS", "read_layers",
+__all__ = ["Layer", "LayerNote", "LayerFinding", "VoicedLayer", "ROLES", "PLACEMENTS", "DYNAMICS",
+           "read_layers",
            "parse_values", "build_layers", "accents", "layer_times", "root_costs"]
 
 ROLES = ("pad", "hits")
+# under: below the lead section's lowest sounding note, low intervals open, thinned or resting
+# where there is no room (common practice); among: as low as it can, reaching into the section
+# where it must (a layer the arranger means to sound inside or over the section)
+PLACEMENTS = ("under", "among")
 DYNAMICS = ("ppp", "pp", "p", "mp", "mf", "f", "ff")
 _HALF = Fraction(1, 2)
 _VALUE_RE = re.compile(r"^(r?)(1|2|4|8|16)(\.?)(t?)$")
@@ -57,6 +67,7 @@ class Layer:
     rhythm: tuple[tuple[Fraction, bool], ...]    # (note value in quarters, is a rest)
     rhythm_text: str
     dynamics: str
+    placement: str = "under"                     # "under" | "among" (PLACEMENTS)
 
     @property
     def velocity(self) -> int:
@@ -131,8 +142,9 @@ def _layer(t: Table, index: int) -> Layer:
     rhythm_text = t.string("rhythm", lr.default(f"{role}_rhythm"))
     rhythm = parse_values(rhythm_text, where=t.at("rhythm"))
     dyn = t.string("dynamics", lr.default(f"{role}_dynamics"), choices=DYNAMICS)
+    placement = t.string("placement", "under", choices=PLACEMENTS)
     t.finish()
-    return Layer(index, section, role, rhythm, rhythm_text, dyn)
+    return Layer(index, section, role, rhythm, rhythm_text, dyn, placement)
 
 
 def read_layers(raw: object, where: str) -> tuple[Layer, ...]:
@@ -327,7 +339,8 @@ def _voice_layer(harmonized: Harmonized, voiced: Voiced, layer: Layer) -> Voiced
     times = layer_times(harmonized, layer)
     if not times:
         return VoicedLayer(layer, (), ())
-    cands, rests, costs, sounding = [], [], [], []
+    cands, rests, costs, sounding, played, silent = [], [], [], [], [], []
+    cramped: list[int | None] = []
     index = _sounding_index(voiced)
     for onset, dur, chord in times:
         snd = _sounding(voiced, onset, dur, index)
@@ -341,36 +354,85 @@ def _voice_layer(harmonized: Harmonized, voiced: Voiced, layer: Layer) -> Voiced
         # where none has, the thinned chord's why names the root among the tones left out
         order = np.argsort(c, kind="stable")
         bass = chord.bass if chord.bass is not None else chord.root
-        fewest = _fewest_clashes(P, R, chord, snd)
-        rooted = (rc == 0) & fewest
+        # first of all a background sits under the section, its low intervals open (common
+        # practice): where any candidate does, only those stay (thinner ones make room under
+        # a low section); where none does, the findings name what is left
+        if layer.placement == "under":
+            fits = fits_under(P, tuple(min(p) for _i, _w, p in snd))
+        else:       # among: anywhere; the costs keep it as low as they can (cross_costs)
+            fits = np.ones(len(P), dtype=bool)
+        roomy = bool((fits & ~R.any(axis=1)).any())      # a voicing of every part fits under
+        if not roomy and not (fits & (rc == 0)).any():
+            # no room under the section for even its root at the bottom: the background
+            # rests there (an arranger leaves it out rather than muddy or cover the section,
+            # or put another tone in the bass)
+            silent.append((onset, dur, chord, snd))
+            continue
+        pool = fits
+        fewest = _fewest_clashes(P, R, chord, snd, pool)
+        chosen = fewest
         if (fewest & (P.min(axis=1) % 12 == bass % 12)).any():
-            # guide tones first, as ever: each one that rubs against no lead-section note of
-            # the chord's time (a pad leaves a guide tone out only to avoid a clash)
-            safe = tuple(g for g in tone_order(chord)[:2] if not any(rubs(g, q % 12, chord) for q in lead))
-            guided = rooted & _holds_guides(P, R, safe)
-            order = order[(guided if guided.any() else rooted)[order]]
+            chosen = (rc == 0) & fewest
+        # guide tones first, as ever: each one that rubs against no lead-section note of
+        # the chord's time (a pad leaves a guide tone out only to avoid a clash or for room)
+        safe = tuple(g for g in tone_order(chord)[:2] if not any(rubs(g, q % 12, chord) for q in lead))
+        guided = chosen & _holds_guides(P, R, safe)
+        if not safe:        # both rub: still one of them where it costs no further clash
+            guided = chosen & ~_holds_none(P, R, tone_order(chord)[:2])
+        if guided.any():
+            chosen = guided
+        # then as many voices as fit: a part rests only where the room under the section
+        # (or a clash) leaves it nothing to play, never to save a leap
+        voices = (~R).sum(axis=1)
+        chosen = chosen & (voices == voices[chosen].max())
+        order = order[chosen[order]]
         keep = order[:_KEEP]
+        # no room for every part: the chord's why says so (the section's lowest note named)
+        cramped.append(None if roomy else min((q for _i, _w, p in snd for q in p), default=None))
         cands.append(P[keep])
         rests.append(R[keep])
         costs.append(c[keep])
         sounding.append(snd)
-    path = _solve(cands, costs, rests)
+        played.append((onset, dur, chord))
+    path = _solve(cands, costs, rests) if cands else []
     notes = []
-    for (o, d, ch), i, j, snd in zip(times, range(len(times)), path, sounding, strict=True):
+    for (o, d, ch), i, j, snd in zip(played, range(len(played)), path, sounding, strict=True):
         row = tuple(None if r else int(p) for p, r in zip(cands[i][j], rests[i][j], strict=True))
-        notes.append(LayerNote(o, d, ch, row, _why(ch, row, snd, voiced, layer)))
-    return VoicedLayer(layer, tuple(notes), tuple(_findings(harmonized, voiced, layer, tuple(notes), sounding)))
+        notes.append(LayerNote(o, d, ch, row, _why(ch, row, snd, voiced, layer, cramped[i])))
+    findings = _findings(harmonized, voiced, layer, tuple(notes), sounding)
+    findings += _rest_findings(harmonized, layer, silent)
+    return VoicedLayer(layer, tuple(notes), tuple(findings))
+
+
+def _rest_findings(harmonized: Harmonized, layer: Layer,
+                   silent: list[tuple[Fraction, Fraction, Chord, list[tuple[int, float, tuple[int, ...]]]]]
+                   ) -> list[LayerFinding]:
+    """``layer-rest``: one finding per background chord left out for want of room under the
+    lead section (the section's lowest note while it sounds named)."""
+    bar_len = harmonized.line.meter.bar
+    name = f"layer {layer.index} ({layer.role}, {layer.section.name})"
+    out = []
+    for onset, _dur, chord, snd in silent:
+        low = min((q for _e, _w, p in snd for q in p), default=None)
+        below = f"the lead section's lowest note {pitch_name(low)}" if low is not None else "the lead section"
+        out.append(LayerFinding(
+            "layer-rest", snd[0][0] if snd else None, None,
+            f"{name}, bar {int(onset // bar_len) + 1}: rests through {chord.symbol}: no voicing of it "
+            f"with its root at the bottom fits under {below} within the low-interval limits", "warning"))
+    return out
 
 
 def _fewest_clashes(P: np.ndarray, R: np.ndarray, chord: Chord,
-                    snd: list[tuple[int, float, tuple[int, ...]]]) -> np.ndarray:
-    """The candidates with the fewest minor seconds / ninths against the lead-section notes
-    sounding during the chord (a pad thins rather than rubs: its ``why`` then names the
-    tones it leaves out, the root among them, and the lead notes they would rub)."""
+                    snd: list[tuple[int, float, tuple[int, ...]]], pool: np.ndarray) -> np.ndarray:
+    """The candidates of ``pool`` with the fewest minor seconds / ninths against the
+    lead-section notes sounding during the chord (a pad thins rather than rubs: its ``why``
+    then names the tones it leaves out, the root among them, and the lead notes they would rub)."""
     count = np.zeros(len(P), dtype=np.int64)
     for _i, _w, pitches in snd:
         count += (clash_pairs(P, np.array(pitches, dtype=np.int64), chord) & ~R[:, :, None]).sum(axis=(1, 2))
-    return count == count.min() if len(count) else count.astype(bool)
+    if not pool.any():
+        return pool
+    return pool & (count == count[pool].min())
 
 
 def _holds_guides(P: np.ndarray, R: np.ndarray, guides: tuple[int, ...]) -> np.ndarray:
@@ -381,6 +443,11 @@ def _holds_guides(P: np.ndarray, R: np.ndarray, guides: tuple[int, ...]) -> np.n
     for g in guides:
         out &= ((pcs == g) & ~R).any(axis=1)
     return out
+
+
+def _holds_none(P: np.ndarray, R: np.ndarray, tones: tuple[int, ...]) -> np.ndarray:
+    """The candidates sounding none of the pitch classes ``tones``."""
+    return ~(np.isin(P % 12, tones) & ~R).any(axis=1)
 
 
 def root_costs(P: np.ndarray, chord: Chord, snd: list[tuple[int, float, tuple[int, ...]]]) -> np.ndarray:
@@ -399,9 +466,10 @@ def root_costs(P: np.ndarray, chord: Chord, snd: list[tuple[int, float, tuple[in
 
 
 def _why(chord: Chord, row: tuple[int | None, ...], snd: list[tuple[int, float, tuple[int, ...]]],
-         voiced: Voiced, layer: Layer) -> str:
+         voiced: Voiced, layer: Layer, cramped: int | None = None) -> str:
     """A short note when a pad chord is thinned: the tones left out, the lead
-    notes they would rub against, and the parts resting or doubling."""
+    notes they would rub against, and the parts resting or doubling; ``cramped``: the lead
+    section's lowest note where it leaves no room for every part under it."""
     n = len(row)
     order = tone_order(chord)
     played = {p % 12 for p in row if p is not None}
@@ -429,6 +497,9 @@ def _why(chord: Chord, row: tuple[int | None, ...], snd: list[tuple[int, float, 
             left.append(f"{_pc_name(pc)} clashes with the lead's {_pc_name(q)} ({part})")
     if not left and not rests:
         return rooted
+    if cramped is not None and rests:
+        left.insert(0, f"no room for {n} parts under the lead section's lowest note {pitch_name(cramped)} "
+                       "within the low-interval limits")
     out = "thinned: " + ("; ".join(left) if left else "fewer tones")
     if rests:
         out += "; " + ", ".join(rests) + (" rests" if len(rests) == 1 else " rest")
@@ -439,6 +510,8 @@ def _why(chord: Chord, row: tuple[int | None, ...], snd: list[tuple[int, float, 
 
 def _findings(harmonized: Harmonized, voiced: Voiced, layer: Layer, notes: tuple[LayerNote, ...],
               sounding: list[list[tuple[int, float, tuple[int, ...]]]]) -> list[LayerFinding]:
+    if not notes:
+        return []
     bar_len = harmonized.line.meter.bar
     bars = [int(n.onset // bar_len) + 1 for n in notes]
     R = np.array([[p is None for p in n.pitches] for n in notes], dtype=bool)
@@ -455,10 +528,11 @@ def _findings(harmonized: Harmonized, voiced: Voiced, layer: Layer, notes: tuple
         out.append(LayerFinding(kind, first_event[i], part, f"{name}, {msg}", severity, None, i))
     for i, (n, snd) in enumerate(zip(notes, sounding, strict=True)):
         lows = [min(p) for _e, _w, p in snd]
-        if lows and n.pitches[0] is not None and n.pitches[0] >= min(lows):
+        top = next(k for k, p in enumerate(n.pitches) if p is not None)
+        if lows and max(n.sounding) >= min(lows):
             out.append(LayerFinding(
-                "layer-above-lead", first_event[i], sec.parts[0].name,
-                f"{name}, bar {bars[i]}: {sec.parts[0].name} {pitch_name(n.pitches[0])} sits at or "
+                "layer-above-lead", first_event[i], sec.parts[top].name,
+                f"{name}, bar {bars[i]}: {sec.parts[top].name} {pitch_name(max(n.sounding))} sits at or "
                 f"above the lead section's lowest note {pitch_name(min(lows))}", "warning", None, i))
         layer_row = np.array([_filled(n.pitches)], dtype=np.int64)
         seen: set[tuple[int, int, int, int]] = set()
@@ -489,8 +563,8 @@ def _pc_name(pc: int) -> str:
 
 
 def _filled(pitches: tuple[int | None, ...]) -> tuple[int, ...]:
-    """Pitches with each resting part carrying the sounding pitch above it (the
-    top part always sounds)."""
+    """Pitches with each resting part carrying the sounding pitch above it (a part above
+    the first sounding one: that one's pitch)."""
     out: list[int] = []
     for p in pitches:
         out.append(p if p is not None else (out[-1] if out else next(q for q in pitches if q is not None)))

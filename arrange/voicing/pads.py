@@ -31,7 +31,7 @@ from arrange.voicing.sections import Section, read_rules
 from arrange.voicing.shapes import fifth_pc, recipes
 
 __all__ = ["LayerRules", "layer_rules", "tone_order", "pc_sets", "safe_pcs", "rubs", "thinned_sets",
-           "candidates", "cross_costs", "clash_pairs", "velocity"]
+           "room_sets", "candidates", "cross_costs", "clash_pairs", "fits_under", "velocity"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -226,10 +226,35 @@ def thinned_sets(chord: Chord, n: int, safe: tuple[int, ...]) -> list[tuple[tupl
     return out
 
 
+def room_sets(chord: Chord, n: int) -> list[tuple[tuple[int, ...], float]]:
+    """``(tones, cost)`` of the thinner pads that make room under a low lead section: ``1 ..
+    n - 1`` distinct chord tones (:func:`tone_order`) holding the root or a guide tone (the
+    open root and fifth under a low section), the other parts resting.  Each tone
+    left out costs ``thinned`` and each resting part ``rest`` on top of the preference cost,
+    so a pad thins only where its full voicing cannot sit under the section within the
+    low-interval limits (:func:`fits_under`)."""
+    lr = layer_rules()
+    order = tone_order(chord)
+    guides = set(order[:2])
+    bass = (chord.bass if chord.bass is not None else chord.root) % 12
+    full = min(n, len(order))
+    out = []
+    for s in range(1, min(n - 1, len(order)) + 1):
+        for combo in combinations(range(len(order)), s):
+            pcs = tuple(order[i] for i in combo)
+            if not (guides | {bass}) & set(pcs):      # a background keeps its root or a guide tone
+                continue
+            out.append((pcs, lr.weight("choice") * sum(combo)
+                        + lr.weight("missing_guide") * len(guides - set(pcs))
+                        + lr.weight("thinned") * (full - s) + lr.weight("rest") * (n - s)))
+    return out
+
+
 def _embed(V: np.ndarray, sounding: tuple[int, ...], n: int) -> tuple[np.ndarray, np.ndarray]:
     """Voicings ``V`` of the ``sounding`` parts spread over ``n`` parts; a resting
-    part carries the pitch of the sounding voice above it (the top part sounds)."""
-    carry = [sum(1 for s in sounding if s <= j) - 1 for j in range(n)]
+    part carries the pitch of the sounding voice above it (above the first sounding part:
+    that part's pitch), so the rule checks see the sounding intervals."""
+    carry = [max(sum(1 for s in sounding if s <= j) - 1, 0) for j in range(n)]
     rests = np.array([j not in sounding for j in range(n)], dtype=bool)
     return V[:, carry], np.broadcast_to(rests, (len(V), n))
 
@@ -276,6 +301,16 @@ def _candidates(chord: Chord, section: Section, safe: tuple[int, ...] | None
             rows.append(row)
             rest_rows.append(rest)
             base.append(np.full(len(row), cost))
+    for pcs, cost in room_sets(chord, n):
+        t = len(pcs)
+        # low down the lowest parts play (the bass part takes the root), the upper ones rest
+        sounding = tuple(range(n - t, n))
+        s_lo = min(parts[j].instrument.practical[0] for j in sounding)
+        s_hi = max(parts[j].instrument.practical[1] for j in sounding)
+        row, rest = _embed(_shapes(tuple(sorted(pcs)), s_lo, s_hi, t), sounding, n)
+        rows.append(row)
+        rest_rows.append(rest)
+        base.append(np.full(len(row), cost))
     if not sum(len(r) for r in rows):
         raise VoicingError(f"no voicing of {chord.symbol} fits the section {section.name!r}",
                            where="[[layers]] section",
@@ -302,6 +337,25 @@ def clash_pairs(layer: np.ndarray, lead: np.ndarray, chord: Chord) -> np.ndarray
         ok = (low == chord.root) & (high == (chord.root + 1) % 12) & (np.abs(d) >= 13)
         hit &= ~ok
     return hit
+
+
+def fits_under(P: np.ndarray, lows: tuple[int, ...]) -> np.ndarray:
+    """``(k,)`` bool: the candidates (resting parts carrying the pitch above them) that sit
+    under the lead section within the low-interval limits (common practice: a background
+    sits below the section it backs and keeps its low intervals open): the top below each of
+    the section's lowest notes ``lows`` (one per stretch sounding with the chord), no two
+    adjacent sounding voices below their limit (``voicing_rules/limits.toml``), nor the top
+    below the limit of its interval to each of ``lows``."""
+    limits = rules.low_interval_limits()
+    d = P[:, :-1] - P[:, 1:]
+    lim = limits[np.clip(d, 0, 24)]
+    ok = ~((d > 0) & (d <= 24) & (lim >= 0) & (P[:, 1:] < lim)).any(axis=1)
+    top = P[:, 0]
+    for low in sorted(set(lows)):
+        gap = low - top
+        lim = limits[np.clip(gap, 0, 24)]
+        ok &= (gap > 0) & ~((gap <= 24) & (lim >= 0) & (top < lim))
+    return ok
 
 
 def cross_costs(P: np.ndarray, sounding: list[tuple[float, tuple[int, ...]]], chord: Chord,

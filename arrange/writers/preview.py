@@ -16,7 +16,7 @@ from arrange.errors import OutputError
 
 __all__ = ["svg_bytes", "png_bytes", "have_png", "PAGE_WIDTH", "MAX_PAGES", "toolkit_for", "per_staff_keys", "pages",
            "symbol_gaps", "SYMBOL_GAP", "spaced_symbols",
-           "staff_keys"]
+           "staff_keys", "drawn_page"]
 
 PAGE_WIDTH = 2100      # verovio units (tenths of a mm): an A4 page width
 PAGE_HEIGHT = 2970
@@ -52,6 +52,10 @@ def _layout(musicxml: bytes, page: dict[str, object] | None = None):  # noqa: AN
     """The toolkit and its pages (SVG with verovio's bounding boxes); ``page``: verovio
     options that set another page (the print writer's paper, scale and margins)."""
     tk = _toolkit(page)
+    # the MusicXML is read only for verovio's MEI of it, which its line breaking does not
+    # change: read with no breaks, it is not cut into systems and pages (a third to a half
+    # of the read) before the MEI is laid out for the picture
+    tk.setOptions({"breaks": "none"})
     if not tk.loadData(_for_engraver(musicxml)):
         raise OutputError("verovio could not read the score it was given", where="preview",
                           accepted="a MusicXML score")
@@ -60,7 +64,7 @@ def _layout(musicxml: bytes, page: dict[str, object] | None = None):  # noqa: AN
     if any(len(k) > 1 for k in keys.values()):
         mei = per_staff_keys(mei, keys)
     mei = spaced_symbols(mei)
-    tk.setOptions({"lyricSize": _HARM_FONT * _HARM_SCALE, "svgBoundingBoxes": True})
+    tk.setOptions({"breaks": "auto", "lyricSize": _HARM_FONT * _HARM_SCALE, "svgBoundingBoxes": True})
     tk.loadData(mei)
     return _uncrowd(tk, mei)
 
@@ -151,7 +155,27 @@ def pages(musicxml: bytes, limit: int | None = None,
     the score has."""
     svgs = _layout(musicxml, page)[1]
     drawn = len(svgs) if limit is None else min(len(svgs), limit)
-    return [_fonts(_plain_text_glyphs(_BBOX.sub("", svg))) for svg in svgs[:drawn]], len(svgs)
+    return [drawn_page(svg) for svg in svgs[:drawn]], len(svgs)
+
+
+def drawn_page(svg: str) -> str:
+    """One page of verovio's SVG as the picture shows it: no measuring box, plain-font
+    glyphs in texts, the usual serif faces named, music glyphs filled only."""
+    return _filled_glyphs(_fonts(_plain_text_glyphs(_BBOX.sub("", svg))))
+
+
+# verovio's page style strokes every path (``#id path {stroke:currentColor}``, meant for
+# stems, staff lines and ties, which carry their own stroke-width), and so also the outline
+# of every music glyph it defines once and places with <use>, at SVG's default width of
+# one unit of the glyph's own space: about 0.04 pixel in the picture, below what an eye can
+# see (no pixel of a demo's picture moves by more than 13 of 255 grey levels), yet tracing
+# every curve of every notehead, clef and accidental again cost the PNG renderer a sixth of
+# its time.  The glyphs are drawn as the music font draws them: filled, with no outline.
+_GLYPH_DEFS = re.compile(r"<defs>.*?</defs>", re.S)
+
+
+def _filled_glyphs(svg: str) -> str:
+    return _GLYPH_DEFS.sub(lambda m: m.group(0).replace("<path ", '<path style="stroke:none" '), svg)
 
 
 # verovio names "Times, serif" for its text; a renderer takes the first family it has, so

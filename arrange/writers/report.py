@@ -330,6 +330,7 @@ def layers_data(layers: tuple[VoicedLayer, ...], voiced: Voiced | None = None) -
         out.append({
             "index": la.index, "section": la.section.name, "role": la.role,
             "rhythm": la.rhythm_text, "dynamics": la.dynamics, "velocity": la.velocity,
+            "placement": la.placement,
             "parts": [{"name": p.name, "instrument": p.instrument.key,
                        "transposition": p.instrument.transposition,
                        "range": list(p.instrument.practical),

@@ -15,7 +15,7 @@ from arrange.voicing.voicer import Voiced
 from arrange.writers import marks
 from arrange.writers.common import written_parts
 from arrange.writers.xml_document import StaffPart, document, heading, passage_bars, written_keys
-from arrange.writers.xml_score import ScoreInfo, Staff, concert_clef, interval_of
+from arrange.writers.xml_score import ScoreInfo, Staff, concert_clef, interval_of, part_abbreviation
 
 __all__ = ["layer_staves", "layer_part_bytes"]
 
@@ -64,7 +64,7 @@ def layer_staves(voiced: Voiced, layers: tuple[VoicedLayer, ...], info: ScoreInf
         start = index
         for k, part in enumerate(vl.layer.section.parts):
             staves.append(StaffPart(_staff(voiced, layers, li, k, info, info.concert), part,
-                                    part.abbreviation, index))
+                                    part_abbreviation(part), index))
             index += 1
         groups.append((start, index - 1))
     return staves, groups
@@ -86,6 +86,6 @@ def layer_part_bytes(voiced: Voiced, info: ScoreInfo, layers: tuple[VoicedLayer,
             for m_i, letter in letters.items():
                 staff.add_mark(m_i, Fraction(0), 0, marks.rehearsal(letter))
             out.append((part.name, document(info.title, info.version, part.name,
-                                            [StaffPart(staff, part, part.abbreviation, index)], [])))
+                                            [StaffPart(staff, part, part_abbreviation(part), index)], [])))
             index += 1
     return out
