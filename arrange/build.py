@@ -247,9 +247,10 @@ def _in_project(err: ArrangeError, project: Project, table: str) -> ArrangeError
 def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
                    notes: list[str] | None = None,
                    layers: tuple[VoicedLayer, ...] = (),
-                   rhythm: RhythmSection | None = None) -> dict[str, bytes]:
+                   rhythm: RhythmSection | None = None, png: bool = True) -> dict[str, bytes]:
     """Every asked file as bytes, in memory, before anything is written.  One-line
-    notices (audio skipped, say) are appended to ``notes``."""
+    notices (audio skipped, say) are appended to ``notes``.  ``png=False`` leaves the
+    preview's PNG to the caller (``--vary`` draws each distinct picture once)."""
     files: dict[str, bytes] = {}
     slug = project.slug
     out = project.output
@@ -275,9 +276,9 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
 
             svg = svg_bytes(xml, notes)
             files[f"{slug}.svg"] = svg
-            if have_png():
+            if png and have_png():
                 files[f"{slug}.png"] = png_bytes(svg)
-            elif notes is not None:
+            elif png and notes is not None:
                 notes.append("preview: PNG skipped, resvg-py is not installed (pip install resvg-py)")
         if pdf:
             from arrange.writers.pdf import pdf_bytes
@@ -402,9 +403,9 @@ def default_style(groove: str, tempo: float) -> str:
 def render_project(project: Project, formats: tuple[str, ...] | None = None,
                    notes: list[str] | None = None,
                    progress: Callable[[str], None] | None = None,
-                   ) -> tuple[Voiced, tuple[VoicedLayer, ...], dict[str, bytes]]:
+                   png: bool = True) -> tuple[Voiced, tuple[VoicedLayer, ...], dict[str, bytes]]:
     """Every stage, then every asked file as bytes; ``progress`` hears "voicing" and
-    "writing" as the work moves on."""
+    "writing" as the work moves on (``png``: as :func:`render_outputs`)."""
     if progress is not None:
         progress("voicing")
     voiced = run_pipeline(project)
@@ -412,7 +413,7 @@ def render_project(project: Project, formats: tuple[str, ...] | None = None,
     rhythm = run_rhythm_section(project, voiced)
     if progress is not None:
         progress("writing")
-    files = render_outputs(project, voiced, formats or project.output.formats, notes, layers, rhythm)
+    files = render_outputs(project, voiced, formats or project.output.formats, notes, layers, rhythm, png=png)
     return voiced, layers, files
 
 

@@ -205,15 +205,21 @@ _Rendered = tuple[tuple[type, str, str | None, str | None] | None, dict[str, Any
 
 def _render_one(i: int) -> _Rendered:
     """Combination ``i`` of :data:`_JOBS` built in memory: (error or None, its
-    ``variants.md`` row, its files)."""
+    ``variants.md`` row, its files, the preview's PNG left out: :func:`_add_pngs`)."""
     from arrange.build import render_project
 
     var, formats = _JOBS[0][i], _JOBS[1]
     try:
-        voiced, layers, files = render_project(var.project, formats)
+        voiced, layers, files = render_project(var.project, formats, png=False)
     except ArrangeError as err:
         return (type(err), err.what, err.where, err.accepted), {}, {}
     return None, _row(var, voiced, layers, files), files
+
+
+def _png_of(svg: bytes) -> bytes:
+    from arrange.writers.preview import png_bytes
+
+    return png_bytes(svg)
 
 
 def _processors() -> int:
@@ -230,7 +236,8 @@ def _render_all(variants: list[Variant], formats: tuple[str, ...] | None) -> lis
     and most of each one's time is its own preview (verovio's layout and the PNG), so
     where the machine has more than one processor the combinations are shared among
     forked worker processes (the results, rows and file bytes, come back in order);
-    elsewhere, or where a process cannot be forked, one after another."""
+    elsewhere, or where a process cannot be forked, one after another.  The PNGs are
+    drawn last, once per distinct picture (:func:`_add_pngs`)."""
     global _JOBS
     _JOBS = (variants, formats)
     workers = min(len(variants), _processors())
@@ -256,12 +263,46 @@ def _render_all(variants: list[Variant], formats: tuple[str, ...] | None) -> lis
                 # parent's to handle: the workers ignore the one and die of the other)
                 try:
                     with context.Pool(workers, initializer=_worker_signals) as pool:
-                        return pool.map(_render_one, range(len(variants)), chunksize=1)
+                        rendered = pool.map(_render_one, range(len(variants)), chunksize=1)
+                        return _add_pngs(variants, rendered, lambda svgs: pool.map(_png_of, svgs, chunksize=1))
                 finally:
                     gc.unfreeze()
-        return [_render_one(i) for i in range(len(variants))]
+        rendered = [_render_one(i) for i in range(len(variants))]
+        return _add_pngs(variants, rendered, lambda svgs: [_png_of(s) for s in svgs])
     finally:
         _JOBS = ([], None)
+
+
+def _add_pngs(variants: list[Variant], rendered: list[_Rendered],
+              draw: Callable[[list[bytes]], list[bytes]]) -> list[_Rendered]:
+    """Each combination's preview PNG beside its SVG, as a build of it alone writes it,
+    and its row's picture.  Combinations that differ only where the score does not show
+    (a swing ratio, the MIDI's humanizing) have the same SVG, byte for byte, so the same
+    PNG: each distinct SVG is drawn once (``draw``: SVGs -> PNGs, in order)."""
+    from arrange.writers.preview import have_png
+
+    pictures: dict[bytes, int] = {}
+    if have_png():
+        for var, (error, _row_data, files) in zip(variants, rendered, strict=True):
+            svg = files.get(f"{var.project.slug}.svg")
+            if error is None and svg is not None:
+                pictures.setdefault(svg, len(pictures))
+    pngs = draw(list(pictures)) if pictures else []
+    out: list[_Rendered] = []
+    for var, (error, row, files) in zip(variants, rendered, strict=True):
+        slug = var.project.slug
+        svg = files.get(f"{slug}.svg")
+        if svg is not None and svg in pictures:
+            placed: dict[str, bytes] = {}
+            for key, value in files.items():       # the PNG right after its SVG, as a build writes them
+                placed[key] = value
+                if key == f"{slug}.svg":
+                    placed[f"{slug}.png"] = pngs[pictures[svg]]
+            files = placed
+        if error is None:
+            row = {**row, "picture": _picture(slug, files)}
+        out.append((error, row, files))
+    return out
 
 
 def _preload(formats: tuple[str, ...]) -> None:
@@ -304,12 +345,15 @@ def _row(var: Variant, voiced: Any, layers: Any, files: dict[str, bytes]) -> dic
                 if pitch is not None and (low is None or pitch < low):
                     low, part = pitch, vl.layer.section.parts[k].name
     slug = var.project.slug
-    picture = next((f"{slug}.{ext}" for ext in ("png", "svg") if f"{slug}.{ext}" in files), None)
     score = f"{slug}.musicxml" if f"{slug}.musicxml" in files else None
     return {"name": var.name, "folder": var.folder, "warnings": warnings,
             "span": f"{pitch_name(lo)}-{pitch_name(hi)} ({hi - lo} semitones)",
             "lowest": f"{pitch_name(low)} ({part})" if low is not None else "-",
-            "picture": picture, "score": score}
+            "picture": _picture(slug, files), "score": score}
+
+
+def _picture(slug: str, files: dict[str, bytes]) -> str | None:
+    return next((f"{slug}.{ext}" for ext in ("png", "svg") if f"{slug}.{ext}" in files), None)
 
 
 def variants_markdown(source: str, varies: list[Vary], rows: list[dict[str, Any]]) -> bytes:

@@ -134,3 +134,45 @@ def test_varying_a_swing_project_to_latin_drops_the_swing_ratio(tmp_path: Path) 
         beat = mf.ticks_per_beat
         offs = [x % beat for x in ons if x % beat]
         assert offs and all(abs(o - expect * beat) <= 1 for o in offs), (name, offs[:4])
+
+
+def test_combinations_that_draw_alike_share_one_picture(tmp_path: Path) -> None:
+    """A swing ratio changes the playback, not the page (swing is written as straight
+    eighths, common practice), so combinations that differ only in it draw the same
+    picture: ``--vary`` draws each distinct one once.  Judged by the files: every folder's
+    preview is byte for byte what a build of that combination alone writes (PNG signature
+    and image size from the IHDR chunk, ISO/IEC 15948), the two swing ratios give one
+    picture, the two voicings two pictures, and the scores (MusicXML ``<swing>``) differ."""
+    import struct
+
+    text = BASIC.replace("[harmony]", '[rhythm]\ngroove = "swing"\nswing = 0.6\n\n[harmony]')
+    proj = write_project(tmp_path, text)
+    out = tmp_path / "out"
+    r = run_cli("build", str(proj), "--vary", "swing=0.6,0.66", "--vary", "voicing=close,drop2",
+                "-o", str(out), "--formats", "musicxml,preview")
+    assert r.exit_code == 0, r.output
+    pngs: dict[tuple[str, str], bytes] = {}
+    for swing in ("0.6", "0.66"):
+        for voicing in ("close", "drop2"):
+            alone = tmp_path / f"alone-{swing}-{voicing}"
+            r = run_cli("build", str(proj), "--vary", f"swing={swing}", "--vary", f"voicing={voicing}",
+                        "-o", str(alone), "--formats", "musicxml,preview")
+            assert r.exit_code == 0, r.output
+            (folder,) = [p for p in alone.iterdir() if p.is_dir()]
+            varied = out / folder.name
+            for ext in ("svg", "png", "musicxml"):
+                assert (varied / f"{SLUG}.{ext}").read_bytes() == (folder / f"{SLUG}.{ext}").read_bytes()
+            png = (varied / f"{SLUG}.png").read_bytes()
+            assert png[:8] == b"\x89PNG\r\n\x1a\n" and png[12:16] == b"IHDR"
+            width, height = struct.unpack(">II", png[16:24])
+            svg = (varied / f"{SLUG}.svg").read_text()
+            head = svg[svg.index("<svg"):svg.index(">", svg.index("<svg"))]
+            assert f'width="{width}"' in head and f'height="{height}"' in head
+            pngs[(swing, voicing)] = png
+    assert pngs[("0.6", "close")] == pngs[("0.66", "close")]
+    assert pngs[("0.6", "drop2")] == pngs[("0.66", "drop2")]
+    assert pngs[("0.6", "close")] != pngs[("0.6", "drop2")]
+    scores = {(out / d.name / f"{SLUG}.musicxml").read_bytes() for d in out.iterdir() if d.is_dir()}
+    assert len(scores) == 4
+    rows = _rows((out / "variants.md").read_text())
+    assert all(row[5].endswith(f"/{SLUG}.png)") for row in rows)
