@@ -72,7 +72,7 @@ def written_notes(project: Project) -> tuple[int, int]:
         from arrange.form import lead_notes_estimate
 
         notes = lead_notes_estimate(project.passages)
-    written = notes * len(project.section.parts)
+    written = notes * max(len(s.parts) for s in _sections(project))
     if not project.layers or written > MAX_SCORE_NOTES:
         return notes, written
     try:
@@ -102,13 +102,18 @@ def written_notes(project: Project) -> tuple[int, int]:
     return notes, written
 
 
+def _sections(project: Project) -> list[Section]:
+    """The sections that voice the lead: the project's, and a form's passages' own."""
+    return [project.section] + [p.section for p in project.passages if p.section is not None]
+
+
 def check_size(project: Project, *, where: str | None = None, already: int = 0) -> int:
     """Refuse, before any work starts, a passage too big to write in reasonable time;
     ``already`` counts the notes of the other combinations of a ``--vary`` build."""
     notes, written = written_notes(project)
     if written + already > MAX_SCORE_NOTES:
         name = project.path.name if project.path else "project"
-        parts = len(project.section.parts) + sum(len(la.section.parts) for la in project.layers)
+        parts = max(len(s.parts) for s in _sections(project)) + sum(len(la.section.parts) for la in project.layers)
         what = (f"{notes} lead notes for {parts} parts"
                 + (" (layers included)" if project.layers else "") + f" make {written:,} written notes")
         if already:
@@ -126,8 +131,11 @@ def run_pipeline(project: Project) -> Voiced:
     if project.passages:
         from arrange.form import run_form
 
+        from arrange.staffing import check_players, voice_form
+
+        check_players(project)
         harmonized, voicing_options = run_form(project)
-        return _voice(harmonized, project.section, voicing_options)
+        return voice_form(harmonized, project, voicing_options, _voice)
     if project.melody is not None:
         from arrange.rhythm.melody import lay_melody
 
@@ -235,8 +243,10 @@ def run_layers(project: Project, voiced: Voiced) -> tuple[VoicedLayer, ...]:
     layers = build_layers(voiced.harmonized, voiced, project.layers)
     if project.passages and layers:
         from arrange.form import mute_layers
+        from arrange.staffing import check_layer_overlaps
 
         layers = mute_layers(layers, voiced.harmonized, project.passages)
+        check_layer_overlaps(voiced, layers, project)
     return layers
 
 
@@ -298,7 +308,7 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
 
         parts_dir = f"{slug}-parts"        # one folder, replaced as a whole (writers.files)
         named: list[tuple[str, bytes]] = [(voiced.section.parts[k].name, part_xml)
-                                          for k, part_xml in part_bytes(voiced, info).items()]
+                                          for k, part_xml in part_bytes(voiced, info, layers).items()]
         if layers:
             from arrange.writers.xml_layers import layer_part_bytes
 

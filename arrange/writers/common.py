@@ -4,7 +4,8 @@ from __future__ import annotations
 from fractions import Fraction
 from typing import Any
 
-__all__ = ["json_number", "bar_of_event", "channel_for", "spelled_parts", "written_parts", "tied_on", "bass_names"]
+__all__ = ["json_number", "bar_of_event", "channel_for", "spelled_parts", "written_parts", "tied_on", "bass_names",
+           "shared_staves"]
 
 
 def json_number(q: Fraction) -> float | int:
@@ -23,10 +24,22 @@ def channel_for(part_index: int) -> int:
     return ch % 16
 
 
+def shared_staves(voiced: Any, layers: tuple[Any, ...]) -> dict[tuple[int, int], int]:
+    """(layer, part) -> the staff of a form's section that the same player reads (the same
+    part name and instrument), in a form whose passages have their own sections
+    (``voiced.staffing``): the player plays the layer where his section rests, on one staff
+    (``staffing.check_players`` refuses a player the two would have play at once)."""
+    if voiced.staffing is None or not layers:
+        return {}
+    staff = {(p.name, p.instrument.key): k for k, p in enumerate(voiced.section.parts)}
+    return {(li, k): staff[(p.name, p.instrument.key)] for li, vl in enumerate(layers)
+            for k, p in enumerate(vl.layer.section.parts) if (p.name, p.instrument.key) in staff}
+
+
 def tied_on(voiced: Any, i: int, k: int) -> bool:
     """Part ``k`` holds its pitch, tied, into event ``i``: the lead note was cut there at a
     chord change (``harmony.split``) and the part keeps the pitch it had (common practice)."""
-    return bool(voiced.events[i].event.note.tied) and i > 0 and \
+    return bool(voiced.events[i].event.note.tied) and i > 0 and voiced.events[i].pitches[k] is not None and \
         voiced.events[i - 1].pitches[k] == voiced.events[i].pitches[k]
 
 
@@ -56,6 +69,9 @@ def spelled_parts(voiced: Any, layers: tuple[Any, ...] = ()) -> tuple[tuple[tupl
         for i, ve in enumerate(voiced.events):
             n = ve.event.note
             end = n.onset + n.duration
+            if voice[i] is None:                # a form's staff resting while another section plays
+                joins.append(-1)
+                continue
             if i and tied_on(voiced, i, k):     # a tie is one note: one name, one entry for agree
                 o, _e, m, nm = notes[joins[-1]]
                 notes[joins[-1]] = (o, end, m, nm)
@@ -80,7 +96,7 @@ def spelled_parts(voiced: Any, layers: tuple[Any, ...] = ()) -> tuple[tuple[tupl
                 notes.append((n.onset, n.onset + n.duration, here, name))
                 slots.append((li, k, i))
     agreed = agree(notes)
-    names = [agreed[j] for j in joins]
+    names = [agreed[j] if j >= 0 else None for j in joins]
     n_ev = len(voiced.events)
     lead = tuple(tuple(names[k * n_ev:(k + 1) * n_ev]) for k in range(len(voiced.section.parts)))
     rest = agreed[n_lead:]
@@ -112,7 +128,8 @@ def bass_names(voiced: Any, layers: tuple[Any, ...], bass: Any) -> tuple[str, ..
     for k, names in enumerate(lead):
         for i, ve in enumerate(voiced.events):
             n = ve.event.note
-            notes.append((n.onset, n.onset + n.duration, ve.pitches[k], names[i]))
+            if ve.pitches[k] is not None:
+                notes.append((n.onset, n.onset + n.duration, ve.pitches[k], names[i]))
     for vl, grid in zip(layers, lay, strict=True):
         for k, layer_names in enumerate(grid):
             for i, ln in enumerate(vl.notes):
@@ -179,6 +196,8 @@ def written_parts(voiced: Any, layers: tuple[Any, ...] = (), concert: bool = Fal
         moved = 0 if concert else part.instrument.transposition
         for i, ve in enumerate(voiced.events):
             n = ve.event.note
+            if ve.pitches[k] is None:             # a form's staff resting while another section plays
+                continue
             if i and tied_on(voiced, i, k):       # one entry per tie: it keeps its written name
                 first = tied_to.get((k, i - 1), i - 1)
                 tied_to[(k, i)] = first
