@@ -6,6 +6,7 @@ from __future__ import annotations
 from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from arrange import __version__
 from arrange.chain.core import build_chain, chain_length
@@ -14,10 +15,12 @@ from arrange.harmony.events import Harmonized
 from arrange.harmony.harmonizer import harmonize
 from arrange.project import Project
 from arrange.rhythm.line import lay_rhythm
-from arrange.rhythm_section import RhythmSection, build_rhythm_section
-from arrange.voicing.layers import VoicedLayer, build_layers
 from arrange.voicing.sections import Section
 from arrange.voicing.voicer import Voiced, VoicingOptions, voice
+
+if TYPE_CHECKING:        # the rhythm section and the layers are imported when a project has them
+    from arrange.rhythm_section import RhythmSection
+    from arrange.voicing.layers import VoicedLayer
 
 __all__ = ["check_size", "written_notes", "MAX_SCORE_NOTES", "run_pipeline", "run_layers",
            "run_rhythm_section", "render_outputs", "render_project", "write_outputs", "BuildResult",
@@ -215,11 +218,19 @@ def named_as_sounding(voiced: Voiced) -> Voiced:
 
 def run_rhythm_section(project: Project, voiced: Voiced) -> RhythmSection | None:
     """The project's written rhythm section ([rhythm_section] parts), or None."""
+    if not project.rhythm_section.parts:
+        return None
+    from arrange.rhythm_section import build_rhythm_section
+
     return build_rhythm_section(voiced.harmonized, project.rhythm_section)
 
 
 def run_layers(project: Project, voiced: Voiced) -> tuple[VoicedLayer, ...]:
     """The project's [[layers]], voiced under the lead section."""
+    if not project.layers:
+        return ()
+    from arrange.voicing.layers import build_layers
+
     layers = build_layers(voiced.harmonized, voiced, project.layers)
     if project.passages and layers:
         from arrange.form import mute_layers
@@ -249,18 +260,21 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
     info = None
     pdf = "pdf" in formats
     if "musicxml" in formats or "preview" in formats or out.parts or pdf:
-        from arrange.writers.musicxml import ScoreInfo, musicxml_bytes
+        from arrange.writers.musicxml import ScoreInfo, musicxml_bytes, score_tree
 
         info = ScoreInfo(project.title, project.tempo, _style(project), dynamics=out.dynamics,
                          analysis=out.analysis, concert=out.concert_score, version=__version__,
                          signatures=signature_plan(project, voiced.harmonized))
     if info is not None and ("musicxml" in formats or "preview" in formats or pdf):
-        xml = musicxml_bytes(voiced, info, layers)   # the full score only when it is written or drawn
-        if rhythm is not None:
-            from arrange.writers.xml_rhythm import add_rhythm_parts
+        # the full score only when it is written or drawn
+        if rhythm is not None and rhythm.parts:
+            from arrange.writers.xml_rhythm import rhythm_score_bytes
 
-            xml = add_rhythm_parts(xml, rhythm, _signed(voiced.harmonized, info.signatures),
-                                   len(voiced.section.parts), bass_names=_bass_names(voiced, layers, rhythm))
+            xml = rhythm_score_bytes(score_tree(voiced, info, layers), rhythm,
+                                     _signed(voiced.harmonized, info.signatures), len(voiced.section.parts),
+                                     bass_names=_bass_names(voiced, layers, rhythm))
+        else:
+            xml = musicxml_bytes(voiced, info, layers)
         if "musicxml" in formats:
             files[f"{slug}.musicxml"] = xml
         if "preview" in formats:

@@ -344,11 +344,11 @@ def sections(as_json: bool) -> None:
 def _limits_text() -> str:
     """The low-interval limits every section is voiced with (voicing_rules/limits.toml)."""
     from arrange.theory.pitch import pitch_name
-    from arrange.voicing.rules import INTERVAL_NAMES, low_interval_limits
+    from arrange.voicing.sections import INTERVAL_NAMES, low_interval_table
 
     lines = ["low-interval limits: the lowest note the lower of two adjacent voices takes "
              "(sounding)"]
-    for semis, low in enumerate(low_interval_limits().tolist()):
+    for semis, low in enumerate(low_interval_table()):
         if low >= 0 and semis < len(INTERVAL_NAMES):
             lines.append(f"    {INTERVAL_NAMES[semis]:<18} {pitch_name(low)} and above")
     return "\n".join(lines)

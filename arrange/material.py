@@ -52,7 +52,9 @@ def read_melody(t: Table, base: Path | None, bar: Fraction) -> Melody:
         path = Path(name) if Path(name).is_absolute() else (base or Path.cwd()) / name
         bars = parse_bars(t.raw("bars"), where=t.at("bars")) if t.has("bars") else None
         part = t.integer("part", 1, low=1, high=64) if t.has("part") else None
-        return read_melody_file(path, where=t.at("melody"), part=part, bars=bars)
+        from arrange.writers.cache import user_store
+
+        return read_melody_file(path, where=t.at("melody"), part=part, bars=bars, store=user_store())
     for key in ("bars", "part"):
         if t.has(key):
             raise t.error(key, f"{key!r} is given but the melody is not a file",

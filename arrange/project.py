@@ -10,20 +10,22 @@ import re
 import tomllib
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from arrange.checked import MAX_DEPTH, bad_character, check_data, read_regular
 from arrange.errors import ArrangeError, ProjectError
 from arrange.harmony import harmonizer as harmony
-from arrange.inputs.melody_file import Melody
 from arrange.rhythm import line as rhythm
 from arrange.rhythm_section.options import RhythmSectionOptions
 from arrange.rhythm_section.options import read_options as read_rhythm_section
 from arrange.tables import Table
 from arrange.theory.pitch import parse_pitch, parse_pitches
 from arrange.voicing import voicer as voicing
-from arrange.voicing.layers import Layer, read_layers
 from arrange.voicing.sections import Section, section_from_table
+
+if TYPE_CHECKING:      # read when a project has them (a melody file; layers)
+    from arrange.inputs.melody_file import Melody
+    from arrange.voicing.layers import Layer
 
 __all__ = ["Project", "ChainSpec", "OutputSpec", "load_project", "project_from_data", "slugify",
            "FORMATS", "DEFAULT_FORMATS", "PAPERS", "SIGNATURES"]
@@ -135,6 +137,15 @@ def _chain(t: Table, base: Path | None = None) -> ChainSpec:
     return ChainSpec(motif, statements, overlap, lead_range)
 
 
+def _layers(raw: object, where: str) -> tuple[Layer, ...]:
+    """``[[layers]]`` (the layer stage is imported only for a project that has them)."""
+    if raw is None:
+        return ()
+    from arrange.voicing.layers import read_layers
+
+    return read_layers(raw, where)
+
+
 def _output(t: Table) -> OutputSpec:
     raw = t.raw("formats", list(DEFAULT_FORMATS))
     if not isinstance(raw, list) or not raw:
@@ -205,7 +216,7 @@ def project_from_data(data: dict[str, object], where: str, path: Path | None = N
     voicing_opts = voicing.read_options(sec_table)
     sec_table.finish()
     output = _output(top.sub("output"))
-    layers = read_layers(top.raw("layers", None), where)
+    layers = _layers(top.raw("layers", None), where)
     rs_table = top.sub("rhythm_section")
     if output.rhythm_section and rs_table.has("parts"):
         raise ProjectError("both output.rhythm_section and rhythm_section.parts are given",

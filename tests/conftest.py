@@ -24,6 +24,19 @@ ROOT = Path(__file__).resolve().parent.parent
 DEMOS = ROOT / "demo_projects"
 
 
+@pytest.fixture(scope="session", autouse=True)
+def _private_cache(tmp_path_factory: pytest.TempPathFactory):
+    """The suite's builds (in process and in children) keep parsed melody files in a
+    cache folder of their own, never the user's (``writers.cache``)."""
+    old = os.environ.get("ARRANGE_CACHE_DIR")
+    os.environ["ARRANGE_CACHE_DIR"] = str(tmp_path_factory.mktemp("arrange-cache"))
+    yield
+    if old is None:
+        os.environ.pop("ARRANGE_CACHE_DIR", None)
+    else:
+        os.environ["ARRANGE_CACHE_DIR"] = old
+
+
 @pytest.fixture(scope="session")
 def musicxml_schema():
     import musicxml

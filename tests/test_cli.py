@@ -66,6 +66,48 @@ def test_help_and_chain_do_not_import_music21_or_numpy() -> None:
     code2 = code.replace("'chain','C4 E4 D4 G4'", "'--help'")
     r2 = subprocess.run([sys.executable, "-c", code2], capture_output=True, text=True)
     assert r2.stderr.strip().splitlines()[-1] == "False False"
+    code3 = code.replace("'chain','C4 E4 D4 G4'", "'sections'")
+    r3 = subprocess.run([sys.executable, "-c", code3], capture_output=True, text=True)
+    assert r3.stderr.strip().splitlines()[-1] == "False False"
+
+
+# what a score-and-MIDI build of a project without layers, rhythm section or melody file
+# needs no module of: the preview, PDF and report writers and their renderers, music21, the
+# designer, the melody reader, the layer stage and its pad search, the rhythm section's parts
+NOT_FOR_SCORE_AND_MIDI = ("music21", "verovio", "resvg_py", "arrange.writers.preview", "arrange.writers.pdf",
+                          "arrange.writers.report", "arrange.chain.design", "arrange.chain.spec",
+                          "arrange.inputs.melody_file", "arrange.voicing.layers", "arrange.voicing.pads",
+                          "arrange.rhythm_section.section", "arrange.rhythm_section.values",
+                          "arrange.writers.xml_rhythm", "arrange.writers.xml_layers", "secrets")
+
+
+def test_score_and_midi_build_imports_only_what_it_needs(tmp_path: Path) -> None:
+    """``--formats musicxml,midi`` imports none of NOT_FOR_SCORE_AND_MIDI (``sys.modules``, the
+    interpreter's record of imports), and its files are read back by mido and ElementTree;
+    the same build with a rhythm section does import the rhythm section's parts (so the
+    check can see an import)."""
+    import mido
+
+    code = ("import sys, json\nfrom arrange.cli import main\n"
+            "try:\n    main(['build', sys.argv[1], '-o', sys.argv[2], '--formats', 'musicxml,midi'])\n"
+            "except SystemExit as e:\n    assert not e.code, e.code\n"
+            "print(json.dumps(sorted(sys.modules)))\n")
+    for name, text, want in (("plain", BASIC, set()),
+                             ("rs", BASIC + '\n[rhythm_section]\nparts = ["bass", "drums"]\n',
+                              {"arrange.rhythm_section.section", "arrange.rhythm_section.values",
+                               "arrange.writers.xml_rhythm"})):
+        proj = write_project(tmp_path, text, f"{name}.toml")
+        r = subprocess.run([sys.executable, "-c", code, str(proj), str(tmp_path / name)], capture_output=True,
+                           text=True, cwd=Path(__file__).resolve().parent.parent, timeout=300)
+        assert r.returncode == 0, r.stderr[-2000:]
+        loaded = set(json.loads(r.stdout.strip().splitlines()[-1]))
+        assert loaded & set(NOT_FOR_SCORE_AND_MIDI) == want, name
+        mid = mido.MidiFile(str(next((tmp_path / name).glob("*.mid"))))
+        assert sum(1 for t in mid.tracks for m in t if m.type == "note_on" and m.velocity) > 0
+        import xml.etree.ElementTree as ET
+
+        root = ET.parse(next((tmp_path / name).glob("*.musicxml"))).getroot()
+        assert root.tag == "score-partwise" and root.findall("part")
 
 
 BAD_PROJECTS = [

@@ -413,3 +413,102 @@ def test_compact_text_breath_mark_starts_a_phrase(tmp_path: Path) -> None:
     assert r.exit_code == 0, r.output
     report = json.loads((tmp_path / "out" / "phrase-test.report.json").read_text())
     assert [e["phrase"] for e in report["events"]] == [1, 1, 1, 1, 2, 2, 3]
+
+
+def _build_in_child(project: Path, out: Path, env: dict[str, str]) -> tuple[int, bool]:
+    """(exit code, music21 imported) of a build in a fresh interpreter."""
+    import os
+    import subprocess
+    import sys
+
+    from conftest import ROOT
+
+    code = ("import sys, contextlib\nfrom arrange.cli import main\n"
+            f"sys.argv = ['arrange', 'build', {str(project)!r}, '-o', {str(out)!r}]\n"
+            "with contextlib.suppress(SystemExit):\n    main()\n"
+            "print('music21' in sys.modules, file=sys.stderr)\n")
+    r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=300,
+                       env={**os.environ, **env, "PYTHONPATH": str(ROOT)})
+    return r.returncode, r.stderr.strip().splitlines()[-1] == "True"
+
+
+def test_melody_cache_gives_the_same_files_without_music21(tmp_path: Path) -> None:
+    """A melody file read before is taken from the user's cache folder (``writers.cache``):
+    the second build writes the same files byte for byte without importing music21
+    (``sys.modules``, the interpreter's record of imports), and music21 reads the second
+    build's lead part back to the corpus tune note for note; ``ARRANGE_NO_CACHE=1`` neither
+    reads nor writes the cache and gives the same files."""
+    from music21 import converter, corpus
+
+    (tmp_path / "tune.abc").write_text(_corpus_tune(TUNE), encoding="utf-8")
+    p = write_project(tmp_path, MELODY_PROJECT)
+    cache = tmp_path / "cache"
+    env = {"ARRANGE_CACHE_DIR": str(cache), "ARRANGE_NO_CACHE": ""}
+    code, m21 = _build_in_child(p, tmp_path / "cold", env)
+    assert code == 0 and m21
+    entries = sorted(cache.glob("*.json"))
+    assert len(entries) == 1
+    code, m21 = _build_in_child(p, tmp_path / "warm", env)
+    assert code == 0 and not m21
+    code, m21 = _build_in_child(p, tmp_path / "off", {**env, "ARRANGE_CACHE_DIR": str(tmp_path / "c2"),
+                                                      "ARRANGE_NO_CACHE": "1"})
+    assert code == 0 and m21 and not (tmp_path / "c2").exists()
+    cold = snapshot(tmp_path / "cold")
+    assert cold and snapshot(tmp_path / "warm") == cold and snapshot(tmp_path / "off") == cold
+    source = corpus.parse("nottingham-dataset/reelsa-c.abc", number=TUNE)
+    ours = converter.parse(str(tmp_path / "warm" / "reel-soli.musicxml"))
+    assert _lead(ours.parts[0].toSoundingPitch()) == _lead(source.parts[0])
+
+
+@pytest.mark.parametrize("damage", [b"", b'{"format": 1, "lead": [', b"\xff\xfe not json",
+                                    b'{"format": 1, "meter": "4/4", "key": null, "bar": [4, 1], '
+                                    b'"pickup": [0, 1], "lead": [[0, 1, 1, 1, 300]], "marks": [], "chords": []}',
+                                    b'[1, 2, 3]'])
+def test_melody_cache_damaged_entry_is_parsed_again(tmp_path: Path, monkeypatch: pytest.MonkeyPatch,
+                                                    damage: bytes) -> None:
+    """A damaged or foreign cache entry (empty, cut short, not UTF-8, a pitch outside MIDI,
+    another shape) is ignored: the file is parsed again, the files are the same as a build
+    without the cache, and the entry is written whole again."""
+    (tmp_path / "tune.abc").write_text(_corpus_tune(TUNE), encoding="utf-8")
+    p = write_project(tmp_path, MELODY_PROJECT)
+    monkeypatch.setenv("ARRANGE_CACHE_DIR", str(tmp_path / "cache"))
+    from arrange.inputs import melody_file
+
+    melody_file._PARSED.clear()                 # each build as a new process: nothing kept in memory
+    assert run_cli("build", str(p), "-o", str(tmp_path / "a")).exit_code == 0
+    (entry,) = (tmp_path / "cache").glob("*.json")
+    good = entry.read_bytes()
+    entry.write_bytes(damage)
+    melody_file._PARSED.clear()
+    r = run_cli("build", str(p), "-o", str(tmp_path / "b"))
+    assert r.exit_code == 0, r.output
+    assert snapshot(tmp_path / "b") == snapshot(tmp_path / "a")
+    assert entry.read_bytes() == good
+    assert not [q for q in (tmp_path / "cache").iterdir() if q.name.endswith(".tmp")]
+
+
+def test_melody_cache_entry_follows_the_file(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    """A changed melody file is a new entry: the build reads the file as it is now (music21
+    reads our score's lead back to the changed tune)."""
+    from music21 import converter
+
+    tune = _corpus_tune(TUNE)
+    (tmp_path / "tune.abc").write_text(tune, encoding="utf-8")
+    p = write_project(tmp_path, MELODY_PROJECT)
+    monkeypatch.setenv("ARRANGE_CACHE_DIR", str(tmp_path / "cache"))
+    from arrange.inputs import melody_file
+
+    melody_file._PARSED.clear()                 # as a new process: nothing kept in memory
+    assert run_cli("build", str(p), "-o", str(tmp_path / "a")).exit_code == 0
+    changed = tune.replace("K:D", "K:D\nI:changed", 1)
+    header, _, body = changed.partition("\nK:D")
+    changed = header + "\nK:D" + body.replace("A", "B", 1)
+    assert changed != tune
+    (tmp_path / "tune.abc").write_text(changed, encoding="utf-8")
+    assert run_cli("build", str(p), "-o", str(tmp_path / "b")).exit_code == 0
+    assert len(list((tmp_path / "cache").glob("*.json"))) == 2
+    from music21 import converter as c2
+
+    want = _lead(c2.parseData(changed, format="abc").parts[0])
+    got = _lead(converter.parse(str(tmp_path / "b" / "reel-soli.musicxml")).parts[0].toSoundingPitch())
+    assert got == want

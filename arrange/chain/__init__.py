@@ -14,12 +14,12 @@ from __future__ import annotations
 from typing import Any
 
 from arrange.chain.core import Chain, Statement, build_chain, chain_length
-from arrange.chain.spec import DesignSpec, make_spec, parse_steps
 
 __all__ = ["Chain", "Statement", "build_chain", "chain_length", "DesignSpec", "make_spec", "parse_steps",
            "search", "check_space", "Design", "Found"]
 
 _LAZY = {"search", "check_space", "Design", "Found"}
+_SPEC = {"DesignSpec", "make_spec", "parse_steps"}     # the designer's spec: not needed to build a chain
 
 
 def __getattr__(name: str) -> Any:
@@ -27,4 +27,8 @@ def __getattr__(name: str) -> Any:
         from arrange.chain import design
 
         return getattr(design, name)
+    if name in _SPEC:
+        from arrange.chain import spec
+
+        return getattr(spec, name)
     raise AttributeError(name)

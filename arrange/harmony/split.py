@@ -39,17 +39,13 @@ def _perf(line: Line, t: Fraction) -> Fraction:
 
 
 def _cuts(note: Note, fw: tuple[FrameworkChord, ...], key_of,  # noqa: ANN001
-          onsets: list[Fraction] | None = None) -> list[Fraction]:
+          onsets: list[Fraction]) -> list[Fraction]:
+    """The cuts of one note: ``fw`` in time order, ``onsets`` their onsets (only the chords
+    near the note are looked at)."""
     end = note.onset + note.duration
     at = note.onset + (_HALF if note.anticipated else 0)
-    if onsets is None:                          # framework chords in any order: scan them all
-        lo, hi, current = 0, len(fw), None
-        for f in fw:
-            if f.onset <= at:
-                current = f
-    else:                                       # in time order: only the chords near the note
-        lo, hi = bisect_right(onsets, at), bisect_left(onsets, end)
-        current = fw[lo - 1] if lo else None
+    lo, hi = bisect_right(onsets, at), bisect_left(onsets, end)
+    current = fw[lo - 1] if lo else None
     out = []
     for f in fw[lo:hi]:
         if not note.onset < f.onset < end or f.onset <= at:
@@ -67,9 +63,8 @@ def split_held(line: Line, fw: tuple[FrameworkChord, ...], key_of) -> Line:  # n
     move with the notes they name; a line with nothing to cut is returned as it is."""
     pieces: list[Note] = []
     first_of: list[int] = []          # old index -> new index of its first piece
-    onsets: list[Fraction] | None = [f.onset for f in fw]
-    if any(b < a for a, b in zip(onsets, onsets[1:])):
-        onsets = None                 # not in time order: each note scans every chord
+    fw = tuple(sorted(fw, key=lambda f: f.onset))    # in time order (stable: one onset keeps its order)
+    onsets = [f.onset for f in fw]
     for note in line.notes:
         first_of.append(len(pieces))
         cuts = _cuts(note, fw, key_of, onsets)
@@ -99,12 +94,12 @@ def split_held(line: Line, fw: tuple[FrameworkChord, ...], key_of) -> Line:  # n
 
 
 def key_lookup(key: Key, changes: tuple[tuple[int, Key], ...], bar_len: Fraction):  # noqa: ANN201
-    """``key_of(t)`` for :func:`split_held`: the key of the bar holding written time ``t``."""
+    """``key_of(t)`` for :func:`split_held`: the key of the bar holding written time ``t``
+    (the last change at or before that bar, found by bisection; ``key`` before any)."""
+    ordered = sorted(changes, key=lambda c: c[0])      # stable: a bar named twice keeps the later
+    firsts = [first for first, _k in ordered]
+
     def key_of(t: Fraction) -> Key:
-        bar = int(t // bar_len) + 1
-        k = key
-        for first, kk in changes:
-            if first <= bar:
-                k = kk
-        return k
+        i = bisect_right(firsts, int(t // bar_len) + 1)
+        return ordered[i - 1][1] if i else key
     return key_of

@@ -21,7 +21,7 @@ import re
 from dataclasses import dataclass
 from fractions import Fraction
 from pathlib import Path
-from typing import Any
+from typing import Any, NamedTuple
 
 from arrange.errors import ProjectError
 
@@ -168,29 +168,134 @@ def parts_with_notes(score: Any) -> list[Any]:
 
 
 def read_melody_file(path: Path, *, where: str, part: int | None = None,
-                     bars: tuple[int, int] | None = None) -> Melody:
+                     bars: tuple[int, int] | None = None, store: Any = None) -> Melody:
     """The melody of ``path``: part ``part`` (1-based among the parts with notes; the first
-    by default), bars ``bars`` (1-based, inclusive)."""
+    by default), bars ``bars`` (1-based, inclusive).
+
+    ``store`` (optional; the build passes the user's cache folder, ``writers.cache``) keeps
+    what the file says (:func:`file_facts`) by the file's bytes, the part asked for, this
+    reader's source and music21's version: a file read before is not parsed again, and
+    music21 is not imported.  Anything wrong with a stored entry means parse again."""
     data = read_file_data(path, where)
-    key = (path.suffix.lower(), hashlib.sha256(data).digest(), part)
-    got = _PARSED.get(key)
-    if got is None:
-        chosen = _sounding_part(data, path, where, part)
-        got = (chosen, tuple(lead_notes(chosen)), tuple(phrase_marks(chosen)))
-        if len(_PARSED) >= _KEEP:               # a form's passages often read one file: keep a few
-            del _PARSED[next(iter(_PARSED))]
-        _PARSED[key] = got
-    chosen, lead, marks = got
-    return _melody(chosen, path, where, bars, lead, marks)
+    digest = hashlib.sha256(data).digest()
+    key = (path.suffix.lower(), digest, part)
+    facts = _PARSED.get(key)
+    name = None
+    if facts is None and store is not None:
+        name = _store_name(key)
+        facts = _decode(store.get(name)) if name is not None else None
+    if facts is None:
+        facts = file_facts(_sounding_part(data, path, where, part), path, where)
+        if store is not None and name is not None:
+            store.put(name, _encode(facts))
+    if len(_PARSED) >= _KEEP and key not in _PARSED:   # a form's passages often read one file: keep a few
+        del _PARSED[next(iter(_PARSED))]
+    _PARSED[key] = facts
+    return _melody(facts, path, where, bars)
 
 
-# parsed parts, with their lead notes and phrase marks, by (suffix, the file's bytes' digest,
-# part): the passages of a form that take their bars from one file parse it once (music21's
-# parse, its sounding-pitch copy and its tie merging are most of the reading); the part is
-# only read afterwards, never changed
-_PARSED: dict[tuple[str, bytes, int | None], tuple[Any, tuple[tuple[Fraction, Fraction, int], ...],
-                                                  tuple[Fraction, ...]]] = {}
+# what a file says (file_facts), by (suffix, the file's bytes' digest, part): the passages of
+# a form that take their bars from one file parse it once (music21's parse, its
+# sounding-pitch copy and its tie merging are most of the reading)
+_PARSED: dict[tuple[str, bytes, int | None], Facts] = {}
 _KEEP = 4
+_FORMAT = 1          # the stored form of Facts (see _encode)
+
+
+class Facts(NamedTuple):
+    """What a melody file's chosen part says, read once by music21 (plain values): the
+    meter as written, the key, the bar's length, the pickup's length, the lead notes
+    (flat offset, duration, pitch), the phrase marks' offsets and the chord symbols
+    (flat offset, our spelling)."""
+    meter: str | None
+    key: str | None
+    bar: Fraction
+    pickup: Fraction
+    lead: tuple[tuple[Fraction, Fraction, int], ...]
+    marks: tuple[Fraction, ...]
+    chords: tuple[tuple[Fraction, str], ...]
+
+
+def file_facts(p: Any, path: Path, where: str) -> Facts:
+    """The plain facts of a music21 part (the one place that reads a parsed part)."""
+    from music21 import harmony, stream
+
+    meter_text, ts, key_text = _meter_and_key(p, path, where)
+    bar = Fraction(ts.barDuration.quarterLength) if ts is not None else Fraction(4)
+    measures = list(p.getElementsByClass(stream.Measure))
+    pickup = Fraction(0)
+    if measures:
+        first = measures[0]
+        content = _grid(first.highestTime)
+        if first.paddingLeft or 0 < content < bar:
+            pickup = content
+    chords = tuple((_grid(cs.offset), chord_text(cs))
+                   for cs in p.flatten().getElementsByClass(harmony.ChordSymbol)
+                   if not isinstance(cs, harmony.NoChord))
+    return Facts(meter_text, key_text, bar, pickup, tuple(lead_notes(p)), tuple(phrase_marks(p)), chords)
+
+
+def _store_name(key: tuple[str, bytes, int | None]) -> str | None:
+    """The stored entry's name: a digest of the file's bytes, the part, this reader's own
+    source and music21's version (None when music21's version cannot be known)."""
+    from importlib.metadata import PackageNotFoundError, version
+
+    try:
+        m21 = version("music21")
+    except PackageNotFoundError:
+        return None
+    try:
+        reader = Path(__file__).read_bytes()
+    except OSError:
+        from arrange import __version__ as reader_bytes
+
+        reader = reader_bytes.encode()
+    h = hashlib.sha256()
+    for piece in (str(_FORMAT).encode(), key[0].encode(), key[1], repr(key[2]).encode(),
+                  hashlib.sha256(reader).digest(), m21.encode()):
+        h.update(len(piece).to_bytes(4, "big") + piece)
+    return "melody-" + h.hexdigest()
+
+
+def _frac(x: Fraction) -> list[int]:
+    return [x.numerator, x.denominator]
+
+
+def _encode(f: Facts) -> dict[str, Any]:
+    """Facts as JSON values (fractions as [numerator, denominator])."""
+    return {"format": _FORMAT, "meter": f.meter, "key": f.key, "bar": _frac(f.bar), "pickup": _frac(f.pickup),
+            "lead": [[*_frac(on), *_frac(d), p] for on, d, p in f.lead],
+            "marks": [_frac(on) for on in f.marks], "chords": [[*_frac(on), text] for on, text in f.chords]}
+
+
+def _decode(obj: Any) -> Facts | None:
+    """Facts from their JSON values; None for anything else (a damaged or foreign entry)."""
+    def frac(n: Any, d: Any) -> Fraction:
+        if type(n) is not int or type(d) is not int or d <= 0:
+            raise ValueError
+        return Fraction(n, d)
+
+    def text(x: Any) -> str | None:
+        if x is not None and type(x) is not str:
+            raise ValueError
+        return x
+
+    try:
+        if not isinstance(obj, dict) or obj.get("format") != _FORMAT:
+            return None
+        lead = tuple((frac(a, b), frac(c, d), p) for a, b, c, d, p in obj["lead"])
+        if not lead or any(type(p) is not int or not 0 <= p <= 127 or d <= 0 for _o, d, p in lead):
+            return None
+        chords = tuple((frac(a, b), t) for a, b, t in obj["chords"])
+        if any(type(t) is not str for _o, t in chords):
+            return None
+        bar = frac(*obj["bar"])
+        if bar <= 0:
+            return None
+        return Facts(text(obj["meter"]), text(obj["key"]), bar, frac(*obj["pickup"]), lead,
+                     tuple(frac(a, b) for a, b in obj["marks"]), chords)
+    except (KeyError, TypeError, ValueError, ZeroDivisionError):
+        return None
 
 
 def _sounding_part(data: bytes, path: Path, where: str, part: int | None) -> Any:
@@ -230,27 +335,12 @@ def _meter_and_key(p: Any, path: Path, where: str) -> tuple[str | None, Any, str
     return (ts.ratioString if ts is not None else None), ts, key_text
 
 
-def _melody(p: Any, path: Path, where: str, bars: tuple[int, int] | None,
-            lead: tuple[tuple[Fraction, Fraction, int], ...] | None = None,
-            marks: tuple[Fraction, ...] | None = None) -> Melody:
-    from music21 import harmony, stream
-
-    meter_text, ts, key_text = _meter_and_key(p, path, where)
-    bar = Fraction(ts.barDuration.quarterLength) if ts is not None else Fraction(4)
-    measures = list(p.getElementsByClass(stream.Measure))
-    pickup = Fraction(0)
-    if measures:
-        first = measures[0]
-        content = _grid(first.highestTime)
-        if first.paddingLeft or 0 < content < bar:
-            pickup = content
-    notes = [(on - pickup, dur, pitch) for on, dur, pitch in (lead_notes(p) if lead is None else lead)]
-    breaks = [on - pickup for on in (phrase_marks(p) if marks is None else marks)]
-    chords = []
-    for cs in p.flatten().getElementsByClass(harmony.ChordSymbol):
-        if isinstance(cs, harmony.NoChord):
-            continue
-        chords.append((_grid(cs.offset) - pickup, cs))
+def _melody(facts: Facts, path: Path, where: str, bars: tuple[int, int] | None) -> Melody:
+    bar = facts.bar
+    pickup = facts.pickup
+    notes = [(on - pickup, dur, pitch) for on, dur, pitch in facts.lead]
+    breaks = [on - pickup for on in facts.marks]
+    chords = [(on - pickup, text) for on, text in facts.chords]
     end = max(on + dur for on, dur, _ in notes)
     total_bars = max(1, -(-end // bar))
     if bars is not None:
@@ -276,9 +366,8 @@ def _melody(p: Any, path: Path, where: str, bars: tuple[int, int] | None,
         total_bars = hi - lo + 1
     if not any(on < 0 for on, _d, _p in notes):
         pickup = Fraction(0)
-    symbols = tuple((on, chord_text(cs)) for on, cs in chords)
-    return Melody(tuple(MelodyNote(pt, on, dur) for on, dur, pt in notes), meter_text, key_text, pickup,
-                  Fraction(total_bars) * bar, symbols, path.name, tuple(sorted(set(breaks))))
+    return Melody(tuple(MelodyNote(pt, on, dur) for on, dur, pt in notes), facts.meter, facts.key, pickup,
+                  Fraction(total_bars) * bar, tuple(chords), path.name, tuple(sorted(set(breaks))))
 
 
 def phrase_marks(part: Any) -> list[Fraction]:

@@ -15,15 +15,29 @@ written parts and the MIDI tracks, so page and playback agree.
 """
 from __future__ import annotations
 
+from typing import Any
+
 from arrange.rhythm_section.options import (
     BASS_INSTRUMENTS,
     BASS_STYLES,
+    PARTS,
     RhythmSectionOptions,
     read_options,
     style_for,
 )
-from arrange.rhythm_section.section import build_rhythm_section
-from arrange.rhythm_section.values import PARTS, BassNote, Cue, DrumHit, DrumPart, RhythmSection, Slash
 
 __all__ = ["read_options", "RhythmSectionOptions", "build_rhythm_section", "RhythmSection", "BassNote",
            "Slash", "Cue", "DrumHit", "DrumPart", "PARTS", "BASS_STYLES", "BASS_INSTRUMENTS", "style_for"]
+
+# the parts and their values are loaded when first asked for: reading a project that
+# writes no rhythm section never imports them
+_LAZY = {"build_rhythm_section": "section", "RhythmSection": "values", "BassNote": "values", "Slash": "values",
+         "Cue": "values", "DrumHit": "values", "DrumPart": "values"}
+
+
+def __getattr__(name: str) -> Any:
+    if name in _LAZY:
+        import importlib
+
+        return getattr(importlib.import_module(f"arrange.rhythm_section.{_LAZY[name]}"), name)
+    raise AttributeError(name)

@@ -16,10 +16,13 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from arrange.rhythm_section.values import PARTS
 from arrange.tables import Table
 
-__all__ = ["RhythmSectionOptions", "read_options", "BASS_STYLES", "BASS_INSTRUMENTS", "style_for"]
+__all__ = ["RhythmSectionOptions", "read_options", "BASS_STYLES", "BASS_INSTRUMENTS", "style_for", "PARTS"]
+
+# the rhythm parts a project may ask for, in score order (guitar, piano, bass,
+# drums: the usual order of a big-band score's rhythm section, common practice)
+PARTS = ("guitar", "piano", "bass", "drums")
 
 BASS_STYLES = ("auto", "walking", "two-beat", "tumbao", "shuffle", "roots-fifths")
 BASS_INSTRUMENTS = ("auto", "acoustic-bass", "electric-bass")

@@ -10,13 +10,10 @@ from __future__ import annotations
 from dataclasses import dataclass
 from fractions import Fraction
 
+from arrange.rhythm_section.options import PARTS
 from arrange.theory.chords import Chord
 
 __all__ = ["BassNote", "Slash", "DrumHit", "Cue", "DrumPart", "RhythmSection", "PARTS"]
-
-# the rhythm parts a project may ask for, in score order (guitar, piano, bass,
-# drums: the usual order of a big-band score's rhythm section, common practice)
-PARTS = ("guitar", "piano", "bass", "drums")
 
 
 @dataclass(frozen=True, slots=True)

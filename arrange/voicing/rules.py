@@ -31,33 +31,21 @@ from functools import lru_cache
 
 import numpy as np
 
-from arrange.checked import whole
-from arrange.errors import VoicingError
 from arrange.theory.chords import Chord
-from arrange.theory.pitch import parse_pitch, pitch_name
-from arrange.voicing.sections import Section, read_rules
+from arrange.theory.pitch import pitch_name
+from arrange.voicing.sections import INTERVAL_NAMES, Section, low_interval_table
 
 __all__ = ["KINDS", "Context", "context", "masks", "penalties", "low_interval_limits", "findings",
            "INTERVAL_NAMES"]
 
 KINDS = ("range", "extreme", "low-interval", "voice-crossing", "minor-ninth", "doubling", "gap", "bottom")
-INTERVAL_NAMES = ("unison", "minor second", "major second", "minor third", "major third",
-                  "perfect fourth", "tritone", "perfect fifth", "minor sixth", "major sixth",
-                  "minor seventh", "major seventh", "octave", "minor ninth", "major ninth",
-                  "minor tenth", "major tenth")
 
 
 @lru_cache(maxsize=1)
 def low_interval_limits() -> np.ndarray:
-    """Lowest allowed lower note by interval (index = semitones, 0..24); -1 = no limit."""
-    where = "voicing_rules/limits.toml [low_interval]"
-    table = read_rules("limits.toml").get("low_interval", {})
-    out = np.full(25, -1, dtype=np.int64)
-    for key, value in table.items():
-        if whole(str(key)) is None or not 1 <= int(key) <= 24:
-            raise VoicingError(f"interval {key!r}", where=where, accepted="semitones 1..24")
-        out[int(key)] = parse_pitch(value, where=f"{where}, key {key!r}")
-    return out
+    """Lowest allowed lower note by interval (index = semitones, 0..24); -1 = no limit
+    (``sections.low_interval_table`` as an array)."""
+    return np.array(low_interval_table(), dtype=np.int64)
 
 
 @dataclass(frozen=True, slots=True)
@@ -71,24 +59,25 @@ class Context:
     tones: np.ndarray       # (m, 12) bool: the chord's own pitch classes
 
 
+@lru_cache(maxsize=1024)
+def _chord_row(c: Chord) -> tuple[tuple[bool, ...], tuple[bool, ...]]:
+    """One chord's rows: the pitch classes that must not be doubled (its third, its
+    tensions outside the chord) and its own pitch classes, as 12 flags each."""
+    tones = set(c.pitch_classes)
+    flagged = {(c.root + t) % 12 for t in c.tensions if (c.root + t) % 12 not in tones}
+    flagged |= {(c.root + third) % 12 for third in (3, 4) if third in c.intervals}
+    return tuple(pc in flagged for pc in range(12)), tuple(pc in tones for pc in range(12))
+
+
 def context(chords: Sequence[Chord], vtypes: Sequence[str]) -> Context:
     m = len(chords)
-    flagged = np.zeros((m, 12), dtype=bool)
-    tones_of = np.zeros((m, 12), dtype=bool)
-    for i, c in enumerate(chords):
-        tones_of[i, list(c.pitch_classes)] = True
-        tones = set(c.pitch_classes)
-        for t in c.tensions:
-            pc = (c.root + t) % 12
-            if pc not in tones:
-                flagged[i, pc] = True
-        for third in (3, 4):
-            if third in c.intervals:
-                flagged[i, (c.root + third) % 12] = True
+    rows = [_chord_row(c) for c in chords]
     return Context(np.array([c.root for c in chords], dtype=np.int64),
-                   np.array([c.is_dominant for c in chords], dtype=bool), flagged,
+                   np.array([c.is_dominant for c in chords], dtype=bool),
+                   np.array([f for f, _t in rows], dtype=bool).reshape(m, 12),
                    np.array([v in ("close", "drop2", "drop2-4", "drop3") for v in vtypes], dtype=bool),
-                   np.array([v == "unison" for v in vtypes], dtype=bool), tones_of)
+                   np.array([v == "unison" for v in vtypes], dtype=bool),
+                   np.array([t for _f, t in rows], dtype=bool).reshape(m, 12))
 
 
 def _ranges(section: Section) -> tuple[np.ndarray, ...]:

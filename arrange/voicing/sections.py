@@ -11,14 +11,19 @@ from functools import lru_cache
 from pathlib import Path
 from typing import Any
 
+from arrange.checked import whole
 from arrange.errors import ProjectError, VoicingError
 from arrange.tables import Table
 from arrange.theory.pitch import parse_pitch, pitch_name
 
 __all__ = ["Instrument", "Part", "Section", "data_dir", "instruments", "sections", "get_section", "tutti_section",
-           "section_from_table", "read_rules", "describe_range", "MAX_PARTS"]
+           "section_from_table", "read_rules", "describe_range", "MAX_PARTS", "low_interval_table", "INTERVAL_NAMES"]
 
 MAX_PARTS = 16
+INTERVAL_NAMES = ("unison", "minor second", "major second", "minor third", "major third",
+                  "perfect fourth", "tritone", "perfect fifth", "minor sixth", "major sixth",
+                  "minor seventh", "major seventh", "octave", "minor ninth", "major ninth",
+                  "minor tenth", "major tenth")
 
 
 @dataclass(frozen=True, slots=True)
@@ -226,3 +231,18 @@ def section_from_table(table: Table) -> Section:
 def describe_range(inst: Instrument) -> str:
     lo, hi = inst.practical
     return f"{pitch_name(lo)}-{pitch_name(hi)}"
+
+
+@lru_cache(maxsize=1)
+def low_interval_table() -> tuple[int, ...]:
+    """Lowest allowed lower note by interval (index = semitones, 0..24); -1 = no limit
+    (``voicing_rules/limits.toml`` [low_interval]; plain Python, so ``arrange sections``
+    prints it without the rule checks' numpy)."""
+    where = "voicing_rules/limits.toml [low_interval]"
+    table = read_rules("limits.toml").get("low_interval", {})
+    out = [-1] * 25
+    for key, value in table.items():
+        if whole(str(key)) is None or not 1 <= int(key) <= 24:
+            raise VoicingError(f"interval {key!r}", where=where, accepted="semitones 1..24")
+        out[int(key)] = parse_pitch(value, where=f"{where}, key {key!r}")
+    return tuple(out)

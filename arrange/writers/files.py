@@ -25,7 +25,6 @@ from __future__ import annotations
 import contextlib
 import errno
 import os
-import secrets
 import shutil
 import signal
 import time
@@ -216,7 +215,7 @@ def write_sets(root: Path, sets: list[tuple[Path, dict[str, bytes]]]) -> list[Pa
                     folders.append(folder)
                 if replaced:
                     whole.append((folder, files))
-        token = secrets.token_hex(4)
+        token = os.urandom(4).hex()                  # what secrets.token_hex(4) gives, without its imports
         temps: list[tuple[Path, Path]] = []          # (temporary, final)
         olds: list[tuple[Path, Path | None]] = []    # (final, second name of its old file)
         switched: list[Path] = []

@@ -16,16 +16,17 @@ channel 10), playing the written parts' values (see :mod:`.rhythm_section`).
 """
 from __future__ import annotations
 
-import random
 from dataclasses import dataclass
 from fractions import Fraction
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-from arrange.rhythm_section.values import RhythmSection
-from arrange.voicing.layers import VoicedLayer
 from arrange.voicing.voicer import Voiced
 from arrange.writers.common import channel_for, tied_on
 from arrange.writers.marks import dynamic_of
+
+if TYPE_CHECKING:
+    from arrange.rhythm_section.values import RhythmSection
+    from arrange.voicing.layers import VoicedLayer
 
 __all__ = ["midi_bytes", "MidiOptions", "TICKS", "channel_for", "VELOCITY"]
 
@@ -89,8 +90,11 @@ def midi_bytes(voiced: Voiced, tempo: float, options: MidiOptions | None = None,
     import mido
 
     opts = options or MidiOptions()
-    rng = random.Random(opts.seed)
     spread = int(round(opts.humanize / 1000 * tempo / 60 * TICKS))   # ms -> ticks
+    if spread:
+        import random
+
+        rng = random.Random(opts.seed)
 
     mf = mido.MidiFile(type=1, ticks_per_beat=TICKS)
     line = voiced.harmonized.line

@@ -13,17 +13,20 @@ written pitch.  Staves come from :mod:`.xml_score`, marks from :mod:`.marks`.
 from __future__ import annotations
 
 from fractions import Fraction
+from typing import TYPE_CHECKING
 
 from arrange.voicing.voicer import Voiced
 from arrange.writers import marks
 from arrange.writers.common import written_parts
 from arrange.writers.symbols import chord_changes
 from arrange.writers.xml_harmony import harmony_element
-from arrange.writers.xml_document import StaffPart, document, heading, passage_bars, swing_ratio, written_keys  # noqa: F401
-from arrange.writers.xml_layers import layer_staves
+from arrange.writers.xml_document import StaffPart, document, document_tree, heading, passage_bars, swing_ratio, written_keys  # noqa: F401
 from arrange.writers.xml_score import ScoreInfo, Staff, concert_clef, interval_of, part_abbreviation
 
-__all__ = ["ScoreInfo", "musicxml_bytes", "part_bytes", "swing_ratio", "lead_staff", "at_time"]
+if TYPE_CHECKING:
+    import xml.etree.ElementTree as ET
+
+__all__ = ["ScoreInfo", "musicxml_bytes", "score_tree", "part_bytes", "swing_ratio", "lead_staff", "at_time"]
 
 def at_time(line, t: Fraction) -> tuple[int, Fraction]:  # noqa: ANN001
     """(written measure index, offset in it) of time ``t`` (quarter notes from bar 1's
@@ -142,19 +145,32 @@ def musicxml_bytes(voiced: Voiced, info: ScoreInfo, layers: tuple = ()) -> bytes
         staff = lead_staff(voiced, k, info, lead=True)
         return document(info.title, info.version, parts[k].name,
                         [StaffPart(staff, parts[k], part_abbreviation(parts[k]), k)], [])
+    return document(*_score(voiced, info, layers))
+
+
+def score_tree(voiced: Voiced, info: ScoreInfo, layers: tuple = ()) -> ET.Element:
+    """The full score's ``<score-partwise>`` element, not yet indented (for a writer that
+    adds parts to it, ``xml_rhythm.rhythm_score_bytes``)."""
+    return document_tree(*_score(voiced, info, layers))
+
+
+def _score(voiced: Voiced, info: ScoreInfo, layers: tuple) -> tuple[str, str, str, list[StaffPart],
+                                                                    list[tuple[int, int]]]:
+    parts = voiced.section.parts
     staves = [StaffPart(lead_staff(voiced, k, info, lead=k == 0, top=False), p, part_abbreviation(p), k)
               for k, p in enumerate(parts)]
     groups = marks.part_groups([(voiced.section, 0)], bracket_all=False)
     if layers:
         if not groups:
             groups = [(0, len(parts) - 1)]
+        from arrange.writers.xml_layers import layer_staves
+
         more, layer_groups = layer_staves(voiced, layers, info, len(parts))
         staves += more
         groups += layer_groups
     staves, groups = score_order(staves, groups)
     top_marks(staves[0].staff, voiced, info)
-    return document(info.title, info.version, "Concert score" if info.concert else "Transposed score",
-                    staves, groups)
+    return (info.title, info.version, "Concert score" if info.concert else "Transposed score", staves, groups)
 
 
 def part_bytes(voiced: Voiced, info: ScoreInfo) -> dict[int, bytes]:

@@ -35,14 +35,15 @@ def chord_changes(events: Sequence[Any], framework: Sequence[Any]) -> list[tuple
 
     over_bar_1 = any(pickup_on_first(e) for e in events)
     # looked up by bisection (a whole score's framework against all its notes): the spans by
-    # start with the latest end so far, and the events' onsets where they are in time order
+    # start with the latest end so far, and the events in time order (sorted once; stable,
+    # so events at one onset keep their order)
     by_start = sorted(spans)
     starts = [a for a, _b in by_start]
     reach: list[Fraction] = []
     for _a, b in by_start:
         reach.append(b if not reach or b > reach[-1] else reach[-1])
-    onsets = [e.note.onset for e in events]
-    ordered = all(a <= b for a, b in zip(onsets, onsets[1:]))
+    in_time = sorted(events, key=lambda e: e.note.onset)
+    onsets = [e.note.onset for e in in_time]
 
     def sounding(t: Fraction) -> bool:                      # a lead note sounds at t
         k = bisect_right(starts, t)
@@ -53,11 +54,8 @@ def chord_changes(events: Sequence[Any], framework: Sequence[Any]) -> list[tuple
         if sounding(fc.onset) and not (fc is first and over_bar_1):
             continue                                        # a lead note sounds: its chord is there
         end = fc.onset + fc.duration
-        if ordered:
-            k = bisect_right(onsets, fc.onset)
-            inside = events[k:k + 1] if k < len(events) and onsets[k] < end else []
-        else:
-            inside = [e for e in events if fc.onset < e.note.onset < end]
+        k = bisect_right(onsets, fc.onset)                  # the first lead note inside the chord
+        inside = in_time[k:k + 1] if k < len(in_time) and onsets[k] < end else []
         chord = fc.chord
         if inside and inside[0].role == "framework" and inside[0].chord.root == fc.chord.root:
             chord = inside[0].chord

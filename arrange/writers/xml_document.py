@@ -101,10 +101,21 @@ def _transpose(ivl: Interval) -> list[ET.Element]:
     return [t]
 
 
+HEAD = b'<?xml version="1.0" encoding="UTF-8"?>\n' + _DOCTYPE     # what precedes the root
+
+
 def document(title: str, version: str, kind: str, staves: list[StaffPart],
              groups: list[tuple[int, int]]) -> bytes:
     """The whole ``<score-partwise>`` file; ``groups``: (first, last) indices in ``staves``
     of each bracket (bar lines drawn through)."""
+    root = document_tree(title, version, kind, staves, groups)
+    ET.indent(root, space=" ")
+    return HEAD + ET.tostring(root, encoding="unicode").encode("utf-8") + b"\n"
+
+
+def document_tree(title: str, version: str, kind: str, staves: list[StaffPart],
+                  groups: list[tuple[int, int]]) -> ET.Element:
+    """The ``<score-partwise>`` element of :func:`document`, not yet indented."""
     root = ET.Element("score-partwise", version="4.0")
     sub(sub(root, "work"), "work-title", title)
     sub(root, "movement-title", title)
@@ -130,8 +141,6 @@ def document(title: str, version: str, kind: str, staves: list[StaffPart],
     for sp in staves:
         part = sub(root, "part", id=f"P{sp.index + 1}")
         part.extend(sp.staff.measures(_transpose(sp.staff.transpose)))
-    ET.indent(root, space=" ")
-    return (b'<?xml version="1.0" encoding="UTF-8"?>\n' + _DOCTYPE
-            + ET.tostring(root, encoding="unicode").encode("utf-8") + b"\n")
+    return root
 
 

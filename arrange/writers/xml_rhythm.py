@@ -2,8 +2,8 @@
 
 * :func:`rhythm_part_elements` -- the ``<score-part>`` and ``<part>`` elements of
   every asked rhythm part (guitar, piano, bass, drums), from the stage's values;
-* :func:`add_rhythm_parts` -- those parts appended to a finished score's bytes,
-  below the other parts, in one bracketed group;
+* :func:`rhythm_score_bytes` -- those parts appended to the score's tree
+  (``musicxml.score_tree``), below the other parts, in one bracketed group, and the file;
 * :func:`rhythm_part_files` -- one printable file per rhythm part.
 
 Engraving (common practice of rhythm-section parts): piano and guitar read
@@ -29,7 +29,7 @@ from arrange.theory.keys import written_key
 from arrange.voicing.sections import instruments
 from arrange.writers.xml_harmony import harmony_element
 
-__all__ = ["rhythm_part_elements", "add_rhythm_parts", "rhythm_part_files", "PART_IDS", "DIVISIONS"]
+__all__ = ["rhythm_part_elements", "rhythm_score_bytes", "rhythm_part_files", "PART_IDS", "DIVISIONS"]
 
 DIVISIONS = 48          # per quarter: the line's 1/24 grid, and 1/16 once 12/8 is written out
 PART_IDS = {"guitar": "P-rs-guitar", "piano": "P-rs-piano", "bass": "P-rs-bass", "drums": "P-rs-drums"}
@@ -410,17 +410,20 @@ def _attributes_first(m: ET.Element, fifths: int) -> None:
     m.insert(0, at)
 
 
-def _split(data: bytes) -> tuple[bytes, ET.Element]:
-    at = data.index(b"<score-partwise")
-    return data[:at], ET.fromstring(data[at:])
+def rhythm_score_bytes(root: ET.Element, rs: RhythmSection, harmonized: Harmonized, first_channel: int,
+                       *, bass_names: tuple[str, ...] = ()) -> bytes:
+    """The score file of ``root`` (``musicxml.score_tree``, the score not yet written) with
+    the rhythm parts appended below the others, in one bracketed group; indented by two
+    spaces (the score alone is indented by one)."""
+    from arrange.writers.xml_document import HEAD
+
+    _append(root, rs, harmonized, first_channel, bass_names)
+    ET.indent(root, space="  ")
+    return HEAD + ET.tostring(root, encoding="unicode").encode("utf-8")
 
 
-def add_rhythm_parts(data: bytes, rs: RhythmSection | None, harmonized: Harmonized,
-                     first_channel: int, *, bass_names: tuple[str, ...] = ()) -> bytes:
-    """The score's bytes with the rhythm parts appended (bracketed, below the others)."""
-    if rs is None or not rs.parts:
-        return data
-    head, root = _split(data)
+def _append(root: ET.Element, rs: RhythmSection, harmonized: Harmonized, first_channel: int,
+            bass_names: tuple[str, ...]) -> None:
     part_list = root.find("part-list")
     if part_list is None:
         raise ValueError("a score without <part-list>")
@@ -433,8 +436,6 @@ def add_rhythm_parts(data: bytes, rs: RhythmSection | None, harmonized: Harmoniz
         part_list.append(sp)
         root.append(part)
     _sub(part_list, "part-group", type="stop", number=number)
-    ET.indent(root, space="  ")
-    return head + ET.tostring(root, encoding="utf-8")
 
 
 _HEAD = (b'<?xml version="1.0" encoding="UTF-8"?>\n'
