@@ -71,7 +71,7 @@ def written_notes(project: Project) -> tuple[int, int]:
         from arrange.form import lead_notes_estimate
 
         notes = lead_notes_estimate(project.passages)
-    written = notes * len(project.section.parts)
+    written = notes * max(len(s.parts) for s in _sections(project))
     if not project.layers or written > MAX_SCORE_NOTES:
         return notes, written
     try:
@@ -101,13 +101,18 @@ def written_notes(project: Project) -> tuple[int, int]:
     return notes, written
 
 
+def _sections(project: Project) -> list[Section]:
+    """The sections that voice the lead: the project's, and a form's passages' own."""
+    return [project.section] + [p.section for p in project.passages if p.section is not None]
+
+
 def check_size(project: Project, *, where: str | None = None, already: int = 0) -> int:
     """Refuse, before any work starts, a passage too big to write in reasonable time;
     ``already`` counts the notes of the other combinations of a ``--vary`` build."""
     notes, written = written_notes(project)
     if written + already > MAX_SCORE_NOTES:
         name = project.path.name if project.path else "project"
-        parts = len(project.section.parts) + sum(len(la.section.parts) for la in project.layers)
+        parts = max(len(s.parts) for s in _sections(project)) + sum(len(la.section.parts) for la in project.layers)
         what = (f"{notes} lead notes for {parts} parts"
                 + (" (layers included)" if project.layers else "") + f" make {written:,} written notes")
         if already:
@@ -125,8 +130,11 @@ def run_pipeline(project: Project) -> Voiced:
     if project.passages:
         from arrange.form import run_form
 
+        from arrange.staffing import check_players, voice_form
+
+        check_players(project)
         harmonized, voicing_options = run_form(project)
-        return _voice(harmonized, project.section, voicing_options)
+        return voice_form(harmonized, project, voicing_options, _voice)
     if project.melody is not None:
         from arrange.rhythm.melody import lay_melody
 

@@ -66,6 +66,7 @@ class Passage:
     by_statement: tuple[tuple[int, str], ...] = ()    # its section table's plan, statements of the passage
     by_bar: tuple[tuple[int, int, str], ...] = ()     # ... and bars of the passage (1 = its first bar)
     phrases: int = 1                             # a melody's phrases (its statements)
+    section: Section | None = None               # its own section (None: the project's)
 
     @property
     def statements(self) -> int:
@@ -170,15 +171,15 @@ def read_passages(top: Table, where: str, base: Path | None, meter: Meter, key: 
         else:
             harmony = read_harmony(h_table)
         voicing = t.string("voicing", None, choices=VOICINGS) if t.has("voicing") else None
-        voicing, by_statement, by_bar = _section_plan(t, section, i, name, voicing)
+        voicing, by_statement, by_bar, own = _section_plan(t, section, i, name, voicing)
         dyn = _dynamics(t, dynamics)
         layers = _layers(t, layer_count)
         t.finish()
         if isinstance(material, Melody):
-            check_lead_range(material, section, t.at("melody"))
+            check_lead_range(material, own or section, t.at("melody"))
         phrases = len(phrase_starts(material, meter)) if isinstance(material, Melody) else 1
         out.append(Passage(i, name, material, pkey, rhythm, harmony, voicing, dyn, at, approach, layers,
-                           by_statement, by_bar, phrases))
+                           by_statement, by_bar, phrases, own))
         prev_key = pkey
     for p in out:
         if isinstance(p.material, DesignedChain) and (p.index == 1 or p.index == len(out)):
@@ -189,33 +190,50 @@ def read_passages(top: Table, where: str, base: Path | None, meter: Meter, key: 
     return tuple(out)
 
 
-_PLAN_KEYS = ("name", "voicing", "by_statement", "by_bar")
+_PLAN_KEYS = ("voicing", "by_statement", "by_bar")
+_SECTION_KEYS = ("name", "parts", "tutti", "layout")
 
 
 def _section_plan(t: Table, section: Section, i: int, name: str, voicing: str | None
-                  ) -> tuple[str | None, tuple[tuple[int, str], ...], tuple[tuple[int, int, str], ...]]:
-    """A passage's ``section = { voicing = ..., by_statement = {...}, by_bar = {...} }``: its
-    voicing plan, statements and bars counted inside the passage.  ``name`` may only repeat the
-    project's section: the section's staves run through the whole chart."""
+                  ) -> tuple[str | None, tuple[tuple[int, str], ...], tuple[tuple[int, int, str], ...],
+                             Section | None]:
+    """A passage's ``section = "trumpets-4"`` or ``section = { name = ..., voicing = ...,
+    by_statement = {...}, by_bar = {...} }``: its own section (a name from
+    ``voicing_rules/sections.toml``, or ``parts`` / ``tutti`` inline as the project's
+    ``[section]`` allows; None: the project's) and its voicing plan, statements and bars
+    counted inside the passage."""
     from arrange.checked import whole
+    from arrange.voicing.sections import section_from_table, sections
 
     if not t.has("section"):
-        return voicing, (), ()
+        return voicing, (), (), None
     raw = t.raw("section")
     label = f"passage {i} ({name!r})"
+    if isinstance(raw, str):
+        raw = {"name": raw}
     if not isinstance(raw, dict):
-        raise t.error("section", f"{label}: {raw!r} is not a table",
-                      "section = { voicing = \"drop2\", by_statement = { 2 = \"spread\" }, by_bar = { \"3-4\" = \"close\" } }")
-    unknown = [k for k in raw if k not in _PLAN_KEYS]
+        raise t.error("section", f"{label}: {raw!r} is not a section name nor a table",
+                      "section = \"trumpets-4\", or section = { name = \"trumpets-4\", voicing = \"drop2\", "
+                      "by_statement = { 2 = \"spread\" }, by_bar = { \"3-4\" = \"close\" } }")
+    unknown = [k for k in raw if k not in _PLAN_KEYS + _SECTION_KEYS]
     if unknown:
         raise t.error("section", f"{label}: key {str(unknown[0])[:40]!r} is not a passage's section key",
-                      "name (the project's section), voicing, by_statement, by_bar; the section and "
-                      "allow_extreme are the project's [section]")
-    if "name" in raw and raw["name"] != section.name:
-        raise t.error("section", f"{label} names section {str(raw['name'])[:40]!r} but the project's is "
-                      f"{section.name!r}", f"one section for the whole form ({section.name!r}, its staves run "
-                      "through the chart): give the passage a voicing plan here, or a [[layers]] section for "
-                      "other instruments")
+                      "name, parts, tutti, layout (its own section), voicing, by_statement, by_bar; "
+                      "allow_extreme is the project's [section]")
+    own: Section | None = None
+    if any(k in raw for k in _SECTION_KEYS):
+        sub = Table({k: raw[k] for k in _SECTION_KEYS if k in raw}, t.where, "section")
+        if "name" in raw and not ("parts" in raw or "tutti" in raw) and (
+                not isinstance(raw["name"], str) or raw["name"] not in sections()):
+            raise t.error("section", f"{label} names section {str(raw['name'])[:40]!r}, which is not known",
+                          ", ".join(sorted(sections())) + ", or parts = [...] inline")
+        try:
+            own = section_from_table(sub)
+            sub.finish()
+        except ArrangeError as err:
+            raise ProjectError(f"{label}: {err.what}", where=err.where, accepted=err.accepted) from None
+        if own == section:
+            own = None
     if "voicing" in raw:
         if voicing is not None:
             raise t.error("section", f"{label} gives both voicing and section.voicing", "one of them")
@@ -241,7 +259,7 @@ def _section_plan(t: Table, section: Section, i: int, name: str, voicing: str | 
                               else "bars of the passage: \"2\" or \"2-4\" (1 = its first bar)")
             entries.append((lo, hi, v))
         plans.append(sorted(entries))
-    return voicing, tuple((lo, v) for lo, _hi, v in plans[0]), tuple(plans[1])
+    return voicing, tuple((lo, v) for lo, _hi, v in plans[0]), tuple(plans[1]), own
 
 
 def _layers(t: Table, count: int) -> tuple[int, ...] | None:
@@ -344,7 +362,7 @@ def run_form(project: Any) -> tuple[Harmonized, VoicingOptions]:
     for k, p in enumerate(passages):
         after = passages[k + 1] if k + 1 < len(passages) else None
         before = built[-1][1] if built else None
-        line, options, design, about = _passage_line(p, project.meter, project.section, before, after)
+        line, options, design, about = _passage_line(p, project.meter, p.section or project.section, before, after)
         _check_framework(p, line, options)
         h = harmonize(line, p.key, options, where=f"{p.where} harmony")
         built.append((p, h, design, about))

@@ -337,7 +337,7 @@ def _row(var: Variant, voiced: Any, layers: Any, files: dict[str, bytes]) -> dic
     low, part = None, ""
     for ve in voiced.events:
         for k, pitch in enumerate(ve.pitches):
-            if low is None or pitch < low:
+            if pitch is not None and (low is None or pitch < low):
                 low, part = pitch, voiced.section.parts[k].name
     for vl in layers:
         for n in vl.notes:

@@ -421,11 +421,11 @@ def test_each_passage_has_its_own_voicing_plan(tmp_path: Path) -> None:
 
 
 @pytest.mark.parametrize(("entry", "needle"), [
-    ('section = { name = "saxes-5" }', "one section for the whole form"),
+    ('section = { name = "saxes-9" }', "not known"),
     ('section = { by_statement = { 5 = "spread" } }', "statements 1 to 4"),
     ('section = { by_bar = { "9" = "drop2" } }', "bars 1 to"),
     ('section = { allow_extreme = true }', "allow_extreme"),
-], ids=["other section", "statement past", "bar past", "project key"])
+], ids=["unknown section", "statement past", "bar past", "project key"])
 def test_bad_passage_section(tmp_path: Path, entry: str, needle: str) -> None:
     text = FORM.replace('name = "Turn"\n', f'name = "Turn"\n{entry}\n')
     p = write_project(tmp_path, text)

@@ -250,8 +250,19 @@ def _sounding(voiced: Voiced, onset: Fraction, dur: Fraction,
         n = events[i].event.note
         lo, hi = max(onset, n.onset), min(end, n.onset + n.duration)
         if hi > lo:
-            out.append((i, float((hi - lo) / dur), events[i].pitches))
+            pitches = events[i].pitches
+            if voiced.staffing is not None:        # a form's staves: the ones playing here
+                pitches = tuple(p for p in pitches if p is not None)
+            out.append((i, float((hi - lo) / dur), pitches))
     return out
+
+
+def _lead_names(voiced: Voiced, e: int) -> list[str]:
+    """The lead-section part names of event ``e``'s pitches as :func:`_sounding` gives them."""
+    parts = voiced.section.parts
+    if voiced.staffing is None:
+        return [p.name for p in parts]
+    return [parts[k].name for k, p in enumerate(voiced.events[e].pitches) if p is not None]
 
 
 def _sounding_index(voiced: Voiced) -> tuple[list[Fraction], list[Fraction]]:
@@ -468,19 +479,18 @@ def _why(chord: Chord, row: tuple[int | None, ...], snd: list[tuple[int, float, 
     low = min(p for p in row if p is not None)
     rooted = ""
     if low % 12 != bass % 12:
-        against = sorted({(q % 12, voiced.section.parts[k].name) for _e, _w, ps in snd
+        against = sorted({(q % 12, _lead_names(voiced, e)[k]) for e, _w, ps in snd
                           for k, q in enumerate(ps) if (q - bass) % 12 == 1})   # a half step above
         if against:
             rooted = (f"root {_pc_name(bass)} off the bottom: it clashes with the lead's "
                       f"{_pc_name(against[0][0])} ({against[0][1]})")
     if len(played) >= full and not rests:
         return rooted
-    lead_parts = voiced.section.parts
     left = []
     for pc in order:
         if pc in played:
             continue
-        against = sorted({(q % 12, lead_parts[k].name) for _e, _w, ps in snd for k, q in enumerate(ps)
+        against = sorted({(q % 12, _lead_names(voiced, e)[k]) for e, _w, ps in snd for k, q in enumerate(ps)
                           if rubs(pc, q % 12, chord)})
         if against:
             q, part = against[0]
@@ -507,7 +517,7 @@ def _findings(harmonized: Harmonized, voiced: Voiced, layer: Layer, notes: tuple
     R = np.array([[p is None for p in n.pitches] for n in notes], dtype=bool)
     P = np.array([_filled(n.pitches) for n in notes], dtype=np.int64)
     ctx = rules.context([n.chord for n in notes], ["spread"] * len(notes))
-    sec, lead_parts = layer.section, voiced.section.parts
+    sec = layer.section
     name = f"layer {layer.index} ({layer.role}, {sec.name})"
     out = []
     first_event = [snd[0][0] if snd else None for snd in sounding]
@@ -542,9 +552,9 @@ def _findings(harmonized: Harmonized, voiced: Voiced, layer: Layer, notes: tuple
                 out.append(LayerFinding(
                     kind, e, sec.parts[int(j)].name,
                     f"{name}, bar {bar}: {sec.parts[int(j)].name} {pitch_name(a)} against "
-                    f"{lead_parts[int(q)].name} {pitch_name(b)} of the lead section, {what} "
+                    f"{_lead_names(voiced, e)[int(q)]} {pitch_name(b)} of the lead section, {what} "
                     f"sounding together (over {n.chord.symbol})", "warning",
-                    lead_parts[int(q)].name, i))
+                    _lead_names(voiced, e)[int(q)], i))
     return out
 
 

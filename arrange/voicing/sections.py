@@ -17,7 +17,8 @@ from arrange.tables import Table
 from arrange.theory.pitch import parse_pitch, pitch_name
 
 __all__ = ["Instrument", "Part", "Section", "data_dir", "instruments", "sections", "get_section", "tutti_section",
-           "section_from_table", "read_rules", "describe_range", "MAX_PARTS", "low_interval_table", "INTERVAL_NAMES"]
+           "section_from_table", "read_rules", "describe_range", "MAX_PARTS", "low_interval_table", "INTERVAL_NAMES",
+           "score_rank"]
 
 MAX_PARTS = 16
 INTERVAL_NAMES = ("unison", "minor second", "major second", "minor third", "major third",
@@ -226,6 +227,19 @@ def section_from_table(table: Table) -> Section:
         return get_section(name, where=table.at("name"))
     except VoicingError as err:
         raise ProjectError(err.what, where=err.where, accepted=err.accepted) from None
+
+
+# score order, top to bottom, by the family of a part's MusicXML sound id (common practice of
+# score layout; in a big band: saxophones, trumpets, trombones, then the rhythm section, which
+# the rhythm writer appends below everything)
+_SCORE_ORDER = (("wind.", 0), ("brass.french-horn", 1), ("brass.trumpet", 2), ("brass.flugelhorn", 2),
+                ("brass.cornet", 2), ("brass.trombone", 3), ("brass.tuba", 4), ("brass.", 4))
+
+
+def score_rank(sound: str) -> int:
+    """A part's place in score order by its MusicXML sound id (0 woodwinds, 1 horns, 2
+    trumpets, 3 trombones, 4 tuba and other brass, 5 the rest)."""
+    return next((r for prefix, r in _SCORE_ORDER if sound.startswith(prefix)), 5)
 
 
 def describe_range(inst: Instrument) -> str:

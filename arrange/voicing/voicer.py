@@ -28,7 +28,7 @@ from arrange.voicing import rules
 from arrange.voicing.sections import Section
 from arrange.voicing.shapes import GUIDE_OPTIONS, VOICINGS, guide_tones, recipes, shapes
 
-__all__ = ["Finding", "VoicedEvent", "Voiced", "VoicingOptions", "read_options", "voice", "VOICINGS",
+__all__ = ["Finding", "VoicedEvent", "Voiced", "Staffing", "VoicingOptions", "read_options", "voice", "VOICINGS",
            "PLANS", "plan", "candidates", "solve", "path_cost"]
 
 PLANS = VOICINGS + ("auto",)
@@ -47,7 +47,35 @@ class Finding:
 class VoicedEvent:
     event: Event
     voicing: str
-    pitches: tuple[int, ...]   # sounding, top to bottom, one per part
+    # sounding, top to bottom, one per part of ``Voiced.section``; in a form whose passages
+    # have their own sections (``Voiced.staffing``) one per staff, None where a staff rests
+    pitches: tuple[int, ...]
+
+
+@dataclass(frozen=True, slots=True)
+class Staffing:
+    """The staves of a form whose passages have their own sections: ``Voiced.section`` then
+    holds one part per player (every section's parts, a player two sections share once, in
+    score order), and this says who plays where.  ``sections``: each section played, in
+    order of first use; ``staves``: per section, the staff of each of its parts (top to
+    bottom, its lead first); ``of_passage``: the section of each passage; ``of_event``: the
+    section of each event.  A staff whose section does not play an event rests (its pitch
+    is None)."""
+    sections: tuple[Section, ...]
+    staves: tuple[tuple[int, ...], ...]
+    of_passage: tuple[int, ...]
+    of_event: tuple[int, ...]
+
+    def own(self, i: int, pitches: tuple[int | None, ...]) -> tuple[int, ...]:
+        """Event ``i``'s pitches in its own section's order (top to bottom, the lead first)."""
+        return tuple(int(pitches[k]) for k in self.staves[self.of_event[i]])   # type: ignore[arg-type]
+
+    def section_of(self, i: int) -> Section:
+        return self.sections[self.of_event[i]]
+
+    def lead_staff(self, i: int) -> int:
+        """The staff that carries event ``i``'s lead."""
+        return self.staves[self.of_event[i]][0]
 
 
 @dataclass(frozen=True, slots=True)
@@ -56,6 +84,7 @@ class Voiced:
     section: Section
     events: tuple[VoicedEvent, ...]
     findings: tuple[Finding, ...]
+    staffing: Staffing | None = None     # a form's passages with their own sections
 
 
 @dataclass(frozen=True, slots=True)

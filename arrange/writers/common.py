@@ -26,7 +26,7 @@ def channel_for(part_index: int) -> int:
 def tied_on(voiced: Any, i: int, k: int) -> bool:
     """Part ``k`` holds its pitch, tied, into event ``i``: the lead note was cut there at a
     chord change (``harmony.split``) and the part keeps the pitch it had (common practice)."""
-    return bool(voiced.events[i].event.note.tied) and i > 0 and \
+    return bool(voiced.events[i].event.note.tied) and i > 0 and voiced.events[i].pitches[k] is not None and \
         voiced.events[i - 1].pitches[k] == voiced.events[i].pitches[k]
 
 
@@ -56,6 +56,9 @@ def spelled_parts(voiced: Any, layers: tuple[Any, ...] = ()) -> tuple[tuple[tupl
         for i, ve in enumerate(voiced.events):
             n = ve.event.note
             end = n.onset + n.duration
+            if voice[i] is None:                # a form's staff resting while another section plays
+                joins.append(-1)
+                continue
             if i and tied_on(voiced, i, k):     # a tie is one note: one name, one entry for agree
                 o, _e, m, nm = notes[joins[-1]]
                 notes[joins[-1]] = (o, end, m, nm)
@@ -80,7 +83,7 @@ def spelled_parts(voiced: Any, layers: tuple[Any, ...] = ()) -> tuple[tuple[tupl
                 notes.append((n.onset, n.onset + n.duration, here, name))
                 slots.append((li, k, i))
     agreed = agree(notes)
-    names = [agreed[j] for j in joins]
+    names = [agreed[j] if j >= 0 else None for j in joins]
     n_ev = len(voiced.events)
     lead = tuple(tuple(names[k * n_ev:(k + 1) * n_ev]) for k in range(len(voiced.section.parts)))
     rest = agreed[n_lead:]
@@ -112,7 +115,8 @@ def bass_names(voiced: Any, layers: tuple[Any, ...], bass: Any) -> tuple[str, ..
     for k, names in enumerate(lead):
         for i, ve in enumerate(voiced.events):
             n = ve.event.note
-            notes.append((n.onset, n.onset + n.duration, ve.pitches[k], names[i]))
+            if ve.pitches[k] is not None:
+                notes.append((n.onset, n.onset + n.duration, ve.pitches[k], names[i]))
     for vl, grid in zip(layers, lay, strict=True):
         for k, layer_names in enumerate(grid):
             for i, ln in enumerate(vl.notes):
@@ -179,6 +183,8 @@ def written_parts(voiced: Any, layers: tuple[Any, ...] = (), concert: bool = Fal
         moved = 0 if concert else part.instrument.transposition
         for i, ve in enumerate(voiced.events):
             n = ve.event.note
+            if ve.pitches[k] is None:             # a form's staff resting while another section plays
+                continue
             if i and tied_on(voiced, i, k):       # one entry per tie: it keeps its written name
                 first = tied_to.get((k, i - 1), i - 1)
                 tied_to[(k, i)] = first

@@ -23,16 +23,19 @@ def dynamic_of(statement: int, dynamics: tuple[str, ...]) -> str:
     return dynamics[min(statement, len(dynamics)) - 1]
 
 
-def entrances(voiced: Voiced, dynamics: tuple[str, ...]) -> list[tuple[int, str]]:
+def entrances(voiced: Voiced, dynamics: tuple[str, ...], part: int | None = None) -> list[tuple[int, str]]:
     """(event index, dynamic) wherever a dynamic is printed: the first note, the first
     note after a rest of a bar or more (an entrance a player counts in), and every note
     where the level changes (common practice: a dynamic holds until a new one; a short
-    rest inside a phrase does not restate it)."""
+    rest inside a phrase does not restate it).  ``part``: the notes that staff plays (a
+    form's staff rests while another section plays)."""
     bar = voiced.harmonized.line.meter.bar
     out: list[tuple[int, str]] = []
     prev_end: Fraction | None = None
     current = None
     for i, ve in enumerate(voiced.events):
+        if part is not None and ve.pitches[part] is None:
+            continue
         n = ve.event.note
         dyn = dynamic_of(n.statement, dynamics)
         entrance = prev_end is None or n.onset - prev_end >= bar
@@ -43,7 +46,7 @@ def entrances(voiced: Voiced, dynamics: tuple[str, ...]) -> list[tuple[int, str]
     return out
 
 
-def hairpins(voiced: Voiced, dynamics: tuple[str, ...]) -> list[tuple[int, int, str]]:
+def hairpins(voiced: Voiced, dynamics: tuple[str, ...], part: int | None = None) -> list[tuple[int, int, str]]:
     """(first event, event of the new mark, "crescendo" | "diminuendo") of every hairpin.
 
     The rule (common practice of ensemble parts): where the level changes inside a phrase
@@ -54,16 +57,19 @@ def hairpins(voiced: Voiced, dynamics: tuple[str, ...]) -> list[tuple[int, int, 
     new entrance: its mark alone (terraced), no hairpin."""
     bar = voiced.harmonized.line.meter.bar
     events = voiced.events
-    marks = entrances(voiced, dynamics)
+    marks = entrances(voiced, dynamics, part)
     out = []
     for (prev, old), (i, new) in zip(marks, marks[1:], strict=False):
         if new == old or i == 0:
             continue
+        if part is not None and events[i - 1].pitches[part] is None:
+            continue                      # the staff rested before it: an entrance, the mark alone
         before = events[i - 1].event.note
         onset = events[i].event.note.onset
         if onset - (before.onset + before.duration) >= bar:
             continue                      # an entrance after a bar's rest: the mark alone
-        start = next((j for j in range(prev + 1, i) if events[j].event.note.onset >= onset - bar), i - 1)
+        start = next((j for j in range(prev + 1, i) if events[j].event.note.onset >= onset - bar
+                      and (part is None or events[j].pitches[part] is not None)), i - 1)
         if start <= prev:
             continue                      # no note between the two marks to carry a hairpin
         kind = "crescendo" if DYNAMICS.index(new) > DYNAMICS.index(old) else "diminuendo"

@@ -117,6 +117,8 @@ def midi_bytes(voiced: Voiced, tempo: float, options: MidiOptions | None = None,
         for i, ve in enumerate(voiced.events):
             n = ve.event.note
             pitch = ve.pitches[k]
+            if pitch is None:                      # a form's staff resting while another section plays
+                continue
             if played and tied_on(voiced, i, k):   # held over a chord change: not struck again
                 played[-1][2] = max(played[-1][2], _tick(n.perf_onset + n.perf_duration + lead_in) - 1)
                 prev_end[pitch] = played[-1][2]

@@ -15,6 +15,7 @@ from __future__ import annotations
 from fractions import Fraction
 from typing import TYPE_CHECKING
 
+from arrange.voicing.sections import score_rank
 from arrange.voicing.voicer import Voiced
 from arrange.writers import marks
 from arrange.writers.common import written_parts
@@ -26,7 +27,8 @@ from arrange.writers.xml_score import ScoreInfo, Staff, concert_clef, interval_o
 if TYPE_CHECKING:
     import xml.etree.ElementTree as ET
 
-__all__ = ["ScoreInfo", "musicxml_bytes", "score_tree", "part_bytes", "swing_ratio", "lead_staff", "at_time"]
+__all__ = ["ScoreInfo", "musicxml_bytes", "score_tree", "part_bytes", "swing_ratio", "lead_staff", "at_time",
+           "score_rank"]
 
 def at_time(line, t: Fraction) -> tuple[int, Fraction]:  # noqa: ANN001
     """(written measure index, offset in it) of time ``t`` (quarter notes from bar 1's
@@ -45,31 +47,40 @@ def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, top: bool | 
     in the full score they go over the top staff, score order).  Symbols stand at the beat
     each chord starts (``symbols.chord_changes``) and over a transposed staff are written
     for it (the transposed score as its parts: one convention for every page a player or a
-    reader takes the symbols from)."""
+    reader takes the symbols from).  In a form whose passages have their own sections
+    (``voiced.staffing``) the staff rests where its section does not play, and the symbols
+    (and analysis) stand over each passage's lead staff in the score, over every part that
+    plays the passage in a part file."""
     h = voiced.harmonized
     line = h.line
     part = voiced.section.parts[k]
     ivl = interval_of(part.instrument, info.concert)
     clef = part.instrument.clef
     if info.concert and part.instrument.transposition:
-        clef = concert_clef(clef, [ve.pitches[k] for ve in voiced.events])
+        clef = concert_clef(clef, [p for ve in voiced.events if (p := ve.pitches[k]) is not None])
     staff = Staff(line, written_keys(h, ivl, info.signatures), clef, ivl, passage_bars(line))
     names = written_parts(voiced, (), info.concert)[0][k]     # theory.written, one rule for all
-    firsts = []
+    staffing = voiced.staffing
+    firsts: list = []
     for i, ve in enumerate(voiced.events):
         n = ve.event.note
+        if ve.pitches[k] is None:          # another section plays here: this staff rests
+            firsts.append(None)
+            continue
         # a held lead note cut at a chord change (harmony.split): every part keeping its
         # pitch across the cut is tied, the others move (common practice)
         tied = n.tied and i > 0 and voiced.events[i - 1].pitches[k] == ve.pitches[k]
         firsts.append(staff.add_note(names[i], n.onset, n.duration, n.articulation, written=True, tied=tied))
-    if lead:
+    mine = None if staffing is None else _own_times(voiced, k, info.only_part is not None)
+    if lead and (mine is None or mine):
         for t, chord in chord_changes([ve.event for ve in voiced.events], h.framework):
             m, off = at_time(line, t)
-            if m < len(staff.notes):
+            if m < len(staff.notes) and (mine is None or any(a <= t < b for a, b in mine)):
                 staff.add_mark(m, off, 5, harmony_element(chord, ivl=ivl))
-    for i, dyn in marks.entrances(voiced, info.dynamics):
+    part_k = None if staffing is None else k
+    for i, dyn in marks.entrances(voiced, info.dynamics, part_k):
         staff.add_mark(firsts[i].measure, firsts[i].offset, 4, marks.dynamic(dyn))
-    for start, end, kind in marks.hairpins(voiced, info.dynamics):     # a change inside a phrase
+    for start, end, kind in marks.hairpins(voiced, info.dynamics, part_k):     # a change inside a phrase
         staff.add_mark(firsts[start].measure, firsts[start].offset, 4, marks.wedge(kind))
         last = voiced.events[end - 1].event.note          # the hairpin closes as this note ends
         m, off = at_time(line, last.onset + last.duration)
@@ -80,8 +91,30 @@ def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, top: bool | 
     if lead if top is None else top:
         top_marks(staff, voiced, info)
     if lead and info.analysis and info.only_part is None:     # analysis: the score only, never a part
-        _analysis(staff, voiced, firsts)
+        _analysis(staff, voiced, firsts, None if staffing is None else k)
     return staff
+
+
+def _own_times(voiced: Voiced, k: int, plays: bool) -> list[tuple[Fraction, Fraction]]:
+    """The times of the passages staff ``k`` leads (``plays``: every passage it plays), from
+    each passage's first bar line (its pickup included) to the next passage's."""
+    staffing = voiced.staffing
+    assert staffing is not None
+    line = voiced.harmonized.line
+    bar = line.meter.bar
+    out = []
+    spans = line.passages
+    for j, ps in enumerate(spans):
+        staves = staffing.staves[staffing.of_passage[j]]
+        if (k in staves) if plays else staves[0] == k:
+            first = voiced.events[ps.first_note].event.note.onset if ps.first_note < len(voiced.events) else 0
+            lo = min(Fraction(ps.first_bar - 1) * bar, first) if j else Fraction(-10**9)
+            nxt = spans[j + 1] if j + 1 < len(spans) else None
+            hi = Fraction(10**9) if nxt is None else min(
+                Fraction(nxt.first_bar - 1) * bar,
+                voiced.events[nxt.first_note].event.note.onset if nxt.first_note < len(voiced.events) else 10**9)
+            out.append((lo, hi))
+    return out
 
 
 def top_marks(staff: Staff, voiced: Voiced, info: ScoreInfo) -> None:
@@ -91,17 +124,6 @@ def top_marks(staff: Staff, voiced: Voiced, info: ScoreInfo) -> None:
     shift = 1 if line.pickup else 0
     for bar, letter in marks.rehearsal_plan(voiced).items():
         staff.add_mark(bar - 1 + shift, Fraction(0), 0, marks.rehearsal(letter))
-
-
-# score order, top to bottom, by the family of a part's MusicXML sound id (common practice of
-# score layout; in a big band: saxophones, trumpets, trombones, then the rhythm section, which
-# the rhythm writer appends below everything)
-_SCORE_ORDER = (("wind.", 0), ("brass.french-horn", 1), ("brass.trumpet", 2), ("brass.flugelhorn", 2),
-                ("brass.cornet", 2), ("brass.trombone", 3), ("brass.tuba", 4), ("brass.", 4))
-
-
-def score_rank(sound: str) -> int:
-    return next((r for prefix, r in _SCORE_ORDER if sound.startswith(prefix)), 5)
 
 
 def score_order(staves: list[StaffPart], groups: list[tuple[int, int]]
@@ -121,12 +143,14 @@ def score_order(staves: list[StaffPart], groups: list[tuple[int, int]]
     return [staves[j] for j in order], [(where[a], where[b]) for a, b in groups]
 
 
-def _analysis(staff: Staff, voiced: Voiced, firsts: list) -> None:
+def _analysis(staff: Staff, voiced: Voiced, firsts: list, k: int | None = None) -> None:
     """Statement labels above the lead; the approach technique under each approach chord
-    (once per chord, not again under a held one)."""
+    (once per chord, not again under a held one); ``k``: a form's staff, over the events it leads."""
     starts = {st.start: st for st in voiced.harmonized.line.segments}
     for i, ve in enumerate(voiced.events):
         at = firsts[i]
+        if k is not None and (at is None or voiced.staffing is None or voiced.staffing.lead_staff(i) != k):
+            continue
         if i in starts:
             staff.add_mark(at.measure, at.offset, 3, marks.words(marks.statement_label(starts[i]), "above",
                                                                  **{"font-style": "italic"}))
@@ -157,7 +181,8 @@ def score_tree(voiced: Voiced, info: ScoreInfo, layers: tuple = ()) -> ET.Elemen
 def _score(voiced: Voiced, info: ScoreInfo, layers: tuple) -> tuple[str, str, str, list[StaffPart],
                                                                     list[tuple[int, int]]]:
     parts = voiced.section.parts
-    staves = [StaffPart(lead_staff(voiced, k, info, lead=k == 0, top=False), p, part_abbreviation(p), k)
+    leads = {0} if voiced.staffing is None else {st[0] for st in voiced.staffing.staves}
+    staves = [StaffPart(lead_staff(voiced, k, info, lead=k in leads, top=False), p, part_abbreviation(p), k)
               for k, p in enumerate(parts)]
     groups = marks.part_groups([(voiced.section, 0)], bracket_all=False)
     if layers:

@@ -4,6 +4,7 @@ from __future__ import annotations
 import json
 import re
 from fractions import Fraction
+from collections.abc import Sequence
 from typing import Any
 
 from arrange.theory.pitch import pitch_name
@@ -74,6 +75,17 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
     names = spelled_parts(voiced)[0]      # as the score spells them, at concert pitch
     fold = fold_index(voiced)
     lengths: list[tuple[Fraction, Fraction]] = []
+    staffing = voiced.staffing
+    every = range(len(voiced.section.parts))
+
+    def staves(i: int) -> Sequence[int]:
+        """The staves of event ``i``'s section, top to bottom (every part but in a form of sections)."""
+        return every if staffing is None else staffing.staves[staffing.of_event[i]]
+
+    def own(i: int) -> tuple[int, ...]:
+        ps = voiced.events[i].pitches
+        return ps if staffing is None else staffing.own(i, ps)
+
     for i, ve in enumerate(voiced.events):
         ev = ve.event
         n = ev.note
@@ -87,8 +99,8 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
             events[-1]["segments"].append({
                 "onset": json_number(n.onset), "duration": json_number(n.duration),
                 "chord": ev.chord.symbol, "role": ev.role, "technique": ev.technique,
-                "pitches": list(ve.pitches), "lead_function": ev.lead_function, "why": ev.why,
-                "voicing": ve.voicing, "names": [part[i] for part in names]})
+                "pitches": list(own(i)), "lead_function": ev.lead_function, "why": ev.why,
+                "voicing": ve.voicing, "names": [names[k][i] for k in staves(i)]})
             continue
         lengths.append((n.duration, n.perf_duration))
         events.append({
@@ -105,11 +117,14 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
             "lead_class": ev.lead_class,
             "target": ev.target.symbol if ev.target is not None else None,
             "anticipated": n.anticipated,
-            "voicing": ve.voicing, "pitches": list(ve.pitches),
-            "doublings": list(doublings(ve.pitches, ev.chord)),
-            "names": [part[i] for part in names],
+            "voicing": ve.voicing, "pitches": list(own(i)),
+            "doublings": list(doublings(own(i), ev.chord)),
+            "names": [names[k][i] for k in staves(i)],
             "segments": [],
         })
+        if staffing is not None:       # a form's passages with their own sections
+            events[-1]["section"] = staffing.section_of(i).name
+            events[-1]["parts"] = [voiced.section.parts[k].name for k in staves(i)]
 
     def at(ev: int | None) -> int | None:
         return fold[ev] if ev is not None and 0 <= ev < len(fold) else ev
@@ -123,13 +138,13 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
                  "part": f.part, "message": f.message, "severity": f.severity} for f in voiced.findings]
     warnings += [{"kind": kind, "event": at(ev), "bar": bar(ev), "part": None,
                   "message": msg, "severity": "warning"} for kind, ev, msg in h.warnings]
-    return {
+    data = {
         "title": title, "key": str(h.key), "meter": str(line.meter), "tempo": tempo,
         "groove": line.groove, "generator": f"arrange {version}",
         "swing": line.swing, "bars": line.bars, "dynamics": list(dynamics),
         "chain": line.chain.to_json() if line.chain is not None else None,
         "statements": _statement_table(voiced, dynamics, fold),
-        "passages": _passages(line, fold),
+        "passages": _passages(line, fold, staffing),
         "rhythm": _rhythm(line),
         "section": {"name": voiced.section.name, "parts": parts},
         "framework": [{"bar": fc.bar, "onset": json_number(fc.onset), "duration": json_number(fc.duration),
@@ -138,6 +153,11 @@ def report_data(voiced: Voiced, *, title: str, tempo: float, version: str,
         "events": events,
         "warnings": warnings,
     }
+    if staffing is not None:        # which section voiced which passages, and its staves
+        data["sections"] = [{"name": sec.name, "parts": [voiced.section.parts[k].name for k in staffing.staves[s]],
+                             "passages": [j + 1 for j, x in enumerate(staffing.of_passage) if x == s]}
+                            for s, sec in enumerate(staffing.sections)]
+    return data
 
 
 def phrase_numbers(line: Any) -> dict[int, int]:
@@ -163,16 +183,19 @@ def _passage_of(line: Any, index: int) -> int:
     return found
 
 
-def _passages(line: Any, fold: list[int]) -> list[dict[str, Any]]:
+def _passages(line: Any, fold: list[int], staffing: Any = None) -> list[dict[str, Any]]:
     """A form's passages: name, bars, key, material and, for a designed chain, the motif
-    chosen, its score and why, and the runners-up."""
+    chosen, its score and why, and the runners-up; with sections of their own, the section
+    that voiced each."""
     out = []
-    for p in line.passages:
+    for j, p in enumerate(line.passages):
         entry: dict[str, Any] = {"index": p.index, "name": p.name, "first_bar": p.first_bar,
                                  "last_bar": p.last_bar,
                                  "first_note": fold[p.first_note] if p.first_note < len(fold) else p.first_note,
                                  "key": p.key,
                                  "material": p.material, "about": p.about}
+        if staffing is not None:
+            entry["section"] = staffing.sections[staffing.of_passage[j]].name
         if p.design:
             (motif, score, why), *others = p.design
             entry["design"] = {"motif": motif, "score": score, "why": why,
@@ -273,10 +296,12 @@ def _passages_markdown(data: dict[str, Any]) -> list[str]:
     """The report's ``## Passages`` section (a form only)."""
     if not data.get("passages"):
         return []
-    out = ["## Passages", "", "| passage | name | bars | key | material |", "| --- | --- | --- | --- | --- |"]
+    own = any("section" in p for p in data["passages"])     # passages with sections of their own
+    out = ["## Passages", "", "| passage | name | bars | key | material |" + (" section |" if own else ""),
+           "| --- | --- | --- | --- | --- |" + (" --- |" if own else "")]
     for p in data["passages"]:
         out.append(f"| {p['index']} | {_cell(p['name'])} | {p['first_bar']}-{p['last_bar']} | {p['key']} | "
-                   f"{_cell(p['material'])} |")
+                   f"{_cell(p['material'])} |" + (f" {_cell(p.get('section'))} |" if own else ""))
     for p in data["passages"]:
         d = p.get("design")
         if not d:
@@ -347,7 +372,8 @@ def _why_names(note: Any, voiced: Voiced) -> str:
         k = names.index(part)
         for i, ve in enumerate(voiced.events):
             n = ve.event.note
-            if n.onset < t1 and t0 < n.onset + n.duration and ve.pitches[k] % 12 == pc:
+            p = ve.pitches[k]
+            if n.onset < t1 and t0 < n.onset + n.duration and p is not None and p % 12 == pc:
                 return split_name(lead[k][i])[0]
         return fallback
 
