@@ -57,8 +57,8 @@ def _layout(musicxml: bytes, page: dict[str, object] | None = None):  # noqa: AN
     options that set another page (the print writer's paper, scale and margins)."""
     tk = _toolkit(page)
     # the MusicXML is read only for verovio's MEI of it, which its line breaking does not
-    # change: read with no breaks, it is not cut into systems and pages (a third to a half
-    # of the read) before the MEI is laid out for the picture
+    # change: read with no breaks, it is not cut into systems and pages (more than half of
+    # the read) before the MEI is laid out for the picture
     tk.setOptions({"breaks": "none"})
     if not tk.loadData(_for_engraver(musicxml)):
         raise OutputError("verovio could not read the score it was given", where="preview",
@@ -68,7 +68,8 @@ def _layout(musicxml: bytes, page: dict[str, object] | None = None):  # noqa: AN
     if any(len(k) > 1 for k in keys.values()):
         mei = per_staff_keys(mei, keys)
     mei = spaced_symbols(mei)
-    tk.setOptions({"breaks": "auto", "lyricSize": _HARM_FONT * _HARM_SCALE, "svgBoundingBoxes": True})
+    tk.setOptions({"breaks": (page or {}).get("breaks", "auto"), "lyricSize": _HARM_FONT * _HARM_SCALE,
+                   "svgBoundingBoxes": True})
     tk.loadData(mei)
     return _uncrowd(tk, mei)
 
