@@ -103,17 +103,17 @@ def masks(pitches: np.ndarray, ctx: Context, section: Section) -> dict[str, np.n
     low = (d > 0) & (d <= 24) & (lim >= 0) & (P[:, 1:] < lim)
     out["low-interval"] = np.concatenate([zeros, low], axis=1)
     out["voice-crossing"] = np.concatenate([zeros, d < 0], axis=1)
-    # every pair (i above j): minor ninths and compounds
+    # every pair (i above j): minor ninths and compounds (i at least 13 semitones over j,
+    # its pitch class one over j's), but the b9 over a dominant's root (j the root)
     dd = P[:, :, None] - P[:, None, :]
     pc = P % 12
-    b9_ok = (ctx.dominant[:, None, None] & (pc[:, None, :] == ctx.root[:, None, None])
-             & (pc[:, :, None] == (ctx.root[:, None, None] + 1) % 12))
     upper = np.triu(np.ones((n, n), dtype=bool), k=1)[None]
-    m9 = upper & (dd >= 13) & (dd % 12 == 1) & ~b9_ok
+    b9_ok = ctx.dominant[:, None, None] & (pc == ctx.root[:, None])[:, None, :]
+    m9 = upper & (dd >= 13) & (pc[:, :, None] == ((pc + 1) % 12)[:, None, :]) & ~b9_ok
     out["minor-ninth"] = m9.any(axis=1)
-    onehot = pc[:, :, None] == np.arange(12)[None, None, :]
-    seen = np.cumsum(onehot, axis=1)
-    occurrence = np.take_along_axis(seen, pc[:, :, None], axis=2)[:, :, 0]
+    # the pitch class's occurrence from the top down: voice j is its k-th (j and those above)
+    same = pc[:, :, None] == pc[:, None, :]
+    occurrence = (same & np.tril(np.ones((n, n), dtype=bool))[None]).sum(axis=2)
     flagged = np.take_along_axis(ctx.flagged, pc, axis=1)
     out["doubling"] = (occurrence >= 2) & flagged & (pc != pc[:, :1]) & ~ctx.unison[:, None]
     upper_pairs = np.arange(n - 1) < (n - 1 if n <= 4 else n - 2)
