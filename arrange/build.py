@@ -242,8 +242,10 @@ def run_layers(project: Project, voiced: Voiced) -> tuple[VoicedLayer, ...]:
     layers = build_layers(voiced.harmonized, voiced, project.layers)
     if project.passages and layers:
         from arrange.form import mute_layers
+        from arrange.staffing import check_layer_overlaps
 
         layers = mute_layers(layers, voiced.harmonized, project.passages)
+        check_layer_overlaps(voiced, layers, project)
     return layers
 
 
@@ -305,7 +307,7 @@ def render_outputs(project: Project, voiced: Voiced, formats: tuple[str, ...],
 
         parts_dir = f"{slug}-parts"        # one folder, replaced as a whole (writers.files)
         named: list[tuple[str, bytes]] = [(voiced.section.parts[k].name, part_xml)
-                                          for k, part_xml in part_bytes(voiced, info).items()]
+                                          for k, part_xml in part_bytes(voiced, info, layers).items()]
         if layers:
             from arrange.writers.xml_layers import layer_part_bytes
 

@@ -22,7 +22,7 @@ from arrange.harmony.events import Harmonized
 from arrange.voicing.sections import Part, Section, score_rank
 from arrange.voicing.voicer import Staffing, Voiced, VoicedEvent, VoicingOptions
 
-__all__ = ["passage_sections", "voice_form", "check_players"]
+__all__ = ["passage_sections", "voice_form", "check_players", "check_layer_overlaps"]
 
 
 def passage_sections(project: Any) -> tuple[Section, ...]:
@@ -35,10 +35,12 @@ def _label(p: Any) -> str:
 
 
 def check_players(project: Any) -> None:
-    """Refuse what one set of staves cannot hold: a section naming one part twice, a part
-    name two sections give to different instruments, and a player a passage's own section
-    shares with a [[layers]] section (one player, one staff: the layers keep their own
-    staves, so the player would read two).  Only a form with more than one section."""
+    """Refuse what one staff per player cannot hold: a section naming one part twice, a part
+    name two sections (or a section and a [[layers]] section) give to different
+    instruments, and a player who would play two lines at once: in a section's passage and
+    in a layer that plays there too.  A layer's player who plays only where his section
+    rests reads one staff (``writers.common.shared_staves``).  Only a form with more than
+    one section."""
     secs = passage_sections(project)
     if len(set(secs)) < 2:
         return
@@ -56,18 +58,26 @@ def check_players(project: Any) -> None:
                                    f"{pt.instrument.key}, but section {first[0]!r} has {pt.name!r} as a "
                                    f"{first[1]}", where=p.where,
                                    accepted="one instrument per part name (a staff per player): rename one part")
+    for la in project.layers:
+        for pt in la.section.parts:
+            if pt.name in seen and seen[pt.name][1] != pt.instrument.key:
+                raise ProjectError(f"layer {la.index} ({la.section.name!r}): part {pt.name!r} is a "
+                                   f"{pt.instrument.key}, but section {seen[pt.name][0]!r} has {pt.name!r} as a "
+                                   f"{seen[pt.name][1]}", where=f"{project.path.name if project.path else 'project'} "
+                                   f"[[layers]] {la.index}",
+                                   accepted="one instrument per part name (a staff per player): rename one part")
     for p, sec in zip(project.passages, secs, strict=True):
-        if p.section is None:
-            continue
         own = {pt.name for pt in sec.parts}
         for la in project.layers:
+            if p.layers is not None and la.index not in p.layers:
+                continue
             shared = [pt.name for pt in la.section.parts if pt.name in own]
             if shared:
                 raise ProjectError(
                     f"{_label(p)}: its section {sec.name!r} and layer {la.index} ({la.role}, "
-                    f"{la.section.name!r}) share {shared[0]!r}", where=p.where,
-                    accepted="a layer of other players than the passage sections' (a player reads one "
-                             "staff), or another section for the passage")
+                    f"{la.section.name!r}) both play here and share {shared[0]!r}", where=p.where,
+                    accepted="the layer left out of this passage (layers = [...] without it; the player "
+                             "then reads one staff), a layer of other players, or another section")
 
 
 def _staves(sections: list[Section]) -> tuple[tuple[Part, ...], tuple[tuple[int, ...], ...]]:
@@ -136,3 +146,34 @@ def voice_form(harmonized: Harmonized, project: Any, options: VoicingOptions,
     section = Section(name, "the form's sections, one staff per player", parts)
     return Voiced(harmonized, section, tuple(events), tuple(findings),
                   Staffing(tuple(distinct), staves, of_passage, tuple(of_event)))
+
+
+def check_layer_overlaps(voiced: Voiced, layers: tuple[Any, ...], project: Any) -> None:
+    """A layer's player who reads his section's staff (the same part name and instrument)
+    must not sound a layer chord while his section plays (a later passage's pickup under the
+    pad's last chord, say): exit 2 naming the passage and the player."""
+    st = voiced.staffing
+    if st is None or not layers:
+        return
+    staff = {(p.name, p.instrument.key): k for k, p in enumerate(voiced.section.parts)}
+    line = voiced.harmonized.line
+    starts = [ps.first_note for ps in line.passages]
+    for vl in layers:
+        for k, part in enumerate(vl.layer.section.parts):
+            j = staff.get((part.name, part.instrument.key))
+            if j is None:
+                continue
+            spans = [(ve.event.note.onset, ve.event.note.onset + ve.event.note.duration, i)
+                     for i, ve in enumerate(voiced.events) if ve.pitches[j] is not None]
+            for n in vl.notes:
+                if n.pitches[k] is None:
+                    continue
+                hit = next((i for a, b, i in spans if a < n.onset + n.duration and n.onset < b), None)
+                if hit is not None:
+                    p = project.passages[max(q for q, s in enumerate(starts) if s <= hit)]
+                    raise ProjectError(
+                        f"{_label(p)}: {part.name} plays the passage's line at {float(voiced.events[hit].event.note.onset):g} "
+                        f"quarter notes while layer {vl.layer.index} ({vl.layer.role}) still sounds a chord "
+                        "there", where=p.where,
+                        accepted="the layer left out of the passage before (layers = [...]), or a layer of "
+                                 "other players")

@@ -272,14 +272,77 @@ def test_a_player_two_sections_share_reads_one_staff(tmp_path: Path) -> None:
     assert [next(m.name for m in t if m.type == "track_name") for t in mf.tracks[1:]] == names
 
 
+LOW_BRASS = "Eb4:4 | [Ab6] C4:4. Bb3:8 Ab3:4 Eb4:4 | [Bbm7] Db4:4 C4:8 Bb3:8 [Eb7] G3:4 Bb3:4 | [Ab6] Ab3:1 |"
+LOW_BRASS_MIDI = [m - 12 for m in BRASS_MIDI]
+TROMBONES = ["Trombone 1", "Trombone 2", "Trombone 3", "Bass Trombone"]
+
+
+def _pad_then_lead(layers: str) -> str:
+    """The soli over a trombone pad, the turn, then the trombones take the lead."""
+    return FORM.replace('section = "trumpets-4"', f'section = "trombones-4"\nlayers = {layers}').replace(
+        'name = "Turn"\n', 'name = "Turn"\nlayers = []\n').replace(BRASS, LOW_BRASS) \
+        + '\n[[layers]]\nsection = "trombones-4"\nrole = "pad"\nrhythm = "1"\ndynamics = "p"\n'
+
+
+def test_a_player_of_a_layer_and_a_passage_reads_one_staff(tmp_path: Path, musicxml_schema) -> None:
+    """The trombones pad under the soli, rest through the turn, then play the lead passage:
+    one staff per player (common practice of chart layout), read by music21: the trombone
+    staves hold the pad in the soli's bars and the lead line (its sounding pitches known from
+    the project text) in the last passage; mido reads one track per staff, the pad and the
+    lead on the same trombone tracks; the part files are one per player and validate."""
+    import mido
+    from music21 import converter
+
+    p = write_project(tmp_path, _pad_then_lead("[]"))
+    r = run_cli("build", str(p), "-o", str(tmp_path / "out"), "--parts")
+    assert r.exit_code == 0, r.output
+    out = tmp_path / "out"
+    report = json.loads((out / "two-sections.report.json").read_text())
+    score = converter.parse(str(out / "two-sections.musicxml"))
+    names = [pt.partName for pt in score.parts]
+    assert names == SAXES + TROMBONES
+    soli, brass = {0} | set(_bars(report, 1)), set(_bars(report, 3))
+    pad = report["layers"][0]["notes"]
+    for k, part in enumerate(score.parts[len(SAXES):]):
+        played = _sounding_by_measure(part)
+        bars = set(played)
+        assert bars & brass, part.partName
+        assert not bars & set(_bars(report, 2)) - {report["passages"][2]["first_bar"] - 1}, part.partName
+        # in the soli the staff holds the pad part's notes (music21's reading against the report's
+        # layer notes, a rest where the thinned pad leaves the part out)
+        assert [p for b in sorted(bars & soli) for p in played[b]] == \
+            [n["pitches"][k] for n in pad if n["pitches"][k] is not None], part.partName
+    assert any(n["pitches"][k] is not None for n in pad for k in range(4))
+    lead = _sounding_by_measure(score.parts[names.index("Trombone 1")])
+    assert [p for b in sorted(lead) if b >= report["passages"][2]["first_bar"] - 1 for p in lead[b]] \
+        == LOW_BRASS_MIDI
+    mf = mido.MidiFile(str(out / "two-sections.mid"))
+    tracks = {next(m.name for m in t if m.type == "track_name"): t for t in mf.tracks[1:]}
+    assert list(tracks) == names
+    beat = mf.ticks_per_beat
+    start = (report["passages"][2]["first_bar"] - 1) * 4 * beat
+    tick, ons = 0, []
+    for m in tracks["Trombone 1"]:
+        tick += m.time
+        if m.type == "note_on" and m.velocity:
+            ons.append((tick, m.note))
+    assert [n for t, n in ons if t >= start - beat] == LOW_BRASS_MIDI
+    tick, ons = 0, []
+    for m in tracks["Trombone 3"]:
+        tick += m.time
+        if m.type == "note_on" and m.velocity:
+            ons.append((tick, m.note))
+    assert [n for t, n in ons if t < start - beat] == [n["pitches"][2] for n in pad if n["pitches"][2] is not None]
+    files = sorted((out / "two-sections-parts").glob("*.musicxml"))
+    assert len(files) == len(SAXES) + len(TROMBONES)
+    for f in [out / "two-sections.musicxml", *files]:
+        musicxml_schema.validate(str(f))                 # MusicXML 4.0 XSD
+
+
 def test_a_player_a_layer_also_uses_is_refused(tmp_path: Path) -> None:
-    """A passage's section and a [[layers]] section that share a player (Trombone 1 of
-    trombones-4 both times) would give one player two staves: exit 2, one line naming the
-    passage and the player, nothing written."""
-    text = FORM.replace('section = "trumpets-4"', 'section = "trombones-4"').replace(
-        BRASS, "Eb4:4 | [Ab6] C4:4. Bb3:8 Ab3:4 Eb4:4 | [Bbm7] Db4:4 C4:8 Bb3:8 [Eb7] G3:4 Bb3:4 | [Ab6] Ab3:1 |") \
-        + '\n[[layers]]\nsection = "trombones-4"\nrole = "pad"\nrhythm = "1"\n'
-    p = write_project(tmp_path, text)
+    """The pad playing on under the trombones' own passage would give Trombone 1 two lines
+    at once: exit 2, one line naming the passage and the player, nothing written."""
+    p = write_project(tmp_path, _pad_then_lead("[1]"))
     r = run_cli("build", str(p), "-o", str(tmp_path / "out"))
     assert r.exit_code == 2, r.output
     errors = [x for x in r.output.splitlines() if x.startswith("arrange: error")]
@@ -307,3 +370,19 @@ def test_inline_section_in_a_passage(tmp_path: Path) -> None:
     assert programs["Alto Sax 1"] == [instrument.AltoSaxophone().midiProgram]
     report = json.loads((tmp_path / "out" / "two-sections.report.json").read_text())
     assert report["passages"][2]["section"] == "horns"
+
+
+def test_a_pad_still_sounding_under_its_players_pickup_is_refused(tmp_path: Path) -> None:
+    """Without the turn, the trombones' pickup starts in the soli's last bar, where their pad
+    still holds its chord: one player, two notes at once; exit 2 naming the passage and the
+    player, nothing written."""
+    text = _pad_then_lead("[]").replace('[[passages]]\nname = "Turn"\nlayers = []\n'
+                                        'chain = { design = true, statements = 4 }\n\n', '')
+    assert "Turn" not in text
+    p = write_project(tmp_path, text)
+    r = run_cli("build", str(p), "-o", str(tmp_path / "out"))
+    assert r.exit_code == 2, r.output
+    errors = [x for x in r.output.splitlines() if x.startswith("arrange: error")]
+    assert len(errors) == 1 and "Traceback" not in r.output, r.output
+    assert "passage 2" in errors[0] and "Trombone" in errors[0] and "layer 1" in errors[0], errors[0]
+    assert snapshot(tmp_path / "out") == {}

@@ -4,7 +4,8 @@ from __future__ import annotations
 from fractions import Fraction
 from typing import Any
 
-__all__ = ["json_number", "bar_of_event", "channel_for", "spelled_parts", "written_parts", "tied_on", "bass_names"]
+__all__ = ["json_number", "bar_of_event", "channel_for", "spelled_parts", "written_parts", "tied_on", "bass_names",
+           "shared_staves"]
 
 
 def json_number(q: Fraction) -> float | int:
@@ -21,6 +22,18 @@ def channel_for(part_index: int) -> int:
     """0-based MIDI channel of a part, skipping the percussion channel (9)."""
     ch = part_index if part_index < 9 else part_index + 1
     return ch % 16
+
+
+def shared_staves(voiced: Any, layers: tuple[Any, ...]) -> dict[tuple[int, int], int]:
+    """(layer, part) -> the staff of a form's section that the same player reads (the same
+    part name and instrument), in a form whose passages have their own sections
+    (``voiced.staffing``): the player plays the layer where his section rests, on one staff
+    (``staffing.check_players`` refuses a player the two would have play at once)."""
+    if voiced.staffing is None or not layers:
+        return {}
+    staff = {(p.name, p.instrument.key): k for k, p in enumerate(voiced.section.parts)}
+    return {(li, k): staff[(p.name, p.instrument.key)] for li, vl in enumerate(layers)
+            for k, p in enumerate(vl.layer.section.parts) if (p.name, p.instrument.key) in staff}
 
 
 def tied_on(voiced: Any, i: int, k: int) -> bool:

@@ -21,7 +21,7 @@ from fractions import Fraction
 from typing import TYPE_CHECKING, Any
 
 from arrange.voicing.voicer import Voiced
-from arrange.writers.common import channel_for, tied_on
+from arrange.writers.common import channel_for, shared_staves, tied_on
 from arrange.writers.marks import dynamic_of
 
 if TYPE_CHECKING:
@@ -109,6 +109,7 @@ def midi_bytes(voiced: Voiced, tempo: float, options: MidiOptions | None = None,
         (0, 2, mido.MetaMessage("set_tempo", tempo=mpq)),
     ]))
 
+    shared = shared_staves(voiced, layers)     # a form's player who reads one staff (common.shared_staves)
     for k, part in enumerate(voiced.section.parts):
         ch = channel_for(k)
         evs = track_head(part.name, ch, part.instrument.program)
@@ -137,6 +138,9 @@ def midi_bytes(voiced: Voiced, tempo: float, options: MidiOptions | None = None,
             prev_end[pitch] = off
         for pitch, on, off, velocity in played:
             _note(evs, ch, pitch, on, off, velocity)
+        for (li, kk), staff_k in shared.items():    # a layer's part its player plays here too
+            if staff_k == k:
+                _layer_notes(evs, ch, layers[li], kk, lead_in)
         mf.tracks.append(track_from(evs))
     rhythm_count = 0
     if rhythm is not None:
@@ -158,27 +162,35 @@ def midi_bytes(voiced: Voiced, tempo: float, options: MidiOptions | None = None,
             mf.tracks.append(track_from(evs))
     if layers:   # after the rhythm section's bass channel, when there is one
         first = len(voiced.section.parts) + rhythm_count
-        mf.tracks.extend(layer_tracks(layers, first, lead_in))
+        mf.tracks.extend(layer_tracks(layers, first, lead_in, set(shared)))
     buf = io.BytesIO()
     mf.save(file=buf)
     return buf.getvalue()
 
 
-def layer_tracks(layers: tuple[VoicedLayer, ...], first_index: int, lead_in: Fraction) -> list[Any]:
-    """MIDI tracks of the layers' parts (channels after the lead section's)."""
+def layer_tracks(layers: tuple[VoicedLayer, ...], first_index: int, lead_in: Fraction,
+                 skip: set[tuple[int, int]] | None = None) -> list[Any]:
+    """MIDI tracks of the layers' parts (channels after the lead section's); ``skip``: the
+    (layer, part)s played on a form's section track by the same player."""
     tracks = []
     index = first_index
-    for vl in layers:
-        vel = vl.layer.velocity
+    for li, vl in enumerate(layers):
         for k, part in enumerate(vl.layer.section.parts):
+            if skip and (li, k) in skip:
+                continue
             ch = channel_for(index)
             evs = track_head(part.name, ch, part.instrument.program)
-            for n in vl.notes:
-                pitch = n.pitches[k]
-                if pitch is None:
-                    continue
-                on = _tick(n.onset + lead_in)
-                _note(evs, ch, pitch, on, max(on + 1, _tick(n.onset + n.duration + lead_in) - 1), vel)
+            _layer_notes(evs, ch, vl, k, lead_in)
             tracks.append(track_from(evs))
             index += 1
     return tracks
+
+
+def _layer_notes(evs: list[tuple[int, int, Any]], ch: int, vl: VoicedLayer, k: int, lead_in: Fraction) -> None:
+    vel = vl.layer.velocity
+    for n in vl.notes:
+        pitch = n.pitches[k]
+        if pitch is None:
+            continue
+        on = _tick(n.onset + lead_in)
+        _note(evs, ch, pitch, on, max(on + 1, _tick(n.onset + n.duration + lead_in) - 1), vel)

@@ -41,7 +41,8 @@ def at_time(line, t: Fraction) -> tuple[int, Fraction]:  # noqa: ANN001
     return m + shift, t - m * bar
 
 
-def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, top: bool | None = None) -> Staff:
+def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, top: bool | None = None,
+               layers: tuple = ()) -> Staff:
     """Part ``k`` of the lead section; ``lead``: this staff carries the chord symbols;
     ``top`` (default ``lead``): it also carries tempo, style and letters (:func:`top_marks`;
     in the full score they go over the top staff, score order).  Symbols stand at the beat
@@ -71,6 +72,13 @@ def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, top: bool | 
         # pitch across the cut is tied, the others move (common practice)
         tied = n.tied and i > 0 and voiced.events[i - 1].pitches[k] == ve.pitches[k]
         firsts.append(staff.add_note(names[i], n.onset, n.duration, n.articulation, written=True, tied=tied))
+    if staffing is not None and layers:     # a layer's part its player plays where his section rests
+        from arrange.writers.common import shared_staves
+        from arrange.writers.xml_layers import add_layer_notes
+
+        for (li, kk), staff_k in shared_staves(voiced, layers).items():
+            if staff_k == k:
+                add_layer_notes(staff, voiced, layers, li, kk, info.concert)
     mine = None if staffing is None else _own_times(voiced, k, info.only_part is not None)
     if lead and (mine is None or mine):
         for t, chord in chord_changes([ve.event for ve in voiced.events], h.framework):
@@ -166,7 +174,7 @@ def musicxml_bytes(voiced: Voiced, info: ScoreInfo, layers: tuple = ()) -> bytes
     parts = voiced.section.parts
     if info.only_part is not None:
         k = info.only_part
-        staff = lead_staff(voiced, k, info, lead=True)
+        staff = lead_staff(voiced, k, info, lead=True, layers=layers)
         return document(info.title, info.version, parts[k].name,
                         [StaffPart(staff, parts[k], part_abbreviation(parts[k]), k)], [])
     return document(*_score(voiced, info, layers))
@@ -182,7 +190,8 @@ def _score(voiced: Voiced, info: ScoreInfo, layers: tuple) -> tuple[str, str, st
                                                                     list[tuple[int, int]]]:
     parts = voiced.section.parts
     leads = {0} if voiced.staffing is None else {st[0] for st in voiced.staffing.staves}
-    staves = [StaffPart(lead_staff(voiced, k, info, lead=k in leads, top=False), p, part_abbreviation(p), k)
+    staves = [StaffPart(lead_staff(voiced, k, info, lead=k in leads, top=False, layers=layers), p,
+                        part_abbreviation(p), k)
               for k, p in enumerate(parts)]
     groups = marks.part_groups([(voiced.section, 0)], bracket_all=False)
     if layers:
@@ -198,9 +207,10 @@ def _score(voiced: Voiced, info: ScoreInfo, layers: tuple) -> tuple[str, str, st
     return (info.title, info.version, "Concert score" if info.concert else "Transposed score", staves, groups)
 
 
-def part_bytes(voiced: Voiced, info: ScoreInfo) -> dict[int, bytes]:
-    """One MusicXML file per part, in written pitch, each with its own marks."""
+def part_bytes(voiced: Voiced, info: ScoreInfo, layers: tuple = ()) -> dict[int, bytes]:
+    """One MusicXML file per part, in written pitch, each with its own marks (``layers``:
+    a layer's part whose player reads this staff, ``common.shared_staves``)."""
     from dataclasses import replace
 
-    return {k: musicxml_bytes(voiced, replace(info, only_part=k, concert=False))
+    return {k: musicxml_bytes(voiced, replace(info, only_part=k, concert=False), layers)
             for k in range(len(voiced.section.parts))}

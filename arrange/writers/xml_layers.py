@@ -13,11 +13,11 @@ from fractions import Fraction
 from arrange.voicing.layers import VoicedLayer
 from arrange.voicing.voicer import Voiced
 from arrange.writers import marks
-from arrange.writers.common import written_parts
+from arrange.writers.common import shared_staves, written_parts
 from arrange.writers.xml_document import StaffPart, document, heading, passage_bars, written_keys
 from arrange.writers.xml_score import ScoreInfo, Staff, concert_clef, interval_of, part_abbreviation
 
-__all__ = ["layer_staves", "layer_part_bytes"]
+__all__ = ["layer_staves", "layer_part_bytes", "add_layer_notes"]
 
 
 def _staff(voiced: Voiced, layers: tuple[VoicedLayer, ...], li: int, k: int, info: ScoreInfo,
@@ -33,7 +33,16 @@ def _staff(voiced: Voiced, layers: tuple[VoicedLayer, ...], li: int, k: int, inf
     if concert and part.instrument.transposition:
         clef = concert_clef(clef, [p for n in vl.notes if (p := n.pitches[k]) is not None])
     staff = Staff(h.line, written_keys(h, ivl, info.signatures), clef, ivl, passage_bars(h.line))
-    bar_len = h.line.meter.bar
+    add_layer_notes(staff, voiced, layers, li, k, concert)
+    return staff
+
+
+def add_layer_notes(staff: Staff, voiced: Voiced, layers: tuple[VoicedLayer, ...], li: int, k: int,
+                    concert: bool) -> None:
+    """Layer ``li``'s part ``k`` written on ``staff`` (its own, or the staff its player reads
+    in a form's section, ``common.shared_staves``)."""
+    vl = layers[li]
+    bar_len = voiced.harmonized.line.meter.bar
     voice = [n.pitches[k] for n in vl.notes]
     names = written_parts(voiced, layers, concert)[1][li][k]   # theory.written, one rule for all
     last_end: Fraction | None = None
@@ -50,8 +59,6 @@ def _staff(voiced: Voiced, layers: tuple[VoicedLayer, ...], li: int, k: int, inf
                                written=True)
         if not entered:
             staff.add_mark(first.measure, first.offset, 4, marks.dynamic(vl.layer.dynamics))
-    del info
-    return staff
 
 
 def layer_staves(voiced: Voiced, layers: tuple[VoicedLayer, ...], info: ScoreInfo,
@@ -60,13 +67,17 @@ def layer_staves(voiced: Voiced, layers: tuple[VoicedLayer, ...], info: ScoreInf
     staves: list[StaffPart] = []
     groups = []
     index = first
+    shared = shared_staves(voiced, layers)
     for li, vl in enumerate(layers):
         start = index
         for k, part in enumerate(vl.layer.section.parts):
+            if (li, k) in shared:         # the player reads his section's staff
+                continue
             staves.append(StaffPart(_staff(voiced, layers, li, k, info, info.concert), part,
                                     part_abbreviation(part), index))
             index += 1
-        groups.append((start, index - 1))
+        if index > start:
+            groups.append((start, index - 1))
     return staves, groups
 
 
@@ -79,8 +90,11 @@ def layer_part_bytes(voiced: Voiced, info: ScoreInfo, layers: tuple[VoicedLayer,
     letters = {bar - 1 + shift: letter for bar, letter in marks.rehearsal_plan(voiced).items()}
     out = []
     index = len(voiced.section.parts)
+    shared = shared_staves(voiced, layers)
     for li, vl in enumerate(layers):
         for k, part in enumerate(vl.layer.section.parts):
+            if (li, k) in shared:         # in the part file of his section's staff
+                continue
             staff = _staff(voiced, layers, li, k, info, False)
             heading(staff, info, line)
             for m_i, letter in letters.items():
