@@ -14,7 +14,7 @@ import re
 
 from arrange.errors import OutputError
 
-__all__ = ["svg_bytes", "png_bytes", "have_png", "PAGE_WIDTH", "MAX_PAGES", "toolkit_for", "per_staff_keys", "pages",
+__all__ = ["svg_bytes", "png_bytes", "have_png", "PAGE_WIDTH", "MAX_HEIGHT", "toolkit_for", "per_staff_keys", "pages",
            "symbol_gaps", "SYMBOL_GAP", "spaced_symbols",
            "staff_keys", "drawn_page"]
 
@@ -22,9 +22,13 @@ PAGE_WIDTH = 2100      # verovio units (tenths of a mm): an A4 page width
 PAGE_HEIGHT = 2970
 _SCALE = 40            # percent: a legible picture of a whole A4 page
 _PIXELS = 1.5          # picture pixels per SVG unit: about 1260 pixels across
-# the picture holds at most this many pages (6 A4 pages at 1.5 pixels a unit stay under
-# cairo's 32,767-pixel image limit; a longer score is drawn from its first pages)
-MAX_PAGES = 6
+# the picture is at most this many pixels high: resvg (tiny-skia) has no image-size limit of
+# its own (cairo's was 32,767 pixels), but it holds the whole picture in memory, about ten
+# bytes a pixel while it draws and encodes (measured: 1260 x 12,000 pixels, 130 MB; 1260 x
+# 40,000, 410 MB), so 24,000 pixels (about 250 MB) keeps an ordinary laptop comfortable
+# and draws a 32-bar chart and its transition whole (about 12,000 pixels for a 9-staff
+# score); a longer score is drawn from its first pages, and a notice says so
+MAX_HEIGHT = 24_000
 
 
 def _toolkit(page: dict[str, object] | None = None):  # noqa: ANN202
@@ -266,16 +270,22 @@ _VIEWBOX = re.compile(r'viewBox="0 0 ([\d.]+) ([\d.]+)"')
 
 
 def svg_bytes(musicxml: bytes, notes: list[str] | None = None) -> bytes:
-    """The pages (at most :data:`MAX_PAGES`) in one SVG, stacked, on a white ground;
-    a one-line notice goes to ``notes`` when the score has more."""
-    docs, total = pages(musicxml, MAX_PAGES)
-    if total > len(docs) and notes is not None:
-        notes.append(f"preview: the first {len(docs)} of {total} pages are drawn (the picture holds "
-                     f"at most {MAX_PAGES}); the MusicXML score holds them all")
+    """Every page in one SVG, stacked, on a white ground, as long as the picture stays within
+    :data:`MAX_HEIGHT` pixels; a one-line notice goes to ``notes`` when pages are left out."""
+    docs = _layout(musicxml)[1]
+    total = len(docs)
     sizes = []
     for d in docs:
         m = _VIEWBOX.search(d)
         sizes.append((float(m.group(1)), float(m.group(2))) if m else (float(PAGE_WIDTH), float(PAGE_HEIGHT)))
+    drawn, high = 0, 0.0
+    while drawn < len(docs) and (drawn == 0 or (high + sizes[drawn][1]) * _PIXELS <= MAX_HEIGHT):
+        high += sizes[drawn][1]
+        drawn += 1
+    docs, sizes = [drawn_page(d) for d in docs[:drawn]], sizes[:drawn]
+    if total > drawn and notes is not None:
+        notes.append(f"preview: the first {drawn} of {total} pages are drawn (the picture holds at most "
+                     f"{MAX_HEIGHT:,} pixels in height); the MusicXML score holds them all")
     width = max(w for w, _ in sizes)
     height = sum(h for _, h in sizes)
     body = []
