@@ -29,6 +29,7 @@ __all__ = ["check_size", "written_notes", "MAX_SCORE_NOTES", "run_pipeline", "ru
 
 @dataclass(frozen=True, slots=True)
 class BuildResult:
+    """What a build wrote: the voiced passage, the written files and the voiced layers."""
     voiced: Voiced
     files: tuple[Path, ...]
     layers: tuple[VoicedLayer, ...] = ()

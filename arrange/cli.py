@@ -6,9 +6,7 @@ Exit codes: 0 success, 2 bad input (one-line message), 1 internal fault
 """
 from __future__ import annotations
 
-import json
 import sys
-import traceback
 from collections.abc import Callable
 from pathlib import Path
 from typing import Any, TypeVar
@@ -33,6 +31,8 @@ def _fail(err: BaseException) -> None:
         click.echo(f"arrange: error: {one_line(str(err))}", err=True)
         sys.exit(2)
     if _State.debug:
+        import traceback
+
         traceback.print_exc()
     else:
         click.echo(f"arrange: internal error: {one_line(f'{type(err).__name__}: {err}')} "
@@ -143,6 +143,8 @@ def chain(motif: str, statements: int, overlap: int | None, overlaps: str | None
         rng = (lo, hi)
     c = build_chain(notes, statements, ov, rng)
     if as_json:
+        import json
+
         click.echo(json.dumps(c.to_json()))
         return
     click.echo(_chain_table(c))
@@ -324,6 +326,8 @@ def sections(as_json: bool) -> None:
 
     table = all_sections()
     if as_json:
+        import json
+
         click.echo(json.dumps({
             name: {"description": s.description,
                    "parts": [{"name": p.name, "instrument": p.instrument.key,
@@ -398,6 +402,8 @@ def explain(term: str | None, as_json: bool) -> None:
     entries: list[dict[str, Any]] = [{"term": t.term, "aliases": list(t.aliases), "meaning": t.meaning,
                 "example": _example(t), "example_from": t.example_from} for t in terms]
     if as_json:
+        import json
+
         click.echo(json.dumps(entries))
         return
     import textwrap
@@ -576,6 +582,8 @@ def design(length: int, statements: int, overlap: int, start: str | None, max_st
                                                       _build_errors).encode("utf-8")})
         click.echo(f"wrote {write_project}", err=True)
     if as_json:
+        import json
+
         click.echo(json.dumps(found.to_json()))
         return
     if count_only:

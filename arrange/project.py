@@ -40,6 +40,7 @@ MAX_TITLE = 120
 
 @dataclass(frozen=True, slots=True)
 class ChainSpec:
+    """The project's ``[chain]`` table: motif, statements, overlap(s), lead range."""
     motif: tuple[int, ...]
     statements: int
     overlap: int | tuple[int, ...]
@@ -48,6 +49,7 @@ class ChainSpec:
 
 @dataclass(frozen=True, slots=True)
 class OutputSpec:
+    """The project's ``[output]`` table: formats and what the files carry."""
     formats: tuple[str, ...]
     dynamics: tuple[str, ...] = ("mf",)   # one per statement; the last holds for the rest
     analysis: bool = False                # statement labels, approach techniques
@@ -63,6 +65,7 @@ class OutputSpec:
 
 @dataclass(frozen=True, slots=True)
 class Project:
+    """A project file read and checked: every stage's settings."""
     path: Path | None
     title: str
     slug: str

@@ -43,6 +43,7 @@ MAX_NOTES = 100_000  # a longer line would take minutes downstream
 
 @dataclass(frozen=True, slots=True)
 class Statement:
+    """One statement of a chain: its form (P or RI), transposition, pitches and first note."""
     index: int            # 1-based
     form: str             # "P" or "RI"
     transposition: int    # semitones against the motif (see module doc)
@@ -53,6 +54,7 @@ class Statement:
 
 @dataclass(frozen=True, slots=True)
 class Chain:
+    """A motif grown into a chain of statements, raw and placed (``arrange chain --json``)."""
     motif: tuple[int, ...]
     overlaps: tuple[int, ...]         # one per link (len = statements - 1)
     statements: tuple[Statement, ...]

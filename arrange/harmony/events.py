@@ -17,6 +17,7 @@ __all__ = ["FrameworkChord", "Event", "Harmonized", "stated_framework"]
 
 @dataclass(frozen=True, slots=True)
 class FrameworkChord:
+    """A chord of the framework: the bar, onset and duration it holds."""
     bar: int             # 1-based
     onset: Fraction      # quarter notes
     duration: Fraction
@@ -25,6 +26,7 @@ class FrameworkChord:
 
 @dataclass(frozen=True, slots=True)
 class Event:
+    """A lead note with the chord that sounds from its onset, its role, technique and why."""
     note: Note
     chord: Chord
     role: str            # "framework" or "approach"
@@ -38,6 +40,7 @@ class Event:
 
 @dataclass(frozen=True, slots=True)
 class Harmonized:
+    """The harmony stage's value: the line, key, framework, events, warnings and key changes."""
     line: Line
     key: Key
     framework: tuple[FrameworkChord, ...]

@@ -44,6 +44,7 @@ MODULATE = ("none", "by-statement")
 
 @dataclass(frozen=True, slots=True)
 class HarmonyOptions:
+    """The project's ``[harmony]`` table: framework, approach techniques, preset, keys."""
     framework: tuple[tuple[str, ...], ...] = ()        # tokens per bar as written: "Gm7:3"
     approach: tuple[str, ...] = TECHNIQUES
     preset: str | None = None

@@ -21,7 +21,7 @@ from fractions import Fraction
 
 from arrange.harmony.approach import classify
 from arrange.harmony.events import FrameworkChord
-from arrange.rhythm.groove import warp
+from arrange.rhythm.groove import swing_fraction, warp
 from arrange.rhythm.line import Line, Note
 from arrange.rhythm.meter import metric_weight
 from arrange.theory.keys import Key
@@ -35,7 +35,7 @@ def _perf(line: Line, t: Fraction) -> Fraction:
     """Performed time of written time ``t`` (as the rhythm stage performs the lead)."""
     if line.notate == "12/8" or line.swing == 0.5:
         return t
-    return warp(t, Fraction(line.swing).limit_denominator(1000))
+    return warp(t, swing_fraction(line.swing))
 
 
 def _cuts(note: Note, fw: tuple[FrameworkChord, ...], key_of,  # noqa: ANN001

@@ -38,6 +38,7 @@ ACCEPTED = ("a readable MusicXML (.musicxml, .xml, .mxl), MIDI (.mid, .midi) or 
 
 @dataclass(frozen=True, slots=True)
 class MelodyNote:
+    """One lead note of a melody file: sounding pitch, onset and duration."""
     pitch: int            # sounding MIDI number
     onset: Fraction       # quarter notes from the downbeat of bar 1 (a pickup is negative)
     duration: Fraction
@@ -45,6 +46,7 @@ class MelodyNote:
 
 @dataclass(frozen=True, slots=True)
 class Melody:
+    """A lead line from outside the project: notes, meter, key, pickup, chord symbols."""
     notes: tuple[MelodyNote, ...]
     meter: str | None                      # "4/4" as the file writes it, None if it has none
     key: str | None                        # "F major", None if the file has no key

@@ -25,6 +25,7 @@ MAX_TOKENS = 256
 
 @dataclass(frozen=True, slots=True)
 class Token:
+    """One token of a rhythm cell: a duration, or a rest of that duration."""
     duration: Fraction
     rest: bool
     text: str

@@ -9,6 +9,7 @@ straight, with strong-beat notes optionally anticipated by an eighth.
 from __future__ import annotations
 
 from fractions import Fraction
+from functools import lru_cache
 
 __all__ = ["GROOVES", "GROOVE_ONLY", "DEFAULT_CELL", "DEFAULT_SWING", "ARTICULATIONS", "warp",
            "groove_articulation", "SHUFFLE"]
@@ -30,17 +31,26 @@ ARTICULATIONS = ("groove", "none", "accent", "staccato", "tenuto")
 GROOVE_ONLY = {"swing": "swing", "anticipate": "latin", "notate": "shuffle"}
 
 
+_HALF = Fraction(1, 2)
+
+
 def warp(t: Fraction, ratio: Fraction) -> Fraction:
     """Performed time of written time ``t``: inside each quarter-note beat the
     first written half lasts ``ratio`` of the beat, the second the rest."""
-    if ratio == Fraction(1, 2):
+    if ratio == _HALF:
         return t
     beat = t // 1
     x = t - beat
-    half = Fraction(1, 2)
-    if x <= half:
+    if x <= _HALF:
         return beat + x * 2 * ratio
-    return beat + ratio + (x - half) * 2 * (1 - ratio)
+    return beat + ratio + (x - _HALF) * 2 * (1 - ratio)
+
+
+@lru_cache(maxsize=64)
+def swing_fraction(swing: float) -> Fraction:
+    """A project's swing (the long share of a pair, a float) as the exact ratio
+    :func:`warp` takes (nearest fraction with a denominator up to 1000)."""
+    return Fraction(swing).limit_denominator(1000)
 
 
 def groove_articulation(groove: str, onset: Fraction, duration: Fraction, weight: int,

@@ -41,6 +41,7 @@ HALF = Fraction(1, 2)
 
 @dataclass(frozen=True, slots=True)
 class Note:
+    """One lead note: pitch, written and performed time, statement, weight, articulation."""
     index: int               # 0-based position in the line
     pitch: int               # sounding MIDI number of the lead
     onset: Fraction          # quarter notes from the downbeat of bar 1 (pickup < 0)
@@ -57,6 +58,7 @@ class Note:
 
 @dataclass(frozen=True, slots=True)
 class StatementSpan:
+    """Where a statement lies in the line: onset, duration, augmentation, bars."""
     index: int               # 1-based statement
     onset: Fraction          # first value of the statement (a rest or a note)
     duration: Fraction       # the statement's values, augmented (rests between excluded)
@@ -91,6 +93,7 @@ class PassageSpan:
 
 @dataclass(frozen=True, slots=True)
 class RhythmOptions:
+    """The project's ``[rhythm]`` table: groove, swing, cell, augmentation and the rest."""
     groove: str = "straight"
     swing: Fraction = HALF               # long share; 1/2 straight, 2/3 shuffle
     cell: tuple[Token, ...] | None = None    # None: the groove's default (or "motif")
@@ -111,6 +114,7 @@ class RhythmOptions:
 
 @dataclass(frozen=True, slots=True)
 class Line:
+    """The rhythm stage's value: the lead notes in time, with meter, groove and spans."""
     chain: Chain | None      # None: a melody (or a form) brought its own notes
     meter: Meter             # the written meter (12/8 for a shuffle written out)
     notes: tuple[Note, ...]

@@ -40,6 +40,7 @@ WEIGHTS = {0: "downbeat", 1: "beat", 2: "off-beat", 3: "finer"}
 
 @dataclass(frozen=True, slots=True)
 class Meter:
+    """A time signature (numerator over denominator)."""
     numerator: int
     denominator: int
 

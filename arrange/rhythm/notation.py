@@ -49,6 +49,7 @@ def is_triplet(d: Fraction) -> bool:
 
 @dataclass(frozen=True, slots=True)
 class Piece:
+    """A written piece of a note or rest inside one measure, with its ties."""
     measure: int          # 0-based index of the written measure (the pickup, if any, is 0)
     offset: Fraction      # offset inside the measure, quarter notes
     duration: Fraction

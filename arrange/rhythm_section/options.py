@@ -31,6 +31,7 @@ _BY_GROOVE = {"swing": "walking", "shuffle": "shuffle", "latin": "tumbao", "stra
 
 @dataclass(frozen=True, slots=True)
 class RhythmSectionOptions:
+    """The project's ``[rhythm_section]`` table: parts, bass style and instrument, fills."""
     parts: tuple[str, ...] = ()
     bass: str = "auto"
     bass_instrument: str = "auto"

@@ -18,6 +18,7 @@ __all__ = ["BassNote", "Slash", "DrumHit", "Cue", "DrumPart", "RhythmSection", "
 
 @dataclass(frozen=True, slots=True)
 class BassNote:
+    """One note of the written bass line."""
     onset: Fraction
     duration: Fraction
     pitch: int            # sounding
@@ -40,6 +41,7 @@ class Slash:
 
 @dataclass(frozen=True, slots=True)
 class DrumHit:
+    """One General MIDI drum hit of the mock-up."""
     onset: Fraction
     duration: Fraction
     key: int              # General MIDI percussion key (GM 1 percussion key map)
@@ -56,6 +58,7 @@ class Cue:
 
 @dataclass(frozen=True, slots=True)
 class DrumPart:
+    """What the drummer reads (style, time, cues, fills) and the mock-up's hits."""
     style: str                         # the word over the first bar: "Swing", "Latin" ...
     time: tuple[Fraction, ...]         # onsets of the time slashes (one per beat)
     cues: tuple[Cue, ...]              # the section's hits and anticipations
@@ -65,6 +68,7 @@ class DrumPart:
 
 @dataclass(frozen=True, slots=True)
 class RhythmSection:
+    """The rhythm-section stage's value: the asked parts and what each reads."""
     parts: tuple[str, ...]             # asked parts, in score order (PARTS)
     bass_style: str                    # walking, two-beat, tumbao, shuffle, roots-fifths
     bass_instrument: str               # an instrument key of voicing_rules/instruments.toml

@@ -16,7 +16,6 @@ spelling, and ``parse_chord(c.symbol) == c`` for every chord (the round trip).
 """
 from __future__ import annotations
 
-import difflib
 import re
 from dataclasses import dataclass
 from functools import lru_cache
@@ -117,6 +116,7 @@ def _normalise(text: str) -> str:
 
 @dataclass(slots=True)
 class _Parts:
+    """A chord symbol's parts while it is read."""
     third: str = "M"         # M, m, sus2, sus4
     fifth: int = 7           # 6 (b5), 7, 8 (#5)
     sixth: bool = False
@@ -132,6 +132,8 @@ def _suggest(text: str) -> str:
     root = m.group(0) if m else "C"
     suffixes = dict.fromkeys(_ROOT_RE.sub("", v, count=1) for v in VOCABULARY)
     pool = [root + q for q in suffixes if "/" not in q or q == "6/9"]
+    import difflib          # only for the suggestion in an error
+
     close = difflib.get_close_matches(s, pool, n=3, cutoff=0.4)
     return ("closest: " + ", ".join(close) + "; " if close else "") + \
         "a root A-G (b #) then a quality such as m, dim, aug, sus4, 6, 6/9, maj7, m7, 7, m7b5, " \

@@ -63,6 +63,7 @@ def _fifths(tonic: int, tonic_name: str, mode: str) -> int:
 
 @dataclass(frozen=True, slots=True)
 class Key:
+    """A key: tonic pitch class, its spelled name and the mode."""
     tonic: int          # pitch class
     tonic_name: str     # "Bb", "F#"
     mode: str           # a key of MODES

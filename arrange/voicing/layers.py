@@ -39,7 +39,7 @@ from arrange.tables import Table
 from arrange.theory.chords import Chord
 from arrange.theory.pitch import pitch_name
 from arrange.voicing import rules
-from arrange.voicing.pads import (candidates, clash_pairs, cross_costs, fits_under, layer_rules, rubs,
+from arrange.voicing.pads import (candidates, clash_counts, clash_pairs, cross_costs, fits_under, layer_rules, rubs,
                                   tone_order, velocity)
 from arrange.voicing.sections import Section, section_from_table
 from arrange.voicing.shapes import recipes
@@ -429,7 +429,7 @@ def _fewest_clashes(P: np.ndarray, R: np.ndarray, chord: Chord,
     then names the tones it leaves out, the root among them, and the lead notes they would rub)."""
     count = np.zeros(len(P), dtype=np.int64)
     for _i, _w, pitches in snd:
-        count += (clash_pairs(P, np.array(pitches, dtype=np.int64), chord) & ~R[:, :, None]).sum(axis=(1, 2))
+        count += clash_counts(P, ~R, pitches, chord)
     if not pool.any():
         return pool
     return pool & (count == count[pool].min())

@@ -31,7 +31,7 @@ from arrange.voicing.sections import Section, read_rules
 from arrange.voicing.shapes import fifth_pc, recipes
 
 __all__ = ["LayerRules", "layer_rules", "tone_order", "pc_sets", "safe_pcs", "rubs", "thinned_sets",
-           "room_sets", "candidates", "cross_costs", "clash_pairs", "fits_under", "velocity"]
+           "room_sets", "candidates", "cross_costs", "clash_pairs", "clash_counts", "fits_under", "velocity"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -329,14 +329,35 @@ def clash_pairs(layer: np.ndarray, lead: np.ndarray, chord: Chord) -> np.ndarray
     """``(m, n, q)`` bool: voice j of background voicing i against lead-section pitch
     q lies a minor second, minor ninth or compound apart.  The b9 over a dominant's
     root is kept, as inside a section (:mod:`arrange.rules`)."""
-    d = lead[None, None, :] - layer[:, :, None]
-    hit = (np.abs(d) % 12 == 1)
-    if chord.is_dominant:
-        low = np.where(d > 0, layer[:, :, None], lead[None, None, :]) % 12
-        high = np.where(d > 0, lead[None, None, :], layer[:, :, None]) % 12
-        ok = (low == chord.root) & (high == (chord.root + 1) % 12) & (np.abs(d) >= 13)
+    # |lead - voice| is 1 mod 12 (a minor second, ninth or compound): with the lead above,
+    # its pitch class lies 1 over the voice's; with the lead below, 11 over it.  Read from
+    # a table by pitch class (voice x lead), with one comparison per pair for the side
+    lead_pc = lead % 12
+    step = (lead_pc[None, :] - np.arange(12)[:, None]) % 12          # (12, q): lead minus voice
+    layer_pc = layer % 12
+    above = lead[None, None, :] > layer[:, :, None]                   # (m, n, q)
+    hit = np.where(above, (step == 1)[layer_pc], (step == 11)[layer_pc])
+    root, b9 = chord.root, (chord.root + 1) % 12
+    if chord.is_dominant and ((lead_pc == root) | (lead_pc == b9)).any():
+        # the b9 over the root kept: the root below, the b9 at least a ninth above it
+        d = lead[None, None, :] - layer[:, :, None]
+        lp = layer_pc[:, :, None]
+        ok = (((lp == root) & (lead_pc == b9)[None, None, :] & (d >= 13))
+              | ((lp == b9) & (lead_pc == root)[None, None, :] & (d <= -13)))
         hit &= ~ok
     return hit
+
+
+def clash_counts(P: np.ndarray, plays: np.ndarray, pitches: tuple[int, ...], chord: Chord) -> np.ndarray:
+    """``(k,)``: how many (voice, lead pitch) pairs of each candidate :func:`clash_pairs`
+    marks, counting the voices that play (``plays``).  A voice's clashes depend on its own
+    pitch only, so they are counted once per pitch (a table of 128) and summed per row."""
+    if not len(P):
+        return np.zeros(0, dtype=np.int64)
+    lead = np.array(pitches, dtype=np.int64)
+    values = np.arange(max(int(P.max()), 0) + 1, dtype=np.int64)
+    per_pitch = clash_pairs(values[:, None], lead, chord)[:, 0, :].sum(axis=1)
+    return (per_pitch[P] * plays).sum(axis=1)
 
 
 def fits_under(P: np.ndarray, lows: tuple[int, ...]) -> np.ndarray:
@@ -373,6 +394,5 @@ def cross_costs(P: np.ndarray, sounding: list[tuple[float, tuple[int, ...]]], ch
     cost += lr.weight("above_lead") * above.sum(axis=1)
     cost += lr.weight("above_lead_step") * (np.clip(P - lowest + 1, 0, None) * plays).sum(axis=1)
     for share, pitches in sounding:
-        hits = clash_pairs(P, np.array(pitches, dtype=np.int64), chord) & plays[:, :, None]
-        cost += lr.weight("clash") * (0.5 + share) * hits.sum(axis=(1, 2))
+        cost += lr.weight("clash") * (0.5 + share) * clash_counts(P, plays, pitches, chord)
     return cost

@@ -29,6 +29,7 @@ INTERVAL_NAMES = ("unison", "minor second", "major second", "minor third", "majo
 
 @dataclass(frozen=True, slots=True)
 class Instrument:
+    """An instrument of ``voicing_rules/instruments.toml``: ranges, transposition, sound."""
     key: str
     name: str
     abbreviation: str
@@ -43,6 +44,7 @@ class Instrument:
 
 @dataclass(frozen=True, slots=True)
 class Part:
+    """A part of a section: its name and instrument."""
     name: str
     abbreviation: str
     instrument: Instrument
@@ -50,6 +52,7 @@ class Part:
 
 @dataclass(frozen=True, slots=True)
 class Section:
+    """A section: its parts top to bottom (and, in a tutti, its groups)."""
     name: str
     description: str
     parts: tuple[Part, ...]

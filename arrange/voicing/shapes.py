@@ -34,6 +34,7 @@ _ON = ("any", "dominant", "minor")
 
 @dataclass(frozen=True, slots=True)
 class Recipes:
+    """``voicing_rules/voicings.toml``: forms, substitutions, doubling, search weights."""
     forms: tuple[tuple[str, tuple[int, ...]], ...]
     # (tension, replaces, on, option): option "" is always on; any other names a voicing
     # option the project must ask for (a tension in place of a guide tone)

@@ -36,6 +36,7 @@ PLANS = VOICINGS + ("auto",)
 
 @dataclass(frozen=True, slots=True)
 class Finding:
+    """A rule finding of the voicing stage (a report warning or error)."""
     kind: str                 # one of rules.KINDS
     event: int | None         # 0-based event index
     part: str | None          # part name
@@ -45,6 +46,7 @@ class Finding:
 
 @dataclass(frozen=True, slots=True)
 class VoicedEvent:
+    """An event voiced: its voicing type and one sounding pitch per part."""
     event: Event
     voicing: str
     # sounding, top to bottom, one per part of ``Voiced.section``; in a form whose passages
@@ -80,6 +82,7 @@ class Staffing:
 
 @dataclass(frozen=True, slots=True)
 class Voiced:
+    """The voicing stage's value: the voiced events and their findings."""
     harmonized: Harmonized
     section: Section
     events: tuple[VoicedEvent, ...]
@@ -89,6 +92,7 @@ class Voiced:
 
 @dataclass(frozen=True, slots=True)
 class VoicingOptions:
+    """The voicing keys of ``[section]``: voicing plan and options."""
     voicing: str = "close"                                   # a type or "auto"
     by_statement: tuple[tuple[int, str], ...] = ()
     by_bar: tuple[tuple[int, int, str], ...] = ()            # (first bar, last bar, type)

@@ -25,7 +25,6 @@ from __future__ import annotations
 import contextlib
 import errno
 import os
-import shutil
 import signal
 import time
 from collections.abc import Iterator
@@ -157,6 +156,8 @@ def _keep_old(final: Path, token: str) -> Path | None:
     except OSError as err:
         if err.errno not in (errno.EPERM, errno.EOPNOTSUPP, errno.EXDEV, errno.EMLINK):
             raise
+        import shutil
+
         shutil.copy2(final, old, follow_symlinks=False)   # a file system without hard links
     return old
 

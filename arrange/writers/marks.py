@@ -23,12 +23,28 @@ def dynamic_of(statement: int, dynamics: tuple[str, ...]) -> str:
     return dynamics[min(statement, len(dynamics)) - 1]
 
 
+_ENTRANCES: dict[tuple[int, tuple[str, ...], int | None], tuple[Voiced, list[tuple[int, str]]]] = {}
+
+
 def entrances(voiced: Voiced, dynamics: tuple[str, ...], part: int | None = None) -> list[tuple[int, str]]:
     """(event index, dynamic) wherever a dynamic is printed: the first note, the first
     note after a rest of a bar or more (an entrance a player counts in), and every note
     where the level changes (common practice: a dynamic holds until a new one; a short
     rest inside a phrase does not restate it).  ``part``: the notes that staff plays (a
-    form's staff rests while another section plays)."""
+    form's staff rests while another section plays).  Worked out once per score and part
+    (the staff, its hairpins and the MIDI ask for it)."""
+    key = (id(voiced), dynamics, part)
+    hit = _ENTRANCES.get(key)
+    if hit is not None and hit[0] is voiced:
+        return list(hit[1])
+    out = _entrances(voiced, dynamics, part)
+    if len(_ENTRANCES) > 64:
+        _ENTRANCES.clear()
+    _ENTRANCES[key] = (voiced, out)
+    return list(out)
+
+
+def _entrances(voiced: Voiced, dynamics: tuple[str, ...], part: int | None) -> list[tuple[int, str]]:
     bar = voiced.harmonized.line.meter.bar
     out: list[tuple[int, str]] = []
     prev_end: Fraction | None = None

@@ -39,6 +39,7 @@ VELOCITY = {"ppp": 20, "pp": 33, "p": 49, "mp": 64, "mf": 80, "f": 96, "ff": 112
 
 @dataclass(frozen=True, slots=True)
 class MidiOptions:
+    """The mock-up's dynamics per statement and its optional, seeded humanizing."""
     dynamics: tuple[str, ...] = ("mf",)
     humanize: float = 0.0        # milliseconds of timing spread, 0 = none
     seed: int = 1
@@ -54,7 +55,14 @@ def track_head(name: str, channel: int, program: int) -> list[tuple[int, int, An
 
 
 def _tick(q: Fraction) -> int:
-    return int(round(q * TICKS))
+    """``round(q * TICKS)`` (half to even, as ``Fraction.__round__``) in integers."""
+    floor, rem = divmod(q.numerator * TICKS, q.denominator)
+    twice = 2 * rem
+    if twice < q.denominator:
+        return floor
+    if twice > q.denominator:
+        return floor + 1
+    return floor + (floor & 1)
 
 
 def _note(events: list[tuple[int, int, Any]], channel: int, pitch: int, on: int, off: int, velocity: int) -> None:

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from fractions import Fraction
 
-from arrange.rhythm.groove import warp
+from arrange.rhythm.groove import swing_fraction, warp
 from arrange.rhythm.line import Line
 from arrange.rhythm_section.values import RhythmSection
 from arrange.voicing.sections import instruments
@@ -27,7 +27,7 @@ def perform(line: Line, t: Fraction) -> Fraction:
     """Written time -> performed time, as the rhythm stage performs the lead."""
     if line.notate == "12/8" or line.swing == 0.5:
         return t
-    return warp(t, Fraction(line.swing).limit_denominator(1000))
+    return warp(t, swing_fraction(line.swing))
 
 
 def _span(line: Line, onset: Fraction, duration: Fraction) -> tuple[Fraction, Fraction]:

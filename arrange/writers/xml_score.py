@@ -42,6 +42,7 @@ _ARTICULATIONS = {"accent": "accent", "staccato": "staccato", "tenuto": "tenuto"
 
 @dataclass(frozen=True, slots=True)
 class ScoreInfo:
+    """What the score writer prints beside the notes: title, tempo, style, marks."""
     title: str
     tempo: float
     style: str          # the style word printed with the metronome mark
@@ -140,6 +141,7 @@ def _cut(onset: Fraction, duration: Fraction, meter: Meter, pickup: Fraction) ->
 
 @dataclass(slots=True)
 class _Note:
+    """A written note or rest of a staff, before it becomes XML."""
     offset: Fraction
     duration: Fraction
     name: str | None            # written spelled name with octave; None for a rest
