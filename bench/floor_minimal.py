@@ -56,11 +56,15 @@ def _preview(calls: list) -> tuple[bytes, bytes]:
     sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
     from arrange.writers import preview
 
-    docs = [preview.drawn_page(svg) for svg in pages[:6]]
     sizes = []
-    for d in docs:
+    for d in pages:
         m = _VIEWBOX.search(d)
         sizes.append((float(m.group(1)), float(m.group(2))) if m else (2100.0, 2970.0))
+    drawn, high = 0, 0.0              # the pages that fit the picture's height, as arrange's preview keeps
+    while drawn < len(pages) and (drawn == 0 or (high + sizes[drawn][1]) * 1.5 <= preview.MAX_HEIGHT):
+        high += sizes[drawn][1]
+        drawn += 1
+    docs, sizes = [preview.drawn_page(svg) for svg in pages[:drawn]], sizes[:drawn]
     width, height = max(w for w, _ in sizes), sum(h for _, h in sizes)
     body, y = [], 0.0
     for d, (w, h) in zip(docs, sizes):

@@ -611,6 +611,111 @@ def test_no_two_chord_symbols_closer_than_three_quarters_of_an_em(built) -> None
     assert pairs
 
 
+_SVG = "{http://www.w3.org/2000/svg}"
+_LEDGER = re.compile(r"M(-?\d+) (-?\d+) L(-?\d+) (-?\d+)")
+# what a tempo mark or a style word must not touch: noteheads, their accidentals, articulations,
+# stems and flags (verovio's boxes), ledger lines (verovio draws them as paths, with no box),
+# and chord symbols
+_OBSTACLES = ("note", "accid", "artic", "stem", "flag")
+
+
+def _box(el) -> tuple[float, float, float, float] | None:  # noqa: ANN001
+    r = el.find(f"{_SVG}rect")
+    if r is None:
+        return None
+    x, y, w, h = (float(r.get(k, "0")) for k in ("x", "y", "width", "height"))
+    return (x, y, x + w, y + h)
+
+
+def _marks_and_obstacles(svg: str) -> tuple[list, list]:
+    """verovio's bounding boxes (``svgBoundingBoxes``) of one page: the tempo marks' and
+    directions' text boxes, and every obstacle (with chord symbols' text boxes and ledger lines)."""
+    import xml.etree.ElementTree as ET
+
+    marks, things = [], []
+
+    def walk(el, owner: str | None) -> None:  # noqa: ANN001
+        cls = el.get("class", "")
+        if el.tag == f"{_SVG}g" and cls in ("tempo", "dir", "harm"):
+            owner = cls
+        if el.tag == f"{_SVG}g" and cls == "text bounding-box" and owner and (b := _box(el)):
+            (things if owner == "harm" else marks).append((owner, b))
+        if el.tag == f"{_SVG}g" and cls.endswith(" bounding-box") and cls.split()[0] in _OBSTACLES \
+                and (b := _box(el)):
+            things.append((cls.split()[0], b))
+        if el.tag == f"{_SVG}g" and cls.startswith("ledgerLines"):
+            for path in el.findall(f"{_SVG}path"):
+                if m := _LEDGER.match(path.get("d", "")):
+                    x1, y1, x2, _y2 = (float(v) for v in m.groups())
+                    w = float(path.get("stroke-width", "0")) / 2
+                    things.append(("ledger line", (x1, y1 - w, x2, y1 + w)))
+        for child in el:
+            walk(child, owner)
+
+    walk(ET.fromstring(svg), None)
+    return marks, things
+
+
+def test_tempo_marks_and_style_words_touch_no_note_ledger_line_or_chord_symbol(built) -> None:
+    """verovio's own bounding boxes of every page the preview draws, for every demo: the
+    metronome mark and the style word (common practice: above the staff and its chord
+    symbols, clear of every note) overlap no notehead, accidental, articulation, stem,
+    ledger line (which verovio's own spacing does not count) or chord symbol."""
+    from arrange.writers import preview
+
+    checked = 0
+    for slug, (folder, _report) in built.items():
+        tk = preview.toolkit_for((folder / f"{slug}.musicxml").read_bytes())   # what the preview draws
+        tk.setOptions({"svgBoundingBoxes": True})
+        for page in range(1, tk.getPageCount() + 1):
+            marks, things = _marks_and_obstacles(tk.renderToSVG(page))
+            for kind, (x0, y0, x1, y1) in marks:
+                for what, (a0, b0, a1, b1) in things:
+                    assert not (x0 < a1 and a0 < x1 and y0 < b1 and b0 < y1), (slug, page, kind, what)
+                checked += 1
+    assert checked
+
+
+def _only(svg: bytes, show) -> str:  # noqa: ANN001
+    """The picture with everything hidden but the groups ``show`` accepts (SVG visibility
+    is inherited, and a child may make itself visible again)."""
+    import xml.etree.ElementTree as ET
+
+    ET.register_namespace("", "http://www.w3.org/2000/svg")
+    ET.register_namespace("xlink", "http://www.w3.org/1999/xlink")
+    root = ET.fromstring(svg)
+    root.set("visibility", "hidden")
+    for el in root.iter(f"{_SVG}g"):
+        if show(el.get("class", "")):
+            el.set("visibility", "visible")
+    return ET.tostring(root, encoding="unicode")
+
+
+def test_the_drawn_tempo_mark_and_style_word_touch_no_note(built) -> None:
+    """The written preview of every demo drawn twice by resvg (the resvg-py wheel), once with
+    only its tempo marks and style words, once with only its notes (heads, stems, flags,
+    accidentals, articulations, beams), ledger lines and chord symbols, in the fonts this
+    machine has: no pixel is ink in both (common practice of engraving: a tempo mark clears
+    the notes)."""
+    import resvg_py
+    from PIL import Image, ImageChops
+
+    obstacles = {"note", "accid", "artic", "stem", "flag", "beam", "harm"}
+    checked = 0
+    for slug in sorted(p.stem for p in DEMOS.glob("*.toml")):           # every demo asks for a preview
+        folder = built[slug][0]
+        svg = (folder / f"{slug}.svg").read_bytes()
+        inks = []
+        for show in (lambda c: c in ("tempo", "dir"),
+                     lambda c: c in obstacles or c.startswith("ledgerLines")):
+            png = bytes(resvg_py.svg_to_bytes(svg_string=_only(svg, show), background="white"))
+            inks.append(Image.open(io.BytesIO(png)).convert("L").point(lambda v: 255 if v < 160 else 0))
+        assert inks[0].getbbox() is not None               # the marks are drawn at all
+        assert ImageChops.multiply(inks[0], inks[1]).getbbox() is None, slug
+        checked += 1
+    assert checked == len(list(DEMOS.glob("*.toml")))
+
+
 # ---------------------------------------------------------------------------------------------
 # marks a player needs (issue 16), read back with music21
 

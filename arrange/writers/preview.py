@@ -98,6 +98,24 @@ _HEAD_REND = re.compile(r"(<rend\b[^>]*>)([^<]+)(</rend>)")
 _TEXTS = re.compile(r"(<(harm|dir|tempo|label|labelAbbr|reh)\b[^>]*(?<!/)>)(.*?)(</\2>)", re.S)
 
 
+# A tempo mark or a style word must clear the notes under it (common practice of engraving).
+# verovio keeps it off the noteheads it measures, but in Times metrics, while the picture may
+# draw it in a wider serif (DejaVu Serif sets " = 144" about a third wider), and it does not
+# count ledger lines (which reach half a space to the left of a notehead): the mark is laid
+# out with trailing no-break spaces (drawn as nothing) worth a third of its text and a space
+# more, so verovio lifts it over every note the drawn text can reach.
+_PAD_TAGS = ("tempo", "dir")
+_NBSP = "\u00a0"
+_TAG = re.compile(r"<[^>]+>")
+
+
+def _pad(m: re.Match[str]) -> str:
+    if m.group(2) not in _PAD_TAGS:
+        return ""
+    text = _TAG.sub("", m.group(3)).strip()
+    return _NBSP * (2 + (2 * len(text) + 2) // 3)     # a no-break space is about half a character
+
+
 def spaced_symbols(mei: str) -> str:
     """Every ``<harm>`` of verovio's MEI drawn through a ``<rend>`` at 1 / ``_HARM_SCALE``
     of the font verovio spaces it in; the other texts that font sizes (directions, tempo,
@@ -107,7 +125,7 @@ def spaced_symbols(mei: str) -> str:
     size = f"{100 / _HARM_SCALE:.0f}%"
 
     def wrap(m: re.Match[str]) -> str:
-        return f'{m.group(1)}<rend fontsize="{size}">{m.group(3)}</rend>{m.group(4)}'
+        return f'{m.group(1)}<rend fontsize="{size}">{m.group(3)}{_pad(m)}</rend>{m.group(4)}'
 
     def head(m: re.Match[str]) -> str:
         return _HEAD_REND.sub(lambda r: f'{r.group(1)}<rend fontsize="{size}">{r.group(2)}</rend>{r.group(3)}',
