@@ -7,6 +7,7 @@
 * :mod:`.report`    -- ``report_data``, ``report_json``, ``report_markdown``
 * :mod:`.preview`   -- ``svg_bytes``, ``png_bytes``; :mod:`.audio` -- ``wav_bytes``
 * :mod:`.files`     -- ``write_batch``: atomic writing of a batch of outputs
+* :mod:`.cache`     -- ``user_store``: the user's cache folder (what a melody file says, as JSON)
 * :mod:`.common`    -- helpers more than one format shares (no format imports another's writer)
 """
 __all__ = ["files", "musicxml", "midi", "report", "preview", "audio", "common"]
