@@ -512,3 +512,28 @@ def test_melody_cache_entry_follows_the_file(tmp_path: Path, monkeypatch: pytest
     want = _lead(c2.parseData(changed, format="abc").parts[0])
     got = _lead(converter.parse(str(tmp_path / "b" / "reel-soli.musicxml")).parts[0].toSoundingPitch())
     assert got == want
+
+
+def test_melody_cache_entry_that_is_no_file_is_not_read(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    """An entry's name taken by a FIFO (someone else's doing) is not waited on: the build
+    parses the file and writes the same score as without the cache (music21 reads it back)."""
+    import os
+
+    from music21 import converter
+
+    (tmp_path / "tune.abc").write_text(_corpus_tune(TUNE), encoding="utf-8")
+    p = write_project(tmp_path, MELODY_PROJECT)
+    monkeypatch.setenv("ARRANGE_CACHE_DIR", str(tmp_path / "cache"))
+    from arrange.inputs import melody_file
+
+    melody_file._PARSED.clear()
+    assert run_cli("build", str(p), "-o", str(tmp_path / "a")).exit_code == 0
+    (entry,) = (tmp_path / "cache").glob("*.json")
+    entry.unlink()
+    os.mkfifo(entry)
+    melody_file._PARSED.clear()
+    r = run_cli("build", str(p), "-o", str(tmp_path / "b"))
+    assert r.exit_code == 0, r.output
+    assert snapshot(tmp_path / "b") == snapshot(tmp_path / "a")
+    ours = converter.parse(str(tmp_path / "b" / "reel-soli.musicxml"))
+    assert len(_lead(ours.parts[0].toSoundingPitch())) > 100

@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import json
 import os
+import stat
 from pathlib import Path
 from typing import Any
 
@@ -56,7 +57,11 @@ class Store:
         if path is None:
             return None
         try:
-            with open(path, "rb") as fh:
+            # a regular file only (a FIFO or device put there is never waited on)
+            fd = os.open(path, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0))
+            with os.fdopen(fd, "rb") as fh:
+                if not stat.S_ISREG(os.fstat(fh.fileno()).st_mode):
+                    return None
                 data = fh.read(_MAX_ENTRY + 1)
             if len(data) > _MAX_ENTRY:
                 return None
@@ -72,10 +77,12 @@ class Store:
             return
         tmp = None
         try:
+            import tempfile
+
             data = json.dumps(value, separators=(",", ":")).encode("utf-8")
             self.folder.mkdir(parents=True, exist_ok=True)
-            tmp = self.folder / f".{name}.{os.getpid()}.tmp"
-            fd = os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
+            fd, tmp_name = tempfile.mkstemp(prefix=f".{name}.", suffix=".tmp", dir=self.folder)
+            tmp = Path(tmp_name)
             with os.fdopen(fd, "wb") as fh:
                 fh.write(data)
             os.replace(tmp, path)
