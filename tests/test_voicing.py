@@ -222,3 +222,29 @@ def test_dp_takes_numpys_path_ties_included() -> None:
         want = _dp_by_numpy(cands, costs, motion)
         rows = [[tuple(int(p) for p in r) for r in c] for c in cands]
         assert solve(rows, [c.tolist() for c in costs], motion) == want
+
+
+def test_a_weight_below_zero_is_refused(monkeypatch: pytest.MonkeyPatch) -> None:
+    """A cost weight below zero would reward what it weighs (common practice: costs count
+    against a voicing); the search also relies on motion costing nothing below zero."""
+    from arrange.errors import VoicingError
+    from arrange.voicing import shapes as shapes_mod
+
+    real = shapes_mod.read_rules
+
+    def tampered(name: str) -> dict:
+        d = real(name)
+        if name == "voicings.toml":
+            d["weights"]["motion"] = -1.0
+        return d
+
+    monkeypatch.setattr(shapes_mod, "read_rules", tampered)
+    shapes_mod.recipes.cache_clear()
+    try:
+        with pytest.raises(VoicingError, match="weight motion = -1.0"):
+            shapes_mod.recipes()
+        with pytest.raises(ValueError, match="below zero"):
+            solve([[(60, 50)], [(62, 52)]], [[0.0], [0.0]], -1.0)
+    finally:
+        monkeypatch.undo()
+        shapes_mod.recipes.cache_clear()

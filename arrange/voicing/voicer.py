@@ -234,31 +234,43 @@ def solve(cands: Sequence[Sequence[Sequence[int]]], costs: Sequence[Sequence[flo
     """Dynamic programme: one candidate per note minimising costs plus motion of
     the lower voices (every voice but the lead), summed in semitones.
 
-    For each candidate of a note, its best predecessor is the one with the least running
-    total plus ``motion`` times the semitones the lower voices move; the predecessors are
-    tried in order of their totals (ties by index), and the scan stops at the first whose
-    total alone exceeds the best found (motion costs nothing below zero), so most pairs
-    are never priced.  Ties go to the lowest index, as an ``argmin`` over the predecessors
-    would: the same path, the same float sums as pricing every pair."""
+    A candidate's best predecessor has the least running total plus ``motion`` times the
+    semitones its lower voices move.  Motion never costs less than nothing (``motion >= 0``),
+    so the predecessors are tried in order of their totals and the scan stops at the first
+    whose total alone exceeds the best price found; one whose total plus the motion its
+    voices' sum must make (no less than the difference of the sums) exceeds it is passed
+    over unpriced.
+    Ties go to the lowest index, as numpy's ``argmin`` over the predecessors would: the
+    same path and the same float sums as pricing every pair (``tests/test_voicing.py``)."""
+    if motion < 0:
+        raise ValueError(f"a motion weight below zero ({motion}) rewards motion")
     total = [float(c) for c in costs[0]]
     back: list[list[int]] = []
-    prune = motion >= 0
     for i in range(1, len(cands)):
-        lows = [tuple(int(p) for p in row[1:]) for row in cands[i - 1]]
-        order = sorted(range(len(total)), key=total.__getitem__)
+        order = sorted(range(len(total)), key=total.__getitem__)     # stable: ties by index
+        ranked = [total[a] for a in order]
+        prev = cands[i - 1]
+        lows = [prev[a][1:] for a in order]
+        sums = [sum(low) for low in lows]
         arg: list[int] = []
         new: list[float] = []
         for row, own in zip(cands[i], costs[i], strict=True):
-            low = tuple(int(p) for p in row[1:])
+            low = row[1:]
+            own_sum = sum(low)
             best, at = math.inf, -1
-            for a in order:
-                t = total[a]
-                if prune and t > best:
+            q = -1
+            for t, other, other_sum in zip(ranked, lows, sums):   # noqa: B905 (equal lengths)
+                q += 1
+                if t > best:
                     break
-                v = t + motion * sum(map(abs, map(sub, lows[a], low)))
-                if v < best or (v == best and (at < 0 or a < at)):
-                    best, at = v, a
-            arg.append(at if at >= 0 else 0)
+                if t + motion * abs(other_sum - own_sum) > best:
+                    continue
+                v = t + motion * sum(map(abs, map(sub, other, low)))
+                if v < best:
+                    best, at = v, order[q]
+                elif v == best and (at < 0 or order[q] < at):
+                    at = order[q]
+            arg.append(max(at, 0))
             new.append(best + float(own))
         back.append(arg)
         total = new
