@@ -214,13 +214,13 @@ def _doc(fn: Callable[..., Any]) -> str:
 
 def _values_joined(args: list[str], name: str | None) -> list[str]:
     """An option of command ``name`` that takes one value takes the next word whatever it
-    starts with (``--steps -3,4``, ``--transpose -Ab``), as the README's examples expect:
-    such pairs are joined as ``--steps=-3,4``, which ``argparse`` would otherwise read as
-    an unknown option."""
+    starts with (``--steps -3,4``, as with click before): such pairs are joined as
+    ``--steps=-3,4``, which ``argparse`` would otherwise read as an unknown option (it takes
+    a plain negative number, ``--transpose -3``, as a value by itself)."""
     takes: dict[str, str] = {}
     for cmd in [COMMANDS[name]] if name is not None else []:
         for flags, kw in cmd.options:
-            if flags[0].startswith("-") and kw.get("action") is None and kw.get("nargs") is None:
+            if flags[0].startswith("-") and kw.get("action") in (None, "append") and kw.get("nargs") is None:
                 long = next((f for f in flags if f.startswith("--")), flags[0])
                 takes.update(dict.fromkeys(flags, long))
     out: list[str] = []
@@ -265,13 +265,13 @@ def _dispatch(args: list[str]) -> None:
             where = "arrange"
         what = (f"no such option: {extra[0]}" if extra[0].startswith("-")
                 else f"unexpected argument {extra[0]!r}")
-        raise UsageError(where, what + _close_match(extra[0], top, name if where != "arrange" else None))
+        raise UsageError(where, what + _close_match(extra[0], name if where != "arrange" else None))
     _State.debug = ns.debug
     kwargs = {k: v for k, v in vars(ns).items() if k not in ("command", "debug")}
     COMMANDS[name].fn(**kwargs)
 
 
-def _close_match(word: str, top: Any, name: str | None) -> str:
+def _close_match(word: str, name: str | None) -> str:
     """`` (did you mean --json?)`` when an option of the command is close to ``word``."""
     if not word.startswith("-"):
         return ""
