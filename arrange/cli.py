@@ -3,19 +3,22 @@
 Exit codes: 0 success, 2 bad input (one-line message), 1 internal fault
 (short message; ``--debug`` shows the traceback), 130/143 after Ctrl-C/SIGTERM
 (see :mod:`arrange.exits`).
+
+The parser is the standard library's ``argparse`` (:class:`arrange.exits.OneLineParser`).
+Each command is a function declared with :func:`command`, its options and arguments with
+:func:`option` (the arguments of ``ArgumentParser.add_argument``, read by ``argparse``
+itself); :func:`parser` builds the parser, :func:`main` runs one command line.
 """
 from __future__ import annotations
 
+import argparse
 import sys
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from pathlib import Path
-from typing import Any, TypeVar
-
-import click
+from typing import Any, NoReturn, TypeVar
 
 from arrange import __version__
 from arrange.errors import ArrangeError
-from arrange.exits import OneLineGroup
 
 F = TypeVar("F", bound=Callable[..., Any])
 
@@ -24,19 +27,27 @@ class _State:
     debug = False
 
 
+def echo(text: str = "", *, err: bool = False, nl: bool = True) -> None:
+    """Write ``text`` (and a line break) to stdout, or stderr with ``err``, and flush, so a
+    closed pipe is seen at once (``arrange chain ... | head``)."""
+    stream = sys.stderr if err else sys.stdout
+    stream.write(f"{text}\n" if nl else text)
+    stream.flush()
+
+
 def _fail(err: BaseException) -> None:
     from arrange.exits import one_line
 
     if isinstance(err, ArrangeError):
-        click.echo(f"arrange: error: {one_line(str(err))}", err=True)
+        echo(f"arrange: error: {one_line(str(err))}", err=True)
         sys.exit(2)
     if _State.debug:
         import traceback
 
         traceback.print_exc()
     else:
-        click.echo(f"arrange: internal error: {one_line(f'{type(err).__name__}: {err}')} "
-                   "(run with --debug for the traceback)", err=True)
+        echo(f"arrange: internal error: {one_line(f'{type(err).__name__}: {err}')} "
+             "(run with --debug for the traceback)", err=True)
     sys.exit(1)
 
 
@@ -47,8 +58,6 @@ def guarded(fn: F) -> F:
     def wrapper(*args: Any, **kwargs: Any) -> Any:
         try:
             return fn(*args, **kwargs)
-        except (click.exceptions.Exit, click.ClickException, click.Abort):
-            raise
         except BrokenPipeError:
             # the reader went away (``arrange chain ... | head``): stop quietly
             import os
@@ -61,37 +70,85 @@ def guarded(fn: F) -> F:
     return wrapper  # type: ignore[return-value]
 
 
-@click.group(cls=OneLineGroup, context_settings={"help_option_names": ["-h", "--help"]})
-@click.version_option(__version__, prog_name="arrange")
-@click.option("--debug", is_flag=True, help="Show the traceback of an internal fault.")
-def main(debug: bool) -> None:
-    """Grow a motif into an RI chain, harmonize and voice it for a section,
-    and write a MusicXML score, a MIDI mock-up and a report."""
-    _State.debug = debug
+# ------------------------------------------------------------------ declaring commands
+
+SUMMARY = ("Grow a motif into an RI chain, harmonize and voice it for a section, "
+           "and write a MusicXML score, a MIDI mock-up and a report.")
 
 
-class _Whole(click.ParamType):
+class Command:
+    """One command: its function, the summary ``arrange --help`` lists, and the arguments
+    of ``add_argument`` for each of its options and arguments, in the order ``--help``
+    shows them."""
+
+    __slots__ = ("name", "fn", "summary", "options")
+
+    def __init__(self, fn: Callable[..., Any], summary: str,
+                 options: list[tuple[tuple[str, ...], dict[str, Any]]]) -> None:
+        self.name = fn.__name__
+        self.fn = fn
+        self.summary = summary
+        self.options = options
+
+
+COMMANDS: dict[str, Command] = {}
+
+
+def option(*flags: str, **kw: Any) -> Callable[[F], F]:
+    """An option or argument of the command below: the arguments of
+    ``argparse.ArgumentParser.add_argument``."""
+    def mark(fn: F) -> F:
+        fn.__dict__.setdefault("cli_options", []).insert(0, (flags, kw))
+        return fn
+    return mark
+
+
+def command(summary: str) -> Callable[[F], F]:
+    """The function below is the command of its name; ``summary`` is its line in
+    ``arrange --help`` (its docstring's first paragraph is its own ``--help``)."""
+    def mark(fn: F) -> F:
+        COMMANDS[fn.__name__] = Command(fn, summary, fn.__dict__.get("cli_options", []))
+        return fn
+    return mark
+
+
+def _whole(text: str) -> int:
     """A whole number option read by :func:`arrange.checked.signed`: ASCII digits only, at
-    most nine, an optional sign (click's own ``int`` would take "٣" or "³"-like digits that
-    Python's ``int`` reads, and numbers of thousands of digits)."""
+    most nine, an optional sign (Python's ``int`` would take "\u0663" or other scripts'
+    digits, and numbers of thousands of digits)."""
+    from arrange.checked import MAX_DIGITS, signed
+    from arrange.exits import one_line
 
-    name = "integer"
-
-    def convert(self, value: Any, param: click.Parameter | None, ctx: click.Context | None) -> int:
-        if isinstance(value, int) and not isinstance(value, bool):
-            return value
-        from arrange.checked import MAX_DIGITS, signed
-        from arrange.exits import one_line
-
-        text = str(value)
-        n = signed(text)
-        if n is not None:
-            return n
-        raise click.BadParameter(f"{one_line(repr(text))} is not a whole number: ASCII digits 0-9 "
-                                 f"(at most {MAX_DIGITS}), e.g. 4", ctx=ctx, param=param)
+    n = signed(text)
+    if n is not None:
+        return n
+    raise argparse.ArgumentTypeError(f"{one_line(repr(text))} is not a whole number: ASCII digits 0-9 "
+                                     f"(at most {MAX_DIGITS}), e.g. 4")
 
 
-WHOLE = _Whole()
+_whole.__name__ = "whole number"
+WHOLE = _whole
+
+
+def _file(text: str) -> Path:
+    """A file name (the file need not exist yet); an existing folder is refused."""
+    path = Path(text)
+    if path.is_dir():
+        raise argparse.ArgumentTypeError(f"{text!r} is a folder, not a file")
+    return path
+
+
+def _folder(text: str) -> Path:
+    """A folder name (the folder need not exist yet); an existing file is refused."""
+    path = Path(text)
+    if path.exists() and not path.is_dir():
+        raise argparse.ArgumentTypeError(f"{text!r} is a file, not a folder")
+    return path
+
+
+_BOOL = argparse.BooleanOptionalAction      # --parts / --no-parts
+_file.__name__ = "file name"
+_folder.__name__ = "folder name"
 
 
 def _overlaps(text: str | None) -> tuple[int, ...] | None:
@@ -109,17 +166,138 @@ def _overlaps(text: str | None) -> tuple[int, ...] | None:
     return tuple(out)
 
 
+def _with_default(text: str) -> str:
+    return f"{text}  [default: %(default)s]"
+
+
+def parser(only: Sequence[str] | None = None) -> argparse.ArgumentParser:
+    """The ``argparse`` parser of the whole command line.  With ``only``, the options of
+    the other commands are left out (they are still listed by ``arrange --help``)."""
+    return _build(only)[0]
+
+
+def command_options() -> dict[str, list[argparse.Action]]:
+    """Each command's options and arguments as ``argparse`` itself holds them (the
+    ``Action`` objects ``add_argument`` returns: ``option_strings``, ``help``, ...)."""
+    return _build(None)[1]
+
+
+def _build(only: Sequence[str] | None) -> tuple[argparse.ArgumentParser, dict[str, list[argparse.Action]]]:
+    from arrange.exits import OneLineParser
+
+    def fmt(prog: str) -> argparse.HelpFormatter:
+        return argparse.HelpFormatter(prog, max_help_position=30)
+
+    top = OneLineParser(prog="arrange", description=SUMMARY, add_help=False, allow_abbrev=False,
+                        formatter_class=fmt)
+    top.add_argument("-h", "--help", action="help", help="Show this message and exit.")
+    top.add_argument("--version", action="version", version=f"arrange, version {__version__}",
+                     help="Show the version and exit.")
+    top.add_argument("--debug", action="store_true", help="Show the traceback of an internal fault.")
+    subs = top.add_subparsers(title="commands", dest="command", metavar="COMMAND",
+                              parser_class=OneLineParser)
+    actions: dict[str, list[argparse.Action]] = {}
+    for name, cmd in sorted(COMMANDS.items()):
+        sub = subs.add_parser(name, help=cmd.summary, description=_doc(cmd.fn), add_help=False,
+                              allow_abbrev=False, formatter_class=fmt)
+        if only is not None and name not in only:
+            continue
+        actions[name] = [sub.add_argument(*flags, **kw) for flags, kw in cmd.options]
+        actions[name].append(sub.add_argument("-h", "--help", action="help",
+                                              help="Show this message and exit."))
+    return top, actions
+
+
+def _doc(fn: Callable[..., Any]) -> str:
+    return " ".join((fn.__doc__ or "").split("\n\n", 1)[0].split())
+
+
+def _values_joined(args: list[str], name: str | None) -> list[str]:
+    """An option of command ``name`` that takes one value takes the next word whatever it
+    starts with (``--steps -3,4``, as with click before): such pairs are joined as
+    ``--steps=-3,4``, which ``argparse`` would otherwise read as an unknown option (it takes
+    a plain negative number, ``--transpose -3``, as a value by itself)."""
+    takes: dict[str, str] = {}
+    for cmd in [COMMANDS[name]] if name is not None else []:
+        for flags, kw in cmd.options:
+            if flags[0].startswith("-") and kw.get("action") in (None, "append") and kw.get("nargs") is None:
+                long = next((f for f in flags if f.startswith("--")), flags[0])
+                takes.update(dict.fromkeys(flags, long))
+    out: list[str] = []
+    i = 0
+    while i < len(args):
+        a = args[i]
+        if a == "--":
+            out += args[i:]
+            break
+        if a in takes and i + 1 < len(args) and args[i + 1].startswith("-") and args[i + 1] != "--":
+            out.append(f"{takes[a]}={args[i + 1]}")
+            i += 2
+            continue
+        out.append(a)
+        i += 1
+    return out
+
+
+def main(argv: Sequence[str] | None = None) -> NoReturn:
+    """Run one command line (``argv``, default ``sys.argv[1:]``) and exit (always raises
+    ``SystemExit``: 0, 1, 2, 130 or 143, see :mod:`arrange.exits`)."""
+    from arrange.exits import run
+
+    args = list(sys.argv[1:] if argv is None else argv)
+    run(lambda: _dispatch(args))
+
+
+def _dispatch(args: list[str]) -> None:
+    from arrange.exits import UsageError
+
+    name = next((a for a in args if not a.startswith("-")), None)
+    top = parser(only=[name] if name in COMMANDS else [])
+    args = _values_joined(args, name if name in COMMANDS else None)
+    ns, extra = top.parse_known_args(args)
+    name = ns.command
+    if name is None and not extra:
+        raise UsageError("arrange", "no command given", f"one of {', '.join(sorted(COMMANDS))} "
+                         "(see 'arrange --help')")
+    if extra:
+        where = f"arrange {name}"
+        if name is None or args.index(extra[0]) < args.index(name):
+            where = "arrange"
+        what = (f"no such option: {extra[0]}" if extra[0].startswith("-")
+                else f"unexpected argument {extra[0]!r}")
+        raise UsageError(where, what + _close_match(extra[0], name if where != "arrange" else None))
+    _State.debug = ns.debug
+    kwargs = {k: v for k, v in vars(ns).items() if k not in ("command", "debug")}
+    COMMANDS[name].fn(**kwargs)
+
+
+def _close_match(word: str, name: str | None) -> str:
+    """`` (did you mean --json?)`` when an option of the command is close to ``word``."""
+    if not word.startswith("-"):
+        return ""
+    import difflib
+
+    opts = ["-h", "--help", "--version", "--debug"] if name is None else ["-h", "--help"]
+    if name is not None:
+        for flags, kw in COMMANDS[name].options:
+            opts += [f for f in flags if f.startswith("-")]
+            if kw.get("action") is _BOOL:
+                opts += [f"--no-{f[2:]}" for f in flags if f.startswith("--")]
+    near = difflib.get_close_matches(word.split("=", 1)[0], opts, n=3)
+    return f" (did you mean {' or '.join(near)}?)" if near else ""
+
+
 # Short options mean one thing in every command: -o is the output folder (build, demo),
 # -k the statements, -n the motif's length.  --overlap has no short form: -o was taken.
-@main.command(short_help="Grow a motif into an RI chain and print it.")
-@click.argument("motif")
-@click.option("--statements", "-k", default=4, show_default=True, type=WHOLE,
-              help="How many statements (1..1000).")
-@click.option("--overlap", default=None, type=WHOLE, help="Notes shared by each link (default 2).")
-@click.option("--overlaps", default=None, help="One overlap per link, e.g. 2,3,2.")
-@click.option("--lead-range", nargs=2, default=None, metavar="LOW HIGH",
-              help="Concert range to place the line in, e.g. F4 D5.")
-@click.option("--json", "as_json", is_flag=True, help="Print one JSON object.")
+@command("Grow a motif into an RI chain and print it.")
+@option("motif", metavar="MOTIF", help='The motif: pitch names or MIDI numbers, e.g. "C4 E4 D4 G4".')
+@option("-k", "--statements", default=4, type=WHOLE, metavar="K",
+        help=_with_default("How many statements (1..1000)."))
+@option("--overlap", default=None, type=WHOLE, metavar="N", help="Notes shared by each link (default 2).")
+@option("--overlaps", default=None, metavar="N,N,...", help="One overlap per link, e.g. 2,3,2.")
+@option("--lead-range", nargs=2, default=None, metavar=("LOW", "HIGH"),
+        help="Concert range to place the line in, e.g. F4 D5.")
+@option("--json", dest="as_json", action="store_true", help="Print one JSON object.")
 @guarded
 def chain(motif: str, statements: int, overlap: int | None, overlaps: str | None,
           lead_range: tuple[str, str] | None, as_json: bool) -> None:
@@ -145,9 +323,9 @@ def chain(motif: str, statements: int, overlap: int | None, overlaps: str | None
     if as_json:
         import json
 
-        click.echo(json.dumps(c.to_json()))
+        echo(json.dumps(c.to_json()))
         return
-    click.echo(_chain_table(c))
+    echo(_chain_table(c))
 
 
 def _chain_table(c: Any) -> str:
@@ -175,30 +353,31 @@ def _chain_table(c: Any) -> str:
     return "\n".join(lines)
 
 
-@main.command(short_help="Build a project into score, MIDI, report and preview.")
-@click.argument("project", type=click.Path(dir_okay=False, path_type=Path))
-@click.option("-o", "--out", "out_dir", default="out", show_default=True,
-              type=click.Path(file_okay=False, path_type=Path), help="Output folder.")
-@click.option("--formats", default=None, help="Comma list: musicxml,midi,report,preview,pdf.")
-@click.option("--parts/--no-parts", default=None, help="Also write one MusicXML file per part.")
-@click.option("--pdf", "pdf", is_flag=True, default=False,
-              help="Also write print-ready PDFs: the score, and each part in DIR/<slug>-parts/.")
-@click.option("--paper", type=click.Choice(["a4", "letter"]), default=None, help="The PDF's paper (default a4).")
-@click.option("--analysis/--no-analysis", default=None,
-              help="Statement labels and approach techniques on the score.")
-@click.option("--audio/--no-audio", default=None,
-              help="Also render a WAV through fluidsynth (when installed).")
-@click.option("--vary", "vary", multiple=True, metavar="KEY=V1,V2",
-              help="Build every combination into its own folder, with DIR/variants.md "
-              "(e.g. voicing=close,drop2; repeatable).")
-@click.option("--transpose", "move", default=None, metavar="SEMITONES|KEY",
-              help='Move the whole project: by semitones (-3, +5), or to a key ("Ab major", '
-              "in the octave that keeps the lead in range).")
+@command("Build a project into score, MIDI, report and preview.")
+@option("project", type=_file, metavar="PROJECT", help="The project file (TOML).")
+@option("-o", "--out", dest="out_dir", default=Path("out"), type=_folder, metavar="DIR",
+        help=_with_default("Output folder."))
+@option("--formats", default=None, metavar="LIST", help="Comma list: musicxml,midi,report,preview,pdf.")
+@option("--parts", action=_BOOL, default=None, help="Also write one MusicXML file per part.")
+@option("--pdf", dest="pdf", action="store_true", default=False,
+        help="Also write print-ready PDFs: the score, and each part in DIR/<slug>-parts/.")
+@option("--paper", choices=["a4", "letter"], default=None, help="The PDF's paper (default a4).")
+@option("--analysis", action=_BOOL, default=None,
+        help="Statement labels and approach techniques on the score.")
+@option("--audio", action=_BOOL, default=None,
+        help="Also render a WAV through fluidsynth (when installed).")
+@option("--vary", dest="vary", action="append", default=None, metavar="KEY=V1,V2",
+        help="Build every combination into its own folder, with DIR/variants.md "
+        "(e.g. voicing=close,drop2; repeatable).")
+@option("--transpose", dest="move", default=None, metavar="SEMITONES|KEY",
+        help='Move the whole project: by semitones (-3, +5), or to a key ("Ab major", '
+        "in the octave that keeps the lead in range).")
 @guarded
 def build(project: Path, out_dir: Path, formats: str | None, parts: bool | None,
-          analysis: bool | None, audio: bool | None, vary: tuple[str, ...] = (),
+          analysis: bool | None, audio: bool | None, vary: Sequence[str] | None = None,
           move: str | None = None, pdf: bool = False, paper: str | None = None) -> None:
     """Build PROJECT.toml into score, MIDI and report files in the output folder."""
+    vary = tuple(vary or ())
     from arrange.project import load_project
 
     def adjust(pr: Any) -> Any:
@@ -217,9 +396,9 @@ def build(project: Path, out_dir: Path, formats: str | None, parts: bool | None,
     if vary:
         from arrange.variants import build_variants
 
-        click.echo(f"{proj.title}: every combination of {len(vary)} varied keys ...", err=True)
+        echo(f"{proj.title}: every combination of {len(vary)} varied keys ...", err=True)
         for p in build_variants(project, vary, out_dir, fmts, adjust=adjust):
-            click.echo(str(p))
+            echo(str(p))
         return
     _build_one(proj, out_dir, fmts, label=proj.title)
 
@@ -267,17 +446,17 @@ def _build_one(proj: Any, out_dir: Path, fmts: tuple[str, ...] | None, *, label:
 
     def say(stage: str) -> None:
         back = "\r" if err and stage != "voicing" else ""
-        click.echo(f"{back}{label}: {stage} ...", err=True, nl=not err)
+        echo(f"{back}{label}: {stage} ...", err=True, nl=not err)
 
     notes: list[str] = []
     result = write_outputs(proj, out_dir, fmts, notes, progress=say)
     if err:
-        click.echo("\r" + " " * 60 + "\r", err=True, nl=False)   # clear the progress line
+        echo("\r" + " " * 60 + "\r", err=True, nl=False)   # clear the progress line
     for p in result.files:
-        click.echo(str(p))
+        echo(str(p))
     for note in notes:
-        click.echo(f"arrange: {note}", err=True)
-    click.echo(f"{label}: {summary_line(result, out_dir)}", err=True)
+        echo(f"arrange: {note}", err=True)
+    echo(f"{label}: {summary_line(result, out_dir)}", err=True)
 
 
 def summary_line(result: Any, out_dir: Path) -> str:
@@ -297,13 +476,14 @@ def demo_dir() -> Path:
     return _find("demo_projects")
 
 
-@main.command(short_help="Build every bundled demo project.")
-@click.option("-o", "--out", "out_dir", default="out", show_default=True,
-              type=click.Path(file_okay=False, path_type=Path), help="Output folder.")
-@click.option("--parts/--no-parts", default=None, help="Also write one MusicXML file per part.")
-@click.option("--analysis/--no-analysis", default=None, help="Analysis labels on the scores.")
-@click.option("--audio/--no-audio", default=None, help="Also render WAVs (when fluidsynth is installed).")
-@click.option("--pdf", "pdf", is_flag=True, default=False, help="Also write print-ready PDFs of scores and parts.")
+@command("Build every bundled demo project.")
+@option("-o", "--out", dest="out_dir", default=Path("out"), type=_folder, metavar="DIR",
+        help=_with_default("Output folder."))
+@option("--parts", action=_BOOL, default=None, help="Also write one MusicXML file per part.")
+@option("--analysis", action=_BOOL, default=None, help="Analysis labels on the scores.")
+@option("--audio", action=_BOOL, default=None, help="Also render WAVs (when fluidsynth is installed).")
+@option("--pdf", dest="pdf", action="store_true", default=False,
+        help="Also write print-ready PDFs of scores and parts.")
 @guarded
 def demo(out_dir: Path, parts: bool | None, analysis: bool | None, audio: bool | None,
          pdf: bool = False) -> None:
@@ -316,8 +496,8 @@ def demo(out_dir: Path, parts: bool | None, analysis: bool | None, audio: bool |
         _build_one(proj, out_dir, None, label=f"[{i}/{len(projects)}] {path.stem}")
 
 
-@main.command(short_help="List the sections you can voice for, with their ranges.")
-@click.option("--json", "as_json", is_flag=True, help="Print JSON.")
+@command("List the sections you can voice for, with their ranges.")
+@option("--json", dest="as_json", action="store_true", help="Print JSON.")
 @guarded
 def sections(as_json: bool) -> None:
     """List the sections in voicing_rules/ with their parts and ranges."""
@@ -328,7 +508,7 @@ def sections(as_json: bool) -> None:
     if as_json:
         import json
 
-        click.echo(json.dumps({
+        echo(json.dumps({
             name: {"description": s.description,
                    "parts": [{"name": p.name, "instrument": p.instrument.key,
                               "transposition": p.instrument.transposition,
@@ -337,12 +517,12 @@ def sections(as_json: bool) -> None:
             for name, s in table.items()}))
         return
     for name, s in table.items():
-        click.echo(f"{name}: {s.description}")
+        echo(f"{name}: {s.description}")
         for p in s.parts:
             lo, hi = p.instrument.practical
-            click.echo(f"    {p.name:<18} {p.instrument.key:<16} {pitch_name(lo)}-{pitch_name(hi)} "
+            echo(f"    {p.name:<18} {p.instrument.key:<16} {pitch_name(lo)}-{pitch_name(hi)} "
                        f"sounding, written {p.instrument.transposition:+d}")
-    click.echo(_limits_text())
+    echo(_limits_text())
 
 
 def _limits_text() -> str:
@@ -366,8 +546,8 @@ def starter_text(name: str) -> str:
     return text(name)
 
 
-@main.command(short_help="Write a commented starter project to build first.")
-@click.argument("project", type=click.Path(dir_okay=False, path_type=Path))
+@command("Write a commented starter project to build first.")
+@option("project", type=_file, metavar="PROJECT", help="The project file to write (a new name).")
 @guarded
 def new(project: Path) -> None:
     """Write a commented starter PROJECT.toml (never over an existing file)."""
@@ -379,12 +559,12 @@ def new(project: Path) -> None:
                           accepted="a new file name")
     write_batch(project.parent if str(project.parent) else Path("."),
                 {project.name: starter_text(project.name).encode("utf-8")})
-    click.echo(str(project))
+    echo(str(project))
 
 
-@main.command(short_help="Explain the trade terms the tool uses, with examples.")
-@click.argument("term", required=False)
-@click.option("--json", "as_json", is_flag=True, help="Print a JSON list of the entries.")
+@command("Explain the trade terms the tool uses, with examples.")
+@option("term", nargs="?", default=None, metavar="TERM", help='One term, e.g. "drop 2" (default: every term).')
+@option("--json", dest="as_json", action="store_true", help="Print a JSON list of the entries.")
 @guarded
 def explain(term: str | None, as_json: bool) -> None:
     """Explain TERM (or every trade term the tool uses), each with an example line taken
@@ -404,16 +584,16 @@ def explain(term: str | None, as_json: bool) -> None:
     if as_json:
         import json
 
-        click.echo(json.dumps(entries))
+        echo(json.dumps(entries))
         return
     import textwrap
 
     for i, e in enumerate(entries):
         also = f" (also: {', '.join(e['aliases'])})" if e["aliases"] else ""
-        click.echo(("\n" if i else "") + f"{e['term']}{also}")
-        click.echo(textwrap.fill(e["meaning"], width=78, initial_indent="  ", subsequent_indent="  "))
-        click.echo(f"  e.g., from {e['example_from']}:")
-        click.echo(f"    {e['example']}")
+        echo(("\n" if i else "") + f"{e['term']}{also}")
+        echo(textwrap.fill(e["meaning"], width=78, initial_indent="  ", subsequent_indent="  "))
+        echo(f"  e.g., from {e['example_from']}:")
+        echo(f"    {e['example']}")
 
 
 _OUTPUTS: dict[tuple[str, ...], str] = {}
@@ -450,8 +630,8 @@ def _run_source(source: tuple[str, ...]) -> str:
     buf = io.StringIO()
     with contextlib.redirect_stdout(buf):
         try:
-            main.main(list(source), prog_name="arrange", standalone_mode=False)
-        except SystemExit as done:                 # the group's main always exits
+            main(list(source))
+        except SystemExit as done:                 # main always exits
             if done.code not in (0, None):
                 raise
     return buf.getvalue()
@@ -494,39 +674,42 @@ class _Progress:
         self.shown, self.percent = True, percent
         width = 30
         filled = width * done // max(total, 1)
-        click.echo(f"\r[{'#' * filled}{'.' * (width - filled)}] {percent:3d}% "
+        echo(f"\r[{'#' * filled}{'.' * (width - filled)}] {percent:3d}% "
                    f"{done:,} of {total:,} motifs", err=True, nl=False)
 
     def close(self) -> None:
         if self.shown:
-            click.echo("", err=True)
+            echo("", err=True)
 
 
-@main.command(short_help="Search every motif for RI chains with the properties asked.")
-@click.option("--length", "-n", required=True, type=WHOLE, help="Notes in the motif (2..8).")
-@click.option("--statements", "-k", default=4, show_default=True, type=WHOLE, help="Statements (1..64).")
-@click.option("--overlap", default=2, show_default=True, type=WHOLE, help="Notes shared by each link.")
-@click.option("--start", default=None, help="First note (default C4; a transition's first tonic).")
-@click.option("--max-step", default=None, type=WHOLE, help="Largest melodic step in semitones (default 12).")
-@click.option("--steps", default=None, help="Allowed step sizes, e.g. 1,2,5 (both ways) or +3,-4.")
-@click.option("--no-repeats", is_flag=True, help="No pitch class twice inside the motif.")
-@click.option("--transposition", default=None, type=WHOLE, help="Statement 3 lies T semitones from statement 1.")
-@click.option("--transposition-class", is_flag=True, help="Accept --transposition in any octave.")
-@click.option("--compass", default=None, type=WHOLE, help="Compass after two statements, semitones.")
-@click.option("--span", default=None, type=WHOLE, help="The whole chain within S semitones.")
-@click.option("--aggregate", is_flag=True, help="The chain completes all 12 pitch classes.")
-@click.option("--aggregate-within", default=None, type=WHOLE, help="... within its first M notes.")
-@click.option("--key", "key_text", default=None, help='Key for --diatonic / --chromatic-notes, e.g. "F major".')
-@click.option("--diatonic", is_flag=True, help="Every chain note in the key.")
-@click.option("--chromatic-notes", default=None, type=WHOLE, help="At most M chain notes outside the key.")
-@click.option("--from-key", default=None, help='A transition: the key the chain starts in.')
-@click.option("--to-key", default=None, help="... and the key its last statement reaches.")
-@click.option("--top", default=10, show_default=True, type=WHOLE, help="How many results to show (1..1000).")
-@click.option("--count", "count_only", is_flag=True, help="Only count the motifs that meet the constraints.")
-@click.option("--json", "as_json", is_flag=True, help="Print one JSON object.")
-@click.option("--force", is_flag=True, help="Search a space of more than 10^9 motifs.")
-@click.option("--write-project", default=None, type=click.Path(dir_okay=False, path_type=Path),
-              help="Write a starter project around the best result (never over a file).")
+@command("Search every motif for RI chains with the properties asked.")
+@option("-n", "--length", required=True, type=WHOLE, metavar="N", help="Notes in the motif (2..8).")
+@option("-k", "--statements", default=4, type=WHOLE, metavar="K", help=_with_default("Statements (1..64)."))
+@option("--overlap", default=2, type=WHOLE, metavar="N", help=_with_default("Notes shared by each link."))
+@option("--start", default=None, metavar="NOTE", help="First note (default C4; a transition's first tonic).")
+@option("--max-step", default=None, type=WHOLE, metavar="S",
+        help="Largest melodic step in semitones (default 12).")
+@option("--steps", default=None, metavar="LIST", help="Allowed step sizes, e.g. 1,2,5 (both ways) or +3,-4.")
+@option("--no-repeats", action="store_true", help="No pitch class twice inside the motif.")
+@option("--transposition", default=None, type=WHOLE, metavar="T",
+        help="Statement 3 lies T semitones from statement 1.")
+@option("--transposition-class", action="store_true", help="Accept --transposition in any octave.")
+@option("--compass", default=None, type=WHOLE, metavar="C", help="Compass after two statements, semitones.")
+@option("--span", default=None, type=WHOLE, metavar="S", help="The whole chain within S semitones.")
+@option("--aggregate", action="store_true", help="The chain completes all 12 pitch classes.")
+@option("--aggregate-within", default=None, type=WHOLE, metavar="M", help="... within its first M notes.")
+@option("--key", dest="key_text", default=None, metavar="KEY",
+        help='Key for --diatonic / --chromatic-notes, e.g. "F major".')
+@option("--diatonic", action="store_true", help="Every chain note in the key.")
+@option("--chromatic-notes", default=None, type=WHOLE, metavar="M", help="At most M chain notes outside the key.")
+@option("--from-key", default=None, metavar="KEY", help='A transition: the key the chain starts in.')
+@option("--to-key", default=None, metavar="KEY", help="... and the key its last statement reaches.")
+@option("--top", default=10, type=WHOLE, metavar="M", help=_with_default("How many results to show (1..1000)."))
+@option("--count", dest="count_only", action="store_true", help="Only count the motifs that meet the constraints.")
+@option("--json", dest="as_json", action="store_true", help="Print one JSON object.")
+@option("--force", action="store_true", help="Search a space of more than 10^9 motifs.")
+@option("--write-project", default=None, type=_file, metavar="FILE",
+        help="Write a starter project around the best result (never over a file).")
 @guarded
 def design(length: int, statements: int, overlap: int, start: str | None, max_step: int | None,
            steps: str | None, no_repeats: bool, transposition: int | None, transposition_class: bool,
@@ -561,14 +744,14 @@ def design(length: int, statements: int, overlap: int, start: str | None, max_st
     from arrange.chain.design import check_space, search
 
     total = check_space(spec, force)
-    click.echo(f"searching {total:,} motifs ({len(spec.steps)} allowed steps ^ {length - 1}) ...", err=True)
+    echo(f"searching {total:,} motifs ({len(spec.steps)} allowed steps ^ {length - 1}) ...", err=True)
     bar = _Progress()
     try:
         found = search(spec, top, count_only=count_only, progress=bar)
     finally:
         bar.close()
     for note in found.relaxed:
-        click.echo(f"arrange: relaxed {note}", err=True)
+        echo(f"arrange: relaxed {note}", err=True)
     if write_project is not None:
         from arrange.design_project import project_text
         from arrange.writers.files import write_batch
@@ -580,26 +763,22 @@ def design(length: int, statements: int, overlap: int, start: str | None, max_st
         write_batch(write_project.parent if str(write_project.parent) else Path("."),
                     {write_project.name: project_text(spec, best.chain, best.why,
                                                       _build_errors).encode("utf-8")})
-        click.echo(f"wrote {write_project}", err=True)
+        echo(f"wrote {write_project}", err=True)
     if as_json:
         import json
 
-        click.echo(json.dumps(found.to_json()))
+        echo(json.dumps(found.to_json()))
         return
     if count_only:
-        click.echo(str(found.count))
+        echo(str(found.count))
         return
-    click.echo(f"{found.count:,} of {found.searched:,} motifs meet the constraints")
+    echo(f"{found.count:,} of {found.searched:,} motifs meet the constraints")
     for i, f in enumerate(found.results, start=1):
         c = f.chain
-        click.echo(f"{i:>3}. {f.score:.4f}  {' '.join(c.names[:length]):<32} T {c.transposition:+d}  "
+        echo(f"{i:>3}. {f.score:.4f}  {' '.join(c.names[:length]):<32} T {c.transposition:+d}  "
                    f"compass {c.compass_after_two:+d}  span {c.span[1] - c.span[0]}")
-        click.echo(f"     line  {' '.join(c.names)}")
-        click.echo(f"     why   {f.why}")
-
-
-if __name__ == "__main__":
-    main()
+        echo(f"     line  {' '.join(c.names)}")
+        echo(f"     why   {f.why}")
 
 
 def entry() -> None:

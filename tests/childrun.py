@@ -67,7 +67,7 @@ os.replace = _wrap(os.replace)
 os.rename = _wrap(os.rename)
 sys.argv = ["arrange", *sys.argv[1:]]
 from arrange.cli import main
-main(prog_name="arrange")
+main()
 '''
 
 

@@ -6,14 +6,16 @@ Outside references used across the suite:
 """
 from __future__ import annotations
 
+import contextlib
+import io
 import os
 import shutil
 import subprocess
 import sys
+from dataclasses import dataclass
 from pathlib import Path
 
 import pytest
-from click.testing import CliRunner
 from hypothesis import settings
 
 # no per-example deadline: CI machines are shared and the first example pays imports
@@ -47,18 +49,56 @@ def musicxml_schema():
     return xmlschema.XMLSchema(str(xsd))
 
 
-def run_cli(*args: str, cwd: Path | None = None):
-    """Run the CLI in-process with click's runner; returns the Result."""
+class _Both(io.StringIO):
+    """One output stream of the in-process runner: what is written goes to its own buffer
+    and to the shared one, so ``output`` keeps stdout and stderr in the order written."""
+
+    def __init__(self, both: io.StringIO) -> None:
+        super().__init__()
+        self.both = both
+
+    def write(self, text: str) -> int:
+        self.both.write(text)
+        return super().write(text)
+
+
+@dataclass
+class CliResult:
+    """What one in-process run of the command line did."""
+
+    exit_code: int
+    stdout: str                 # stdout alone
+    stderr: str                 # stderr alone
+    output: str                 # both, in the order written
+
+    exception = None            # exceptions other than SystemExit are raised, not kept
+
+
+def run_cli(*args: str, cwd: Path | None = None) -> CliResult:
+    """Run the CLI in-process (``arrange.cli.main``, which always ends in ``SystemExit``)
+    with stdout and stderr captured apart and together; other exceptions propagate."""
     from arrange.cli import main
 
-    runner = CliRunner()
+    both = io.StringIO()
+    out, err = _Both(both), _Both(both)
     old = os.getcwd()
+    code: object = 0
     try:
         if cwd:
             os.chdir(cwd)
-        return runner.invoke(main, list(args), catch_exceptions=False)
+        with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
+            try:
+                main(list(args))
+            except SystemExit as stop:
+                code = stop.code
     finally:
         os.chdir(old)
+    if code is None:
+        code = 0
+    elif not isinstance(code, int):
+        both.write(f"{code}\n")
+        code = 1
+    return CliResult(code, out.getvalue(), err.getvalue(), both.getvalue())
 
 
 def run_subprocess(*args: str, cwd: Path | None = None) -> subprocess.CompletedProcess[str]:

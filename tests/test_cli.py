@@ -73,8 +73,9 @@ def test_help_and_chain_do_not_import_music21_or_numpy() -> None:
 
 # what a score-and-MIDI build of a project without layers, rhythm section or melody file
 # needs no module of: the preview, PDF and report writers and their renderers, music21, the
-# designer, the melody reader, the layer stage and its pad search, the rhythm section's parts
-NOT_FOR_SCORE_AND_MIDI = ("music21", "verovio", "resvg_py", "arrange.writers.preview", "arrange.writers.pdf",
+# designer, the melody reader, the layer stage and its pad search, the rhythm section's parts;
+# and no third-party command-line library (click): the standard library's argparse reads it
+NOT_FOR_SCORE_AND_MIDI = ("click", "music21", "verovio", "resvg_py", "arrange.writers.preview", "arrange.writers.pdf",
                           "arrange.writers.report", "arrange.chain.design", "arrange.chain.spec",
                           "arrange.inputs.melody_file", "arrange.voicing.layers", "arrange.voicing.pads",
                           "arrange.rhythm_section.section", "arrange.rhythm_section.values",
@@ -210,3 +211,61 @@ def test_a_closed_pipe_stops_quietly() -> None:
     p.wait(timeout=60)
     assert "internal error" not in err and "Traceback" not in err
     assert p.returncode == 0
+
+
+def test_every_help_lists_every_option_of_its_command() -> None:
+    """``arrange --help`` lists every command and its global options; ``arrange CMD --help``
+    every option and argument of CMD as the parser holds them (argparse's own ``Action``
+    objects: ``option_strings`` and ``metavar``)."""
+    from arrange.cli import COMMANDS, command_options
+
+    top = run_cli("--help")
+    assert top.exit_code == 0 and top.stderr == ""
+    for flag in ("--version", "--debug", "-h, --help", *COMMANDS):
+        assert flag in top.stdout, flag
+    for name, actions in command_options().items():
+        r = run_cli(name, "--help")
+        assert r.exit_code == 0 and r.stderr == "", (name, r.output)
+        for a in actions:
+            for flag in a.option_strings or [str(a.metavar)]:
+                assert flag in r.stdout, (name, flag)
+            if a.help:
+                assert " ".join(a.help.split()[:3]).replace("%(default)s", "") in " ".join(r.stdout.split()), \
+                    (name, a.help)
+    assert "[default: 4]" in " ".join(run_cli("chain", "--help").stdout.split())
+    v = run_cli("--version")
+    assert v.exit_code == 0 and v.stdout.strip() == "arrange, version 0.1.0"
+
+
+@pytest.mark.parametrize("args, words", [
+    (["chain", "C4 E4 D4", "--statements", "four"], ["--statements", "'four'", "ASCII digits"]),
+    (["build", "p.toml", "--paper", "legal"], ["--paper", "'legal'", "'a4'", "'letter'"]),
+    (["build", "p.toml", "--no-part"], ["--no-part", "--no-parts"]),
+    (["chain", "C4 E4 D4", "--jso"], ["--jso", "--json"]),          # no abbreviations
+    (["chain"], ["MOTIF"]),
+    (["design"], ["--length"]),
+    (["chain", "C4 E4 D4", "--lead-range", "C4"], ["--lead-range", "2 arguments"]),
+    (["frobnicate"], ["'frobnicate'", "build", "chain"]),
+    ([], ["command", "build", "chain"]),
+])
+def test_usage_errors_are_one_line_on_stderr(args: list[str], words: list[str]) -> None:
+    """A command line the parser refuses: exit 2, one line on stderr naming the value and the
+    option, and what is accepted; nothing on stdout, no usage block (common practice of
+    command-line tools; README, Limits and safety)."""
+    r = run_cli(*args)
+    assert r.exit_code == 2, r.output
+    assert r.stdout == ""
+    lines = r.stderr.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith("arrange: error: "), r.stderr
+    assert "accepted" in lines[0] and "usage:" not in lines[0].lower()
+    for w in words:
+        assert w in lines[0], (w, lines[0])
+
+
+def test_an_option_value_may_start_with_a_dash() -> None:
+    """``--steps -3,4`` (a step of -3 one way, 4 both ways) is the value of --steps, as the
+    README's ``--steps`` syntax allows, not an unknown option."""
+    r = run_cli("design", "-n", "3", "--steps", "-3,4", "--count")
+    assert r.exit_code == 0, r.output
+    # 3 allowed steps (-3, +4, -4) ^ 2 = 9 motifs, every one counted (no constraint)
+    assert r.stdout.strip() == "9"

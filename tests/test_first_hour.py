@@ -2,7 +2,8 @@
 ``arrange design --write-project``, ``--vary key=``, ``--transpose`` and the build's summary.
 
 Outside references, named beside each check:
-* click's own parameter objects (``click.Option.opts``) for the short options;
+* argparse's own option objects (``argparse.Action.option_strings``, the standard
+  library's parser) for the short options;
 * music21 (``converter``, ``harmony.ChordSymbol``, ``key.Key``, ``interval``) reading the
   written MusicXML back, independently of our stages;
 * Python's ``tomllib`` reading the project files the tool writes;
@@ -76,30 +77,30 @@ def _severities(report: dict) -> tuple[int, int]:
 
 
 def test_every_short_option_means_one_thing_across_commands() -> None:
-    """Read click's own parameter objects: a short option names the same long option in
+    """Read argparse's own option objects: a short option names the same long option in
     every command that has it, and ``-o`` is the output folder."""
-    import click
-
-    from arrange.cli import main
+    from arrange.cli import command_options
 
     meaning: dict[str, set[str]] = {}
-    for name, cmd in main.commands.items():
-        for p in cmd.params:
-            if not isinstance(p, click.Option):
+    for name, actions in command_options().items():
+        for a in actions:
+            if not a.option_strings:          # a positional argument
                 continue
-            shorts = [o for o in p.opts + p.secondary_opts if re.fullmatch(r"-[A-Za-z]", o)]
-            longs = [o for o in p.opts if o.startswith("--")]
+            shorts = [o for o in a.option_strings if re.fullmatch(r"-[A-Za-z]", o)]
+            longs = [o for o in a.option_strings if o.startswith("--")]
             for s in shorts:
                 meaning.setdefault(s, set()).add(longs[0] if longs else name)
     clashes = {s: m for s, m in meaning.items() if len(m) > 1}
     assert not clashes, clashes
     assert meaning.get("-o") == {"--out"}
+    assert meaning.get("-h") == {"--help"} and meaning.get("-k") == {"--statements"}
 
 
 def test_chain_refuses_o_as_overlap_with_a_usage_line() -> None:
     r = run_cli("chain", "C4 E4 D4 G4", "-o", "3")
     assert r.exit_code == 2
     assert "-o" in r.output and "Traceback" not in r.output
+    assert r.stdout == "" and len(r.stderr.strip().splitlines()) == 1, r.stderr
 
 
 # --------------------------------------------------------------- help texts that fit
@@ -108,11 +109,11 @@ def test_chain_refuses_o_as_overlap_with_a_usage_line() -> None:
 def test_command_summaries_are_whole_phrases() -> None:
     """``arrange --help`` lists every command with a summary that is not cut: no trailing
     ellipsis, parentheses closed, ends with a full stop (common practice of CLI help)."""
-    from arrange.cli import main
+    from arrange.cli import COMMANDS
 
     r = run_cli("--help")
     assert r.exit_code == 0
-    listing = r.output.split("Commands:", 1)[1]
+    listing = r.output.split("commands:", 1)[1]
     seen = set()
     for line in listing.splitlines():
         m = re.match(r"\s+(\S+)\s{2,}(.*\S)", line)
@@ -123,19 +124,17 @@ def test_command_summaries_are_whole_phrases() -> None:
         assert not summary.endswith("..."), (name, summary)
         assert summary.count("(") == summary.count(")"), (name, summary)
         assert summary.endswith("."), (name, summary)
-    assert seen == set(main.commands)
+    assert seen == set(COMMANDS)
 
 
 def test_option_help_texts_are_closed_phrases() -> None:
-    import click
+    from arrange.cli import command_options
 
-    from arrange.cli import main
-
-    for name, cmd in main.commands.items():
-        for p in cmd.params:
-            if isinstance(p, click.Option) and p.help:
-                assert p.help.count("(") == p.help.count(")"), (name, p.opts, p.help)
-                assert not p.help.rstrip().endswith(("(", ",", " e.g.")), (name, p.opts, p.help)
+    for name, actions in command_options().items():
+        for a in actions:
+            if a.help:
+                assert a.help.count("(") == a.help.count(")"), (name, a.option_strings, a.help)
+                assert not a.help.rstrip().endswith(("(", ",", " e.g.")), (name, a.option_strings, a.help)
 
 
 # --------------------------------------------------------------- the starter

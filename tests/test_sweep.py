@@ -7,7 +7,7 @@ Unicode category Nd), a number past Python's 4,300-digit conversion limit (Pytho
 control characters and noncharacters (the Unicode Standard, category Cc, U+FFFE), wrong
 types, deep nesting, long text.
 
-Each case runs the CLI in process (click's runner) on a small form and must end in exit 0
+Each case runs the CLI in process (conftest's runner) on a small form and must end in exit 0
 with its files, or exit 2 with one error line naming the key and saying what is accepted,
 the output folder untouched; never exit 1, never a traceback (an exception fails the test).
 The count is printed by ``test_the_sweep_has_its_size``.
