@@ -470,6 +470,55 @@ def test_no_double_accidental_but_a_diminished_sevenths(built: dict[str, Built])
     assert not bad, f"{len(bad)} double accidentals: " + "; ".join(bad[:15])
 
 
+def _far_from_signature(b: Built, written, label: str, sounding=None) -> list[str]:  # noqa: ANN001
+    """Notes whose accidental moves their letter two half steps or more from the form the key
+    signature in force gives it (B# or E# under a flat signature, Cbb, D# in Db major)."""
+    import bisect
+
+    from music21 import key, stream
+
+    bad = []
+    sounding = sounding or written
+    for k, (wp, sp) in enumerate(zip(written.parts, sounding.parts, strict=True)):
+        starts, sigs, numbers = [], [], []
+        sig = None
+        for wm in wp.getElementsByClass(stream.Measure):
+            sig = next(iter(wm.getElementsByClass(key.KeySignature)), sig)
+            starts.append(float(wm.offset))
+            sigs.append(sig)
+            numbers.append(wm.number)
+        for wn, sn in zip(_notes(wp), _notes(sp), strict=True):
+            t = float(wn.offset)
+            i = bisect.bisect_right(starts, t + 1e-9) - 1
+            alter = wn.pitch.accidental.alter if wn.pitch.accidental is not None else 0
+            held = sigs[i].accidentalByStep(wn.pitch.step) if sigs[i] is not None else None
+            if abs(alter - (held.alter if held is not None else 0)) < 2:
+                continue
+            if not _is_dim7_seventh(_chord_at(b, t), sn.pitch) and not _leading_tone(b, t, sn.pitch):
+                bad.append(f"{b.name} {label} {wp.partName or k} bar {numbers[i]}: "
+                           f"{wn.pitch.nameWithOctave} under {sigs[i].sharps if sigs[i] else 0} sharps")
+    return bad
+
+
+def test_no_note_lies_two_half_steps_from_its_key_signature(built: dict[str, Built]) -> None:
+    # common practice of engraving: an accidental moves a note of the key a half step; a
+    # pitch two half steps from its letter's form in the signature is spelled with the
+    # neighbouring letter (Ab7 in Bb major, not G#7 with B# and E#), but the seventh of a
+    # diminished seventh chord and a minor key's raised seventh (as the double accidentals)
+    # The walks (a new key every bar, every transposing instrument) are left out: there a
+    # chromatic chord of one bar's key, written in a part's enharmonic key, may keep a root
+    # (E7 in Db major) whose other spelling would be an odd one (Fb7 with Ebb).
+    bad = []
+    for b in built.values():
+        if b.name.startswith("walk-"):
+            continue
+        bad += _far_from_signature(b, b.score, "score", b.sounding)
+        for fname, _k, w, snd in b.files:
+            bad += _far_from_signature(b, w, fname, snd)
+    per = {n: sum(1 for x in bad if x.split()[0] == n) for n in dict.fromkeys(x.split()[0] for x in bad)}
+    assert not bad, f"{len(bad)} notes two half steps from the signature {per}: " + "; ".join(bad[:60])
+
+
 def test_one_spelling_per_pitch_class_at_one_moment(built: dict[str, Built]) -> None:
     """Across every part of the score, layers included, at sounding pitch; in a transposed
     score among the parts that read one written key (``Built.group``)."""
@@ -543,7 +592,10 @@ def test_chord_tones_are_spelled_by_degree_over_the_root(built: dict[str, Built]
                 if cs is None or b.group(k) != 0:
                     continue
                 names = {x.pitchClass: x.name for x in cs.pitches}
-                if n.pitch.pitchClass not in names or _is_dim7_seventh(cs, n.pitch):
+                # a degree needing a double accidental (Cb7's Bbb) is written as its
+                # enharmonic (the double-accidental check above)
+                if n.pitch.pitchClass not in names or _is_dim7_seventh(cs, n.pitch) or \
+                        abs(next(x for x in cs.pitches if x.pitchClass == n.pitch.pitchClass).alter) >= 2:
                     continue
                 total += 1
                 if names[n.pitch.pitchClass] != n.pitch.name:

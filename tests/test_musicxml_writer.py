@@ -716,6 +716,24 @@ def test_the_drawn_tempo_mark_and_style_word_touch_no_note(built) -> None:
     assert checked == len(list(DEMOS.glob("*.toml")))
 
 
+def test_no_staff_name_or_note_is_cut_off_at_the_pictures_edge(built) -> None:
+    """The PNG every demo writes, as written (drawn by resvg in the fonts this machine has,
+    which may be wider than the ones verovio measures its staff names in): no ink in its
+    outer four pixel columns, left or right (common practice of page layout: the staff names
+    of the first system, the longest, stand inside the page)."""
+    from PIL import Image
+
+    checked = 0
+    for slug in sorted(p.stem for p in DEMOS.glob("*.toml")):           # every demo asks for a preview
+        png = Image.open(built[slug][0] / f"{slug}.png").convert("L")
+        w, h = png.size
+        for edge in ((0, 0, 4, h), (w - 4, 0, w, h)):
+            ink = png.crop(edge).point(lambda v: 255 if v < 160 else 0).getbbox()
+            assert ink is None, (slug, edge, ink)
+        checked += 1
+    assert checked == len(list(DEMOS.glob("*.toml")))
+
+
 # ---------------------------------------------------------------------------------------------
 # marks a player needs (issue 16), read back with music21
 

@@ -50,9 +50,9 @@ def spell_pc(pc: int, key: Key, chord: Chord | None = None, direction: int = 0) 
         deg = chord.degree_of(iv)
         if deg is not None:
             name = interval_name(chord.root_name, iv, deg)
-            # by degree, even a double accidental no single one could spell as that degree;
-            # the seventh of a diminished seventh follows the key instead
-            if abs(_acc(name)) <= 1 or not (chord.quality == "dim7" and deg == 7):
+            # by degree; a degree that would need a double accidental (the seventh of Cb7,
+            # of a diminished seventh) follows the key and the line instead (A, not Bbb)
+            if abs(_acc(name)) <= 1:
                 return name
         elif iv in chord.tensions:
             tension = _tension_name(iv, chord, key, direction)
@@ -76,8 +76,9 @@ def _tension_name(iv: int, chord: Chord, key: Key, direction: int) -> str | None
     a falling line reads as the minor tenth (Eb over C7 in F major), and so does a #9 that
     is a note of the key; None where the degree would need a double accidental."""
     deg = _TENSION_DEGREE[iv]
-    if iv in (6, 8) and 7 not in chord.intervals:
-        deg = 5
+    if (iv == 6 and 7 not in chord.intervals) or (iv == 8 and not {6, 7} & set(chord.intervals)):
+        deg = 5         # a fifth raised or lowered where the chord has none (a half-diminished
+        #                 chord's b13 stays a thirteenth: Db over Fm7b5, not C#)
     name = interval_name(chord.root_name, iv, deg)
     against = _acc(name) * (-1 if key.fifths < 0 else 1) < 0
     in_key = (chord.root + iv) % 12 in key.scale and name not in key.names
@@ -95,7 +96,7 @@ def nonchord_degree(iv: int, chord: Chord) -> int:
         deg = 3
     if iv == 9 and not {10, 11} & set(chord.intervals):
         deg = 6
-    if iv in (6, 8) and 7 not in chord.intervals:
+    if (iv == 6 and 7 not in chord.intervals) or (iv == 8 and not {6, 7} & set(chord.intervals)):
         deg = 5
     if iv == 4 and 5 in chord.intervals:
         deg = 3
@@ -155,11 +156,14 @@ def spell_chord(chord: Chord) -> tuple[str, ...]:
 
 
 def root_spelling(pc: int, suffix: str, key: Key, letter_hint: str | None = None) -> Chord:
-    """A chord on ``pc`` with ``suffix``, its root spelled so that its own tones need no
-    double accidental (Bb7, not A#7, in E major: A#7 would have C##; F#m7, not Gbm7, whose
-    third is Bbb), no root Cb, Fb, E# or B# the key lacks, then most of its tones read as the
-    key writes them, with few accidentals against the key's side (``letter_hint`` breaks
-    ties: the letter the voice-leading suggests)."""
+    """A chord on ``pc`` with ``suffix``, its root spelled so that none of its tones lies two
+    half steps from the form the key signature gives its letter (Cb7, not B7, in Db major: B7
+    would have D# against the signature's Db; written for an alto in Bb major it reads Ab7,
+    not G#7 with B# and E#), then so that its own tones need no double accidental (Bb7, not
+    A#7, in E major: A#7 would have C##; F#m7, not Gbm7, whose third is Bbb), no root Cb, Fb,
+    E# or B# the key lacks, then most of its tones read as the key writes them, with few
+    accidentals against the key's side (``letter_hint`` breaks ties: the letter the
+    voice-leading suggests)."""
     best = None
     for letter in LETTERS:
         name = spell_name(letter, pc)
@@ -173,12 +177,22 @@ def root_spelling(pc: int, suffix: str, key: Key, letter_hint: str | None = None
         side = -1 if key.fifths < 0 else 1
         against = sum(1 for t in tones if _acc(t) * side < 0 and t not in key.names)
         foreign = sum(1 for t in tones if t not in key.names)
-        score = (doubles, name in _ODD and name not in key.names, clash, against, foreign,
+        far = sum(1 for t in tones if abs(_acc(t) - _key_acc(key, t[0])) > 1)
+        score = (far, doubles, name in _ODD and name not in key.names, clash, against, foreign,
                  letter != letter_hint)
         if best is None or score < best[0]:
             best = (score, chord)
     assert best is not None
     return best[1]
+
+
+def _key_acc(key: Key, letter: str) -> int:
+    """The accidental the key signature gives ``letter`` (-1 flat, 0, +1 sharp; a key past
+    seven takes two: its signature is the circle of fifths' ``fifths``)."""
+    f = key.fifths
+    if f >= 0:
+        return f // 7 + (1 if "FCGDAEB".index(letter) < f % 7 else 0)
+    return -((-f) // 7 + (1 if "BEADGCF".index(letter) < (-f) % 7 else 0))
 
 
 def m21_name(name: str) -> str:

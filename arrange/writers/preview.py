@@ -31,6 +31,14 @@ _PIXELS = 1.5          # picture pixels per SVG unit: about 1260 pixels across
 MAX_HEIGHT = 24_000
 
 
+# the side page margins (verovio units; its default is 50): verovio measures texts in its
+# own Times metrics, but the picture draws them in whatever serif the renderer has (DejaVu
+# Serif, a fifth wider, on a plain Linux machine), so "Bass Trombone" ran past the page's
+# left edge and a chord symbol on a system's last beat past its right; 100 units (30
+# pixels more) keep them inside
+_MARGIN = 100
+
+
 def _toolkit(page: dict[str, object] | None = None):  # noqa: ANN202
     try:
         import verovio
@@ -41,7 +49,9 @@ def _toolkit(page: dict[str, object] | None = None):  # noqa: ANN202
     tk = verovio.toolkit()
     tk.setOptions({"pageWidth": PAGE_WIDTH, "pageHeight": PAGE_HEIGHT, "scale": _SCALE,
                    "adjustPageHeight": True, "footer": "none", "header": "auto",
-                   "breaks": "auto", "svgViewBox": True, "xmlIdSeed": 1, **(page or {})})
+                   "breaks": "auto", "svgViewBox": True, "xmlIdSeed": 1, "pageMarginLeft": _MARGIN,
+                   "pageMarginRight": _MARGIN,
+                   **(page or {})})
     return tk
 
 
