@@ -93,11 +93,13 @@ def below_limit(upper: Pitch, lower: Pitch) -> Mark:
     return lower < low_limit(gap)
 
 
-def minor_ninth(upper: Pitch, lower: Pitch, ctx: Context) -> Mark:
-    """The minor-ninth rule: ``upper`` lies a minor ninth or a compound of it above
-    ``lower``, other than the b9 over a dominant's root."""
-    d = upper - lower
-    hit = (d >= 13) & (d % 12 == 1)
+def minor_ninth(uppers: Sequence[Pitch], lower: Pitch, ctx: Context) -> Mark:
+    """The minor-ninth rule: ``lower`` lies a minor ninth or a compound of it below one of
+    ``uppers``, other than the b9 over a dominant's root."""
+    hit: Mark = False
+    for upper in uppers:
+        d = upper - lower
+        hit = hit | ((d >= 13) & (d % 12 == 1))
     if ctx.dominant:
         hit = hit & (lower % 12 != ctx.root)
     return hit
@@ -176,10 +178,7 @@ def masks(voices: Sequence[Pitch], ctx: Context, section: Section) -> dict[str, 
             cross[j] = d < 0
             if j <= gap_pairs:
                 gap[j] = d > 12
-            hit: Mark = False
-            for upper in voices[:j]:
-                hit = hit | minor_ninth(upper, p, ctx)
-            m9[j] = hit
+            m9[j] = minor_ninth(voices[:j], p, ctx)
             if not unison:
                 # the third or a tension (``flagged``) already sounding above, not the lead's
                 pc = pcs[j]
