@@ -181,3 +181,70 @@ def test_dp_equals_brute_force_on_small_lines() -> None:
                     for p in itertools.product(*(range(len(c)) for c in cands)))
         assert best == pytest.approx(brute)                       # brute-force minimum
         assert path_cost(cands, costs, path, 1.0) == pytest.approx(best)
+
+
+def _dp_by_numpy(cands: list[np.ndarray], costs: list[np.ndarray], motion: float) -> tuple[list[int], float]:
+    """The same dynamic programme priced pair by pair with numpy: every step an ``(a, b)``
+    array of motion costs, each candidate's predecessor by ``argmin`` (numpy: the first
+    index of the least)."""
+    total = costs[0].astype(float)
+    back = []
+    for i in range(1, len(cands)):
+        step = motion * np.abs(cands[i - 1][:, None, 1:] - cands[i][None, :, 1:]).sum(axis=2)
+        whole = total[:, None] + step
+        arg = whole.argmin(axis=0)
+        back.append(arg)
+        total = whole[arg, np.arange(len(cands[i]))] + costs[i]
+    j = int(total.argmin())
+    path = [j]
+    for arg in reversed(back):
+        j = int(arg[j])
+        path.append(j)
+    return path[::-1], float(total.min())
+
+
+def test_dp_takes_numpys_path_ties_included() -> None:
+    """The plain-Python search (which prices only predecessors that can still win) picks
+    exactly numpy's path, ties broken alike (numpy's ``argmin``: the first index), with the
+    same float total: whole-number and repeated costs make many ties."""
+    chords = [parse_chord(s) for s in ("F6", "Gm7", "C7", "Fmaj7", "Bb7", "Ebmaj7", "Am7b5", "D7")]
+    leads = [69, 70, 72, 69, 74, 70, 72, 66]
+    rng = np.random.default_rng(11)
+    for trial in range(24):
+        vtype = ("close", "drop2", "spread", "drop2-4")[trial % 4]
+        cands, costs = [], []
+        for ch, lead in zip(chords, leads, strict=True):
+            found = shapes(lead, ch, vtype, 5, 36)
+            cands.append(np.array([s for s, _c in found]))
+            pick = rng.integers(0, 4, len(found)).astype(float) if trial % 2 else rng.uniform(0, 9, len(found))
+            costs.append(pick)
+        motion = (1.0, 0.5, 0.0, 2.25)[trial % 4]
+        want = _dp_by_numpy(cands, costs, motion)
+        rows = [[tuple(int(p) for p in r) for r in c] for c in cands]
+        assert solve(rows, [c.tolist() for c in costs], motion) == want
+
+
+def test_a_weight_below_zero_is_refused(monkeypatch: pytest.MonkeyPatch) -> None:
+    """A cost weight below zero would reward what it weighs (common practice: costs count
+    against a voicing); the search also relies on motion costing nothing below zero."""
+    from arrange.errors import VoicingError
+    from arrange.voicing import shapes as shapes_mod
+
+    real = shapes_mod.read_rules
+
+    def tampered(name: str) -> dict:
+        d = real(name)
+        if name == "voicings.toml":
+            d["weights"]["motion"] = -1.0
+        return d
+
+    monkeypatch.setattr(shapes_mod, "read_rules", tampered)
+    shapes_mod.recipes.cache_clear()
+    try:
+        with pytest.raises(VoicingError, match="weight motion = -1.0"):
+            shapes_mod.recipes()
+        with pytest.raises(ValueError, match="below zero"):
+            solve([[(60, 50)], [(62, 52)]], [[0.0], [0.0]], -1.0)
+    finally:
+        monkeypatch.undo()
+        shapes_mod.recipes.cache_clear()

@@ -10,8 +10,9 @@ Public entry points:
   -> tuple of :class:`VoicedLayer` (pads and hits)
 
 Inside: ``shapes`` lists candidate voicings from the recipes, ``rules`` marks rule breaks
-(numpy), ``pads`` the background chord candidates.  The numpy modules are imported only
-when one of their names is asked for, so reading sections stays light.
+(plain Python, for one voicing or a numpy column of many), ``pads`` the background chord
+candidates (numpy, imported only by a project with layers).  The search and layer modules
+are imported only when one of their names is asked for, so reading sections stays light.
 """
 from __future__ import annotations
 

@@ -516,12 +516,12 @@ def _findings(harmonized: Harmonized, voiced: Voiced, layer: Layer, notes: tuple
     bars = [int(n.onset // bar_len) + 1 for n in notes]
     R = np.array([[p is None for p in n.pitches] for n in notes], dtype=bool)
     P = np.array([_filled(n.pitches) for n in notes], dtype=np.int64)
-    ctx = rules.context([n.chord for n in notes], ["spread"] * len(notes))
+    ctx = [rules.context(n.chord, "spread") for n in notes]
     sec = layer.section
     name = f"layer {layer.index} ({layer.role}, {sec.name})"
     out = []
     first_event = [snd[0][0] if snd else None for snd in sounding]
-    for kind, i, part, msg, severity in rules.findings(P, ctx, sec, bars=bars, allow_extreme=True,
+    for kind, i, part, msg, severity in rules.findings(P.tolist(), ctx, sec, bars=bars, allow_extreme=True,
                                                        vtypes=["spread"] * len(notes)):
         if R[i, [p.name for p in sec.parts].index(part)]:
             continue        # a resting part carries its neighbour's pitch only for the checks

@@ -259,12 +259,6 @@ def _embed(V: np.ndarray, sounding: tuple[int, ...], n: int) -> tuple[np.ndarray
     return V[:, carry], np.broadcast_to(rests, (len(V), n))
 
 
-def _context(chord: Chord, m: int) -> rules.Context:
-    """The rule context of ``m`` voicings of one chord (one row worked out, repeated)."""
-    one = rules.context([chord], ["spread"])
-    return rules.Context(*(np.repeat(getattr(one, f), m, axis=0) for f in rules.Context.__slots__))
-
-
 def candidates(chord: Chord, section: Section, lead: tuple[int, ...] = ()
                ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Candidate voicings ``(k, n)`` (sounding, top to bottom), their rests ``(k, n)``
@@ -318,8 +312,12 @@ def _candidates(chord: Chord, section: Section, safe: tuple[int, ...] | None
     P = np.concatenate(rows, axis=0)
     R = np.concatenate(rest_rows, axis=0)
     weights = {k: recipes().weight(k) for k in rules.KINDS}
-    marks = {k: m & ~R for k, m in rules.masks(P, _context(chord, len(P)), section).items()}
-    cost = np.concatenate(base) + rules.penalties(marks, weights)
+    # the voicing stage's own rules, run on one column of pitches per voice; a resting voice's
+    # marks are cleared (it carries its neighbour's pitch only for the checks)
+    plays = np.ascontiguousarray(~R.T)
+    marks = rules.masks(list(np.ascontiguousarray(P.T)), rules.context(chord, "spread"), section)
+    cost = np.concatenate(base) + rules.penalties(
+        {k: [m & plays[j] for j, m in enumerate(ms)] for k, ms in marks.items()}, weights)
     for arr in (P, R, cost):
         arr.flags.writeable = False
     return P, R, cost
@@ -367,15 +365,13 @@ def fits_under(P: np.ndarray, lows: tuple[int, ...]) -> np.ndarray:
     the section's lowest notes ``lows`` (one per stretch sounding with the chord), no two
     adjacent sounding voices below their limit (``voicing_rules/limits.toml``), nor the top
     below the limit of its interval to each of ``lows``."""
-    limits = rules.low_interval_limits()
-    d = P[:, :-1] - P[:, 1:]
-    lim = limits[np.clip(d, 0, 24)]
-    ok = ~((d > 0) & (d <= 24) & (lim >= 0) & (P[:, 1:] < lim)).any(axis=1)
-    top = P[:, 0]
+    cols = np.ascontiguousarray(P.T)
+    ok = np.ones(len(P), dtype=bool)
+    for upper, lower in zip(cols[:-1], cols[1:], strict=True):     # the voicing stage's own rule
+        ok &= ~rules.below_limit(upper, lower)
+    top = cols[0]
     for low in sorted(set(lows)):
-        gap = low - top
-        lim = limits[np.clip(gap, 0, 24)]
-        ok &= (gap > 0) & ~((gap <= 24) & (lim >= 0) & (top < lim))
+        ok &= (low > top) & ~rules.below_limit(low, top)
     return ok
 
 

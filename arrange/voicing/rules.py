@@ -1,11 +1,18 @@
-"""The arranger's rule checks, vectorised over many voicings at once.
+"""The arranger's rule checks: one implementation for one voicing or many.
 
-:func:`masks` takes an ``(m, n)`` array of sounding pitches (m voicings, n parts
-top to bottom) and one row of context per voicing, and marks each offending
-voice.  The voice-leading search turns the marks into penalties
-(:func:`penalties`); the chosen voicings' marks become the report's findings
-(:func:`findings`).  One set of rules serves both, so the search avoids exactly
-what the report would flag.
+A voicing is a sequence of sounding pitches, top to bottom, one per part.  Each rule is
+written once, over the voices of a voicing, with comparisons, integer arithmetic and
+``&``, ``|`` (never ``and``/``or``/``not`` on a pitch), which mean the same for a Python
+``int`` (one voicing: the voice-leading search of :mod:`arrange.voicing.voicer`, tutti and
+every finding, in plain Python) and for a column of integers (many voicings of one chord at
+once: the pad search's thousands of candidates, :mod:`arrange.voicing.pads`, which holds
+its candidates as numpy columns).  A rule's only table, the low-interval limits, is read by
+:func:`low_limit` for either; nothing here imports numpy.
+
+:func:`masks` marks each offending voice per rule; :func:`penalties` weighs the marks
+(the search's costs); :func:`findings` turns the chosen voicings' marks into the report's
+warnings.  One set of rules serves all of them, so the search avoids exactly what the
+report would flag.
 
 Rules (common practice of ensemble arranging):
 
@@ -28,161 +35,215 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass
 from functools import lru_cache
-
-import numpy as np
+from typing import Any
 
 from arrange.theory.chords import Chord
 from arrange.theory.pitch import pitch_name
 from arrange.voicing.sections import INTERVAL_NAMES, Section, low_interval_table
 
-__all__ = ["KINDS", "Context", "context", "masks", "penalties", "low_interval_limits", "findings",
-           "INTERVAL_NAMES"]
+__all__ = ["KINDS", "Context", "context", "masks", "penalties", "low_interval_limits", "low_limit",
+           "below_limit", "minor_ninth", "findings", "INTERVAL_NAMES"]
 
 KINDS = ("range", "extreme", "low-interval", "voice-crossing", "minor-ninth", "doubling", "gap", "bottom")
 
+# a pitch: an int (one voicing) or an integer column (many voicings); a mark: a bool or a
+# bool column
+Pitch = Any
+Mark = Any
+
+# the limit of an interval that has none: below every pitch
+_NO_LIMIT = -(1 << 30)
+
 
 @lru_cache(maxsize=1)
-def low_interval_limits() -> np.ndarray:
+def low_interval_limits() -> tuple[int, ...]:
     """Lowest allowed lower note by interval (index = semitones, 0..24); -1 = no limit
-    (``sections.low_interval_table`` as an array)."""
-    return np.array(low_interval_table(), dtype=np.int64)
+    (``sections.low_interval_table``)."""
+    return low_interval_table()
+
+
+_BY_GAP: list[tuple[int, ...]] = []
+
+
+def _limits_by_gap() -> tuple[int, ...]:
+    """The limit of every gap 0..25 (0 and 25 stand for every gap outside 1..24: none)."""
+    if not _BY_GAP:
+        table = low_interval_limits()
+        _BY_GAP.append(tuple(table[d] if 1 <= d <= 24 and table[d] >= 0 else _NO_LIMIT for d in range(26)))
+    return _BY_GAP[0]
+
+
+def low_limit(gap: Pitch) -> Pitch:
+    """The lowest allowed lower note of two voices ``gap`` semitones apart (upper minus
+    lower), or a value under every pitch where the interval has no limit (a unison, a
+    crossing, more than two octaves)."""
+    table = _BY_GAP[0] if _BY_GAP else _limits_by_gap()
+    if isinstance(gap, int):
+        return table[gap] if 1 <= gap <= 24 else _NO_LIMIT
+    import numpy as np   # a column: its caller has numpy loaded already
+
+    return np.asarray(table)[np.clip(gap, 0, 25)]
+
+
+def below_limit(upper: Pitch, lower: Pitch) -> Mark:
+    """The low-interval rule: ``lower`` under ``upper`` lies below the limit of their
+    interval (``voicing_rules/limits.toml``)."""
+    return lower < low_limit(upper - lower)
+
+
+def minor_ninth(upper: Pitch, lower: Pitch, ctx: Context) -> Mark:
+    """The minor-ninth rule: ``upper`` lies a minor ninth or a compound of it above
+    ``lower``, other than the b9 over a dominant's root."""
+    d = upper - lower
+    hit = (d >= 13) & (d % 12 == 1)
+    if ctx.dominant:
+        hit = hit & (lower % 12 != ctx.root)
+    return hit
+
+
+def _has(mask: int, pc: Pitch) -> Mark:
+    """``pc`` (0..11) is in the 12-bit set ``mask``."""
+    return (mask >> pc) & 1 == 1
+
+
+def _lacks(mask: int, pc: Pitch) -> Mark:
+    """``pc`` (0..11) is not in the 12-bit set ``mask``."""
+    return (mask >> pc) & 1 == 0
 
 
 @dataclass(frozen=True, slots=True)
 class Context:
-    """Per-voicing rows of context (numpy arrays, one entry per voicing)."""
-    root: np.ndarray        # (m,) root pitch class
-    dominant: np.ndarray    # (m,) bool
-    flagged: np.ndarray     # (m, 12) bool: pitch classes that must not be doubled
-    closed: np.ndarray      # (m,) bool: close or drop voicing (gap rule applies)
-    unison: np.ndarray      # (m,) bool
-    tones: np.ndarray       # (m, 12) bool: the chord's own pitch classes
+    """What the rules need of one voicing's chord and type."""
+    root: int          # root pitch class
+    dominant: bool
+    flagged: int       # 12-bit set: pitch classes that must not be doubled (third, tensions)
+    closed: bool       # close or drop voicing (the gap rule applies)
+    unison: bool
+    tones: int         # 12-bit set: the chord's own pitch classes
 
 
 @lru_cache(maxsize=1024)
-def _chord_row(c: Chord) -> tuple[tuple[bool, ...], tuple[bool, ...]]:
-    """One chord's rows: the pitch classes that must not be doubled (its third, its
-    tensions outside the chord) and its own pitch classes, as 12 flags each."""
-    tones = set(c.pitch_classes)
-    flagged = {(c.root + t) % 12 for t in c.tensions if (c.root + t) % 12 not in tones}
-    flagged |= {(c.root + third) % 12 for third in (3, 4) if third in c.intervals}
-    return tuple(pc in flagged for pc in range(12)), tuple(pc in tones for pc in range(12))
+def context(chord: Chord, vtype: str) -> Context:
+    """The rule context of a voicing of ``chord`` of type ``vtype``: the pitch classes that
+    must not be doubled are its third and its tensions outside the chord."""
+    tones = set(chord.pitch_classes)
+    flagged = {(chord.root + t) % 12 for t in chord.tensions if (chord.root + t) % 12 not in tones}
+    flagged |= {(chord.root + third) % 12 for third in (3, 4) if third in chord.intervals}
+    return Context(chord.root, bool(chord.is_dominant), sum(1 << pc for pc in flagged),
+                   vtype in ("close", "drop2", "drop2-4", "drop3"), vtype == "unison",
+                   sum(1 << pc for pc in tones))
 
 
-def context(chords: Sequence[Chord], vtypes: Sequence[str]) -> Context:
-    m = len(chords)
-    rows = [_chord_row(c) for c in chords]
-    return Context(np.array([c.root for c in chords], dtype=np.int64),
-                   np.array([c.is_dominant for c in chords], dtype=bool),
-                   np.array([f for f, _t in rows], dtype=bool).reshape(m, 12),
-                   np.array([v in ("close", "drop2", "drop2-4", "drop3") for v in vtypes], dtype=bool),
-                   np.array([v == "unison" for v in vtypes], dtype=bool),
-                   np.array([t for _f, t in rows], dtype=bool).reshape(m, 12))
+_RANGES: dict[int, tuple[Section, tuple[tuple[int, int, int, int], ...]]] = {}
 
 
-def _ranges(section: Section) -> tuple[np.ndarray, ...]:
-    parts = section.parts
-    return tuple(np.array([getattr(p.instrument, attr)[k] for p in parts], dtype=np.int64)
-                 for attr in ("practical", "extreme") for k in (0, 1))
+def _ranges(section: Section) -> tuple[tuple[int, int, int, int], ...]:
+    """Each part's practical and extreme range (kept by the section's identity: a section
+    is hashed through all its parts, and the search asks for every candidate)."""
+    hit = _RANGES.get(id(section))
+    if hit is None or hit[0] is not section:
+        hit = (section, tuple((*p.instrument.practical, *p.instrument.extreme) for p in section.parts))
+        _RANGES[id(section)] = hit
+    return hit[1]
 
 
-def masks(pitches: np.ndarray, ctx: Context, section: Section) -> dict[str, np.ndarray]:
-    """For each rule, an ``(m, n)`` bool array marking the offending voices."""
-    P = np.asarray(pitches, dtype=np.int64)
-    m, n = P.shape
-    plo, phi, xlo, xhi = _ranges(section)
-    out: dict[str, np.ndarray] = {}
-    outside_x = (P < xlo) | (P > xhi)
-    out["range"] = ((P < plo) | (P > phi)) & ~outside_x
-    out["extreme"] = outside_x
-    zeros = np.zeros((m, 1), dtype=bool)
-    # adjacent pairs: d[:, i] = voice i minus voice i+1
-    d = P[:, :-1] - P[:, 1:]
-    limits = low_interval_limits()
-    lim = limits[np.clip(d, 0, 24)]
-    low = (d > 0) & (d <= 24) & (lim >= 0) & (P[:, 1:] < lim)
-    out["low-interval"] = np.concatenate([zeros, low], axis=1)
-    out["voice-crossing"] = np.concatenate([zeros, d < 0], axis=1)
-    # every pair (i above j): minor ninths and compounds (i at least 13 semitones over j,
-    # its pitch class one over j's), but the b9 over a dominant's root (j the root)
-    dd = P[:, :, None] - P[:, None, :]
-    pc = P % 12
-    upper = np.triu(np.ones((n, n), dtype=bool), k=1)[None]
-    b9_ok = ctx.dominant[:, None, None] & (pc == ctx.root[:, None])[:, None, :]
-    m9 = upper & (dd >= 13) & (pc[:, :, None] == ((pc + 1) % 12)[:, None, :]) & ~b9_ok
-    out["minor-ninth"] = m9.any(axis=1)
-    # the pitch class's occurrence from the top down: voice j is its k-th (j and those above)
-    same = pc[:, :, None] == pc[:, None, :]
-    occurrence = (same & np.tril(np.ones((n, n), dtype=bool))[None]).sum(axis=2)
-    flagged = np.take_along_axis(ctx.flagged, pc, axis=1)
-    out["doubling"] = (occurrence >= 2) & flagged & (pc != pc[:, :1]) & ~ctx.unison[:, None]
-    upper_pairs = np.arange(n - 1) < (n - 1 if n <= 4 else n - 2)
-    gap = (d > 12) & upper_pairs[None, :] & ctx.closed[:, None]
-    out["gap"] = np.concatenate([zeros, gap], axis=1)
-    low = pc[:, -1]
-    rows = np.arange(m)
-    b9 = (low - ctx.root) % 12 == 1
-    avoid = ~ctx.tones[rows, low] & ctx.tones[rows, (low - 1) % 12]
-    bottom = np.zeros((m, n), dtype=bool)
-    bottom[:, -1] = (b9 | avoid) & ~ctx.unison & (n >= 3)
-    out["bottom"] = bottom
+def masks(voices: Sequence[Pitch], ctx: Context, section: Section) -> dict[str, list[Mark]]:
+    """For each rule, one mark per voice (top to bottom): does this voice offend?  ``voices``:
+    one voicing's pitches (ints), or one integer column per voice holding many voicings of
+    the chord of ``ctx`` (the marks are then bool columns, or ``False`` for every row)."""
+    n = len(voices)
+    out: dict[str, list[Mark]] = {k: [False] * n for k in KINDS}
+    rng, ext, low, cross, m9, dbl, gap = (out[k] for k in ("range", "extreme", "low-interval",
+                                                               "voice-crossing", "minor-ninth",
+                                                               "doubling", "gap"))
+    pcs = [p % 12 for p in voices]
+    # the gap rule: adjacent upper voices (the bottom voice of five or more is free)
+    gap_pairs = (n - 1 if n <= 4 else n - 2) if ctx.closed else 0
+    for j, ((plo, phi, xlo, xhi), p) in enumerate(zip(_ranges(section), voices, strict=True)):
+        inside = (p >= xlo) & (p <= xhi)
+        rng[j] = ((p < plo) | (p > phi)) & inside
+        ext[j] = (p < xlo) | (p > xhi)
+        if not j:
+            continue
+        above = voices[j - 1]
+        d = above - p
+        low[j] = below_limit(above, p)
+        cross[j] = d < 0
+        if j <= gap_pairs:
+            gap[j] = d > 12
+        for i in range(j):
+            m9[j] = m9[j] | minor_ninth(voices[i], p, ctx)
+        if not ctx.unison:
+            pc = pcs[j]
+            again = False
+            for i in range(j):
+                again = again | (pcs[i] == pc)
+            dbl[j] = again & _has(ctx.flagged, pc) & (pc != pcs[0])
+    if n >= 3 and not ctx.unison:
+        pc = pcs[-1]
+        b9 = (pc - ctx.root) % 12 == 1
+        avoid = _lacks(ctx.tones, pc) & _has(ctx.tones, (pc - 1) % 12)
+        out["bottom"][-1] = b9 | avoid
     return out
 
 
-def penalties(marks: dict[str, np.ndarray], weights: dict[str, float]) -> np.ndarray:
-    """Weighted count of offending voices per voicing, ``(m,)``."""
-    total = np.zeros(next(iter(marks.values())).shape[0])
+def penalties(marks: dict[str, list[Mark]], weights: dict[str, float]) -> Any:
+    """Weighted count of offending voices (a float, or a float column), each rule's count
+    weighed and added in the order of ``KINDS``."""
+    total: Any = 0.0
     for kind in KINDS:
-        total += weights[kind] * marks[kind].sum(axis=1)
+        total = total + weights[kind] * sum(marks[kind])
     return total
 
 
-def findings(pitches: np.ndarray, ctx: Context, section: Section, *, bars: Sequence[int],
-             allow_extreme: bool, vtypes: Sequence[str]) -> list[tuple[str, int, str, str, str]]:
-    """``(kind, event, part, message, severity)`` for every mark of the chosen voicings."""
-    P = np.asarray(pitches, dtype=np.int64)
-    marks = masks(P, ctx, section)
+def findings(rows: Sequence[Sequence[int]], contexts: Sequence[Context], section: Section, *,
+             bars: Sequence[int], allow_extreme: bool, vtypes: Sequence[str]
+             ) -> list[tuple[str, int, str, str, str]]:
+    """``(kind, event, part, message, severity)`` for every mark of the chosen voicings
+    (``rows``, one per event, with its rule context)."""
     parts = section.parts
     limits = low_interval_limits()
     out: list[tuple[str, int, str, str, str]] = []
-    rows, cols = np.nonzero(np.stack([marks[k] for k in KINDS], axis=0).any(axis=0))
-    for i, j in zip(rows.tolist(), cols.tolist(), strict=True):
-        p = int(P[i, j])
-        part = parts[j]
-        at = f"bar {bars[i]}: "
-        above = parts[j - 1].name if j else ""
-        q = int(P[i, j - 1]) if j else p
-        inst = part.instrument
-        for kind in KINDS:
-            if not marks[kind][i, j]:
+    for i, (row, ctx) in enumerate(zip(rows, contexts, strict=True)):
+        row = [int(p) for p in row]
+        marks = masks(row, ctx, section)
+        for j, p in enumerate(row):
+            kinds = [kind for kind in KINDS if marks[kind][j]]
+            if not kinds:
                 continue
-            severity = "warning"
-            if kind == "range":
-                lo, hi = inst.practical
-                msg = f"{pitch_name(p)} lies outside the practical range {pitch_name(lo)}-{pitch_name(hi)}"
-            elif kind == "extreme":
-                lo, hi = inst.extreme
-                msg = (f"{pitch_name(p)} lies outside the extreme range {pitch_name(lo)}-{pitch_name(hi)}"
-                       + ("" if allow_extreme else " (allow_extreme = true keeps it on purpose)"))
-                severity = "warning" if allow_extreme else "error"
-            elif kind == "low-interval":
-                gap = q - p
-                msg = (f"{INTERVAL_NAMES[gap] if gap < len(INTERVAL_NAMES) else f'{gap} semitones'} "
-                       f"{pitch_name(q)} over {pitch_name(p)} ({above} over {part.name}) lies below "
-                       f"its low-interval limit {pitch_name(int(limits[gap]))}")
-            elif kind == "voice-crossing":
-                msg = f"{part.name} ({pitch_name(p)}) sounds above {above} ({pitch_name(q)})"
-            elif kind == "minor-ninth":
-                msg = (f"{pitch_name(p)} in {part.name} lies a minor ninth (or compound) below another "
-                       "voice; only the b9 over a dominant's root is kept")
-            elif kind == "doubling":
-                msg = f"{part.name} doubles {pitch_name(p)[:-1]}, the third or a tension, already voiced above"
-            elif kind == "bottom":
-                what = "the b9" if (p - int(ctx.root[i])) % 12 == 1 else "an avoid note"
-                msg = (f"{part.name} plays {pitch_name(p)}, {what} of the chord, as the section's "
-                       "lowest voice")
-            else:
-                msg = (f"{q - p} semitones between {above} ({pitch_name(q)}) and {part.name} "
-                       f"({pitch_name(p)}) in a {vtypes[i]} voicing; at most an octave")
-            out.append((kind, i, part.name, at + msg, severity))
+            part = parts[j]
+            at = f"bar {bars[i]}: "
+            above = parts[j - 1].name if j else ""
+            q = row[j - 1] if j else p
+            inst = part.instrument
+            for kind in kinds:
+                severity = "warning"
+                if kind == "range":
+                    lo, hi = inst.practical
+                    msg = f"{pitch_name(p)} lies outside the practical range {pitch_name(lo)}-{pitch_name(hi)}"
+                elif kind == "extreme":
+                    lo, hi = inst.extreme
+                    msg = (f"{pitch_name(p)} lies outside the extreme range {pitch_name(lo)}-{pitch_name(hi)}"
+                           + ("" if allow_extreme else " (allow_extreme = true keeps it on purpose)"))
+                    severity = "warning" if allow_extreme else "error"
+                elif kind == "low-interval":
+                    gap = q - p
+                    msg = (f"{INTERVAL_NAMES[gap] if gap < len(INTERVAL_NAMES) else f'{gap} semitones'} "
+                           f"{pitch_name(q)} over {pitch_name(p)} ({above} over {part.name}) lies below "
+                           f"its low-interval limit {pitch_name(limits[gap])}")
+                elif kind == "voice-crossing":
+                    msg = f"{part.name} ({pitch_name(p)}) sounds above {above} ({pitch_name(q)})"
+                elif kind == "minor-ninth":
+                    msg = (f"{pitch_name(p)} in {part.name} lies a minor ninth (or compound) below another "
+                           "voice; only the b9 over a dominant's root is kept")
+                elif kind == "doubling":
+                    msg = f"{part.name} doubles {pitch_name(p)[:-1]}, the third or a tension, already voiced above"
+                elif kind == "bottom":
+                    what = "the b9" if (p - ctx.root) % 12 == 1 else "an avoid note"
+                    msg = (f"{part.name} plays {pitch_name(p)}, {what} of the chord, as the section's "
+                           "lowest voice")
+                else:
+                    msg = (f"{q - p} semitones between {above} ({pitch_name(q)}) and {part.name} "
+                           f"({pitch_name(p)}) in a {vtypes[i]} voicing; at most an octave")
+                out.append((kind, i, part.name, at + msg, severity))
     return out

@@ -75,6 +75,9 @@ def recipes() -> Recipes:
     except (KeyError, TypeError, ValueError) as err:
         raise VoicingError(f"the recipe table is broken ({err!r})", where=where,
                            accepted="tables forms, substitutions, doubling, search, weights, auto") from None
+    for k, v in rec.weights:
+        if not v >= 0:      # a cost below zero would reward what it weighs (and the search relies on it)
+            raise VoicingError(f"weight {k} = {v}", where=f"{where} [weights]", accepted="costs of 0 or more")
     for q, iv in rec.forms:
         if len(set(iv)) != 4:
             raise VoicingError(f"form {q!r} = {list(iv)}", where=f"{where} [forms]",

@@ -14,8 +14,6 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
-import numpy as np
-
 from arrange.harmony.events import Harmonized
 from arrange.theory.chords import Chord
 from arrange.theory.pitch import pitch_name
@@ -29,18 +27,14 @@ __all__ = ["voice_tutti", "place", "stack_below", "root_below", "ensemble_findin
 
 
 def _limit_ok(upper: int, lower: int) -> bool:
-    d = upper - lower
-    lim = rules.low_interval_limits()
-    return d <= 0 or d > 24 or lim[d] < 0 or lower >= lim[d]
+    """The low-interval rule (``rules.below_limit``) keeps ``lower`` under ``upper``."""
+    return not rules.below_limit(upper, lower)
 
 
 def _m9_free(p: int, placed: Sequence[int], chord: Chord) -> bool:
-    for q in placed:
-        hi, lo = max(p, q), min(p, q)
-        if hi - lo >= 13 and (hi - lo) % 12 == 1:
-            if not (chord.is_dominant and lo % 12 == chord.root and hi % 12 == (chord.root + 1) % 12):
-                return False
-    return True
+    """``p`` makes no minor ninth (``rules.minor_ninth``) with any of ``placed``."""
+    ctx = rules.context(chord, "unison")
+    return not any(rules.minor_ninth(max(p, q), min(p, q), ctx) for q in placed)
 
 
 def _fits(p: int, placed: Sequence[int], chord: Chord) -> bool:
@@ -148,14 +142,14 @@ def _layout_row(lead: Sequence[int], chord: Chord, section: Section, layout: Lay
     return row
 
 
-def ensemble_findings(rows: np.ndarray, chords: Sequence[Chord], section: Section,
+def ensemble_findings(rows: Sequence[Sequence[int]], chords: Sequence[Chord], section: Section,
                       bars: Sequence[int], guide_parts: int) -> list[Finding]:
     """Low-interval limits between neighbouring pitches of the whole ensemble, minor
     ninths between any two, and guide tones sounding in at least ``guide_parts`` parts."""
     names = [p.name for p in section.parts]
     limits = rules.low_interval_limits()
     out: list[Finding] = []
-    for i, row in enumerate(rows.tolist()):
+    for i, row in enumerate(rows):
         chord = chords[i]
         order = sorted(range(len(row)), key=lambda j: -row[j])
         distinct: list[int] = []
@@ -169,7 +163,7 @@ def ensemble_findings(rows: np.ndarray, chords: Sequence[Chord], section: Sectio
                 out.append(Finding("low-interval", i, names[b], at + (
                     f"{rules.INTERVAL_NAMES[gap]} {pitch_name(row[a])} ({names[a]}) over "
                     f"{pitch_name(row[b])} ({names[b]}) across the ensemble lies below its "
-                    f"low-interval limit {pitch_name(int(limits[gap]))}")))
+                    f"low-interval limit {pitch_name(limits[gap])}")))
         for a_pos, a in enumerate(distinct):
             for b in distinct[a_pos + 1:]:
                 if not _m9_free(row[b], [row[a]], chord):
@@ -195,17 +189,15 @@ def voice_tutti(harmonized: Harmonized, section: Section, options: VoicingOption
     if not lead.events:
         return Voiced(harmonized, section, (), lead.findings)
     reach = tutti_rules().root_reach
-    rows = np.array([_layout_row(ve.pitches, ve.event.chord, section, layout, reach)
-                     for ve in lead.events],
-                    dtype=np.int64)
+    rows = [_layout_row(ve.pitches, ve.event.chord, section, layout, reach) for ve in lead.events]
     chords = [ve.event.chord for ve in lead.events]
     bar_len = harmonized.line.meter.bar
     bars = [int(ve.event.note.onset // bar_len) + 1 for ve in lead.events]
     found: list[Finding] = list(lead.findings)
     for gname, g0, g1 in section.groups[1:]:
         group = Section(gname, "", section.parts[g0:g1])
-        ctx = rules.context(chords, ["unison"] * len(chords))    # doublings are the layout's own
-        for kind, i, part, msg, severity in rules.findings(rows[:, g0:g1], ctx, group, bars=bars,
+        ctx = [rules.context(c, "unison") for c in chords]    # doublings are the layout's own
+        for kind, i, part, msg, severity in rules.findings([r[g0:g1] for r in rows], ctx, group, bars=bars,
                                                            allow_extreme=options.allow_extreme,
                                                            vtypes=["unison"] * len(chords)):
             if kind in ("range", "extreme", "voice-crossing"):

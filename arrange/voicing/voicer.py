@@ -5,18 +5,20 @@
    ``by_statement`` and then ``by_bar``.
 2. For each note, :func:`arrange.shapes.shapes` builds the candidate voicings
    (the lead on top, exactly as placed); :mod:`arrange.rules` scores every
-   candidate with the weighted rule penalties (numpy, all candidates at once).
+   candidate with the weighted rule penalties (plain Python: a build without
+   layers or a designed chain never imports numpy).
 3. :func:`solve` picks one candidate per note by dynamic programming over the
-   whole line, minimising lower-voice motion plus penalties; the cost of one
-   step is an ``(a, b)`` numpy array, so the work is linear in the notes.
+   whole line, minimising lower-voice motion plus penalties; each step prices
+   only the predecessors that can still win, so the work is linear in the notes.
 4. The chosen voicings' rule marks become the findings of the report.
 """
 from __future__ import annotations
 
+import math
+from collections.abc import Sequence
 from dataclasses import dataclass, replace
 from fractions import Fraction
-
-import numpy as np
+from operator import sub
 
 from arrange.checked import whole
 from arrange.errors import VoicingError
@@ -173,12 +175,17 @@ FALLBACK = {"close": ("drop2", "drop3", "drop2-4", "spread"), "drop2": ("drop3",
             "spread": ("drop2-4", "drop2", "drop3", "close"), "unison": ()}
 
 
+Rows = tuple[tuple[int, ...], ...]     # candidate voicings, one tuple of pitches each
+Costs = tuple[float, ...]
+
+
 def candidates(ev: Event, vtype: str, section: Section, weights: dict[str, float],
-               cache: dict[tuple[object, ...], tuple[np.ndarray, np.ndarray]],
-               options: VoicingOptions = VoicingOptions()) -> tuple[np.ndarray, np.ndarray]:
-    """Candidate voicings ``(k, n)`` of one note (its lead as placed) and their costs
-    ``(k,)``, best kept.  Unless ``allow_extreme``, the extreme
-    ranges are a wall: a voicing with a note beyond one is no candidate (``k`` may be 0)."""
+               cache: dict[tuple[object, ...], tuple[Rows, Costs]],
+               options: VoicingOptions = VoicingOptions()) -> tuple[Rows, Costs]:
+    """Candidate voicings (``k`` rows of ``n`` pitches) of one note (its lead as placed) and
+    their costs, best kept (a stable sort: equal costs keep the shapes' order).  Unless
+    ``allow_extreme``, the extreme ranges are a wall: a voicing with a note beyond one is no
+    candidate (``k`` may be 0)."""
     pitch = ev.note.pitch
     key = (pitch, ev.chord, vtype, options.guide_options, options.allow_extreme)
     hit = cache.get(key)
@@ -186,17 +193,18 @@ def candidates(ev: Event, vtype: str, section: Section, weights: dict[str, float
         return hit
     n = len(section.parts)
     floor = min(p.instrument.extreme[0] for p in section.parts)
-    found = shapes(pitch, ev.chord, vtype, n, floor, options.guide_options)
-    P = np.array([s for s, _c in found], dtype=np.int64).reshape(-1, n)
-    base = np.array([c for _s, c in found], dtype=float)
-    ctx = rules.context([ev.chord] * len(P), [vtype] * len(P))
-    marks = rules.masks(P, ctx, section)
-    cost = base + rules.penalties(marks, weights)
-    if not options.allow_extreme:
-        inside = ~marks["extreme"].any(axis=1)
-        P, cost = P[inside], cost[inside]
-    keep = np.argsort(cost, kind="stable")[:recipes().max_candidates]
-    cache[key] = (P[keep], cost[keep])
+    ctx = rules.context(ev.chord, vtype)
+    rows: list[tuple[int, ...]] = []
+    cost: list[float] = []
+    for shape, base in shapes(pitch, ev.chord, vtype, n, floor, options.guide_options):
+        row = tuple(shape)
+        marks = rules.masks(row, ctx, section)
+        if not options.allow_extreme and any(marks["extreme"]):
+            continue
+        rows.append(row)
+        cost.append(float(base) + rules.penalties(marks, weights))
+    keep = sorted(range(len(rows)), key=cost.__getitem__)[:recipes().max_candidates]
+    cache[key] = (tuple(rows[k] for k in keep), tuple(cost[k] for k in keep))
     return cache[key]
 
 
@@ -204,13 +212,12 @@ def _unplaceable(ev: Event, vtype: str, section: Section, bar: int) -> VoicingEr
     """The error for a note no voicing fits: the best voicing's first note beyond a wall."""
     n = len(section.parts)
     floor = min(p.instrument.extreme[0] for p in section.parts)
-    found = shapes(ev.note.pitch, ev.chord, vtype, n, floor)
-    P = np.array([s for s, _c in found], dtype=np.int64)
-    ctx = rules.context([ev.chord] * len(P), [vtype] * len(P))
-    ext = rules.masks(P, ctx, section)["extreme"]
-    best = int(ext.sum(axis=1).argmin())
-    j = int(np.flatnonzero(ext[best])[0])
-    part, p = section.parts[j], int(P[best, j])
+    found = [tuple(s) for s, _c in shapes(ev.note.pitch, ev.chord, vtype, n, floor)]
+    ctx = rules.context(ev.chord, vtype)
+    ext = [rules.masks(row, ctx, section)["extreme"] for row in found]
+    best = min(range(len(found)), key=lambda k: sum(ext[k]))      # the first of the fewest
+    j = ext[best].index(True)
+    part, p = section.parts[j], found[best][j]
     lo, hi = part.instrument.extreme
     side = "below" if p < lo else "above"
     return VoicingError(
@@ -222,34 +229,62 @@ def _unplaceable(ev: Event, vtype: str, section: Section, bar: int) -> VoicingEr
                  "or allow_extreme = true")
 
 
-def solve(cands: list[np.ndarray], costs: list[np.ndarray], motion: float) -> tuple[list[int], float]:
+def solve(cands: Sequence[Sequence[Sequence[int]]], costs: Sequence[Sequence[float]],
+          motion: float) -> tuple[list[int], float]:
     """Dynamic programme: one candidate per note minimising costs plus motion of
-    the lower voices (every voice but the lead), summed in semitones."""
-    total = costs[0].astype(float)
-    back: list[np.ndarray] = []
-    steps: dict[tuple[int, int], np.ndarray] = {}
+    the lower voices (every voice but the lead), summed in semitones.
+
+    A candidate's best predecessor has the least running total plus ``motion`` times the
+    semitones its lower voices move.  Motion never costs less than nothing (``motion >= 0``),
+    so the predecessors are tried in order of their totals and the scan stops at the first
+    whose total alone exceeds the best price found; one whose total plus the motion its
+    voices' sum must make (no less than the difference of the sums) exceeds it is passed
+    over unpriced.
+    Ties go to the lowest index, as numpy's ``argmin`` over the predecessors would: the
+    same path and the same float sums as pricing every pair (``tests/test_voicing.py``)."""
+    if motion < 0:
+        raise ValueError(f"a motion weight below zero ({motion}) rewards motion")
+    total = [float(c) for c in costs[0]]
+    back: list[list[int]] = []
     for i in range(1, len(cands)):
-        a, b = cands[i - 1], cands[i]
-        key = (id(a), id(b))
-        step = steps.get(key)
-        if step is None:
-            step = motion * np.abs(a[:, None, 1:] - b[None, :, 1:]).sum(axis=2)
-            if len(steps) < 2048:      # repeated steps (same notes, same chords) cost nothing
-                steps[key] = step
-        whole = total[:, None] + step
-        arg = whole.argmin(axis=0)
+        order = sorted(range(len(total)), key=total.__getitem__)     # stable: ties by index
+        ranked = [total[a] for a in order]
+        prev = cands[i - 1]
+        lows = [prev[a][1:] for a in order]
+        sums = [sum(low) for low in lows]
+        arg: list[int] = []
+        new: list[float] = []
+        for row, own in zip(cands[i], costs[i], strict=True):
+            low = row[1:]
+            own_sum = sum(low)
+            best, at = math.inf, -1
+            q = -1
+            for t, other, other_sum in zip(ranked, lows, sums):   # noqa: B905 (equal lengths)
+                q += 1
+                if t > best:
+                    break
+                if t + motion * abs(other_sum - own_sum) > best:
+                    continue
+                v = t + motion * sum(map(abs, map(sub, other, low)))
+                if v < best:
+                    best, at = v, order[q]
+                elif v == best and (at < 0 or order[q] < at):
+                    at = order[q]
+            arg.append(max(at, 0))
+            new.append(best + float(own))
         back.append(arg)
-        total = whole[arg, np.arange(len(b))] + costs[i]
-    j = int(total.argmin())
-    best = float(total[j])
+        total = new
+    j = min(range(len(total)), key=total.__getitem__)
+    best = total[j]
     path = [j]
     for arg in reversed(back):
-        j = int(arg[j])
+        j = arg[j]
         path.append(j)
     return path[::-1], best
 
 
-def path_cost(cands: list[np.ndarray], costs: list[np.ndarray], path: list[int], motion: float) -> float:
+def path_cost(cands: Sequence[Sequence[Sequence[int]]], costs: Sequence[Sequence[float]], path: list[int],
+              motion: float) -> float:
     """The cost :func:`solve` minimises, for one given choice (plain Python)."""
     total = float(costs[0][path[0]])
     for i in range(1, len(path)):
@@ -277,8 +312,8 @@ def _check_lead(harmonized: Harmonized, section: Section, options: VoicingOption
 
 
 def _choose(ev: Event, vtype: str, section: Section, weights: dict[str, float],
-            cache: dict[tuple[object, ...], tuple[np.ndarray, np.ndarray]], options: VoicingOptions,
-            bar: int) -> tuple[str, np.ndarray, np.ndarray, list[Finding]]:
+            cache: dict[tuple[object, ...], tuple[Rows, Costs]], options: VoicingOptions,
+            bar: int) -> tuple[str, Rows, Costs, list[Finding]]:
     """The candidates of one note: of its planned type; where none fits inside the extreme
     ranges, of the other types.  Raises when nothing fits (the lead stays as written; a
     chain placed by the build tries its other octaves, ``build.run_pipeline``)."""
@@ -296,7 +331,7 @@ def _choose(ev: Event, vtype: str, section: Section, weights: dict[str, float],
     raise _unplaceable(ev, vtype, section, bar)
 
 
-def _clash_and_guides(events: tuple[Event, ...], chosen: np.ndarray, types: tuple[str, ...] | list[str],
+def _clash_and_guides(events: tuple[Event, ...], chosen: Sequence[tuple[int, ...]], types: tuple[str, ...] | list[str],
                       section: Section, bars: list[int], options: VoicingOptions) -> list[Finding]:
     """A kept chord under a lead outside it and its tensions (a clash, named), and, with
     four or more parts, a voicing missing a guide tone the options do not excuse."""
@@ -304,14 +339,14 @@ def _clash_and_guides(events: tuple[Event, ...], chosen: np.ndarray, types: tupl
     n = len(section.parts)
     for i, (ev, vtype) in enumerate(zip(events, types, strict=True)):
         ch = ev.chord
-        lead_pc = int(chosen[i, 0]) % 12
+        lead_pc = chosen[i][0] % 12
         iv = (lead_pc - ch.root) % 12
         if lead_pc not in ch.pitch_classes and iv not in {t % 12 for t in ch.tensions}:
             out.append(Finding("clash", i, section.lead.name, (
-                f"bar {bars[i]}: the lead {pitch_name(int(chosen[i, 0]))} is neither a tone nor a "
+                f"bar {bars[i]}: the lead {pitch_name(chosen[i][0])} is neither a tone nor a "
                 f"tension of {ch.symbol}; the chord is kept and voiced with its own tones under it")))
         if n >= 4 and vtype != "unison" and not options.guide_options:
-            pcs = {int(p) % 12 for p in chosen[i]}
+            pcs = {p % 12 for p in chosen[i]}
             named = sounding_chord(ch, pcs)       # the symbol the score prints over it
             missing = [g for g in guide_tones(named) if g not in pcs]
             if missing:
@@ -333,7 +368,7 @@ def voice(harmonized: Harmonized, section: Section, options: VoicingOptions) -> 
                                accepted=f"statements 1..{max(statements)} of this chain")
     types = list(plan(harmonized, options))
     weights = {k: recipes().weight(k) for k in ("motion",) + rules.KINDS}
-    cache: dict[tuple[object, ...], tuple[np.ndarray, np.ndarray]] = {}
+    cache: dict[tuple[object, ...], tuple[Rows, Costs]] = {}
     bar_len = harmonized.line.meter.bar
     bars = [_bar(ev, bar_len) for ev in events]
     cands, costs = [], []
@@ -345,9 +380,9 @@ def voice(harmonized: Harmonized, section: Section, options: VoicingOptions) -> 
         cands.append(P)
         costs.append(c)
     path, _ = solve(cands, costs, weights["motion"])
-    chosen = np.stack([cands[i][j] for i, j in enumerate(path)])
-    ctx = rules.context([ev.chord for ev in events], types)
-    found = rules.findings(chosen, ctx, section, bars=bars, allow_extreme=options.allow_extreme,
+    chosen = [cands[i][j] for i, j in enumerate(path)]
+    found = rules.findings(chosen, [rules.context(ev.chord, t) for ev, t in zip(events, types, strict=True)],
+                           section, bars=bars, allow_extreme=options.allow_extreme,
                            vtypes=types)
     extra = _clash_and_guides(events, chosen, types, section, bars, options)
     voiced = tuple(VoicedEvent(ev, vtype, tuple(int(p) for p in row))

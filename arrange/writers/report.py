@@ -5,14 +5,16 @@ import json
 import re
 from fractions import Fraction
 from collections.abc import Sequence
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from arrange.theory.pitch import pitch_name
-from arrange.voicing.layers import VoicedLayer
 from arrange.voicing.shapes import doublings
 from arrange.voicing.voicer import Voiced
 from arrange.writers.common import bar_of_event, json_number, spelled_parts
 from arrange.writers.report_rhythm import rhythm_section_markdown
+
+if TYPE_CHECKING:      # the layer stage (and its numpy) only for a project that has layers
+    from arrange.voicing.layers import VoicedLayer
 
 __all__ = ["json_number", "bar_of_event", "fold_index", "report_data", "report_json", "report_markdown", "md_text"]
 
