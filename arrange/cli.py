@@ -263,7 +263,7 @@ def _dispatch(args: list[str]) -> None:
         where = f"arrange {name}"
         if name is None or args.index(extra[0]) < args.index(name):
             where = "arrange"
-        what = (f"no such option: {extra[0]}" if extra[0].startswith("-")
+        what = (f"no such option: {extra[0]!r}" if extra[0].startswith("-")
                 else f"unexpected argument {extra[0]!r}")
         raise UsageError(where, what + _close_match(extra[0], name if where != "arrange" else None))
     _State.debug = ns.debug
