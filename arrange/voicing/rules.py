@@ -146,6 +146,8 @@ def _ranges(section: Section) -> tuple[tuple[int, int, int, int], ...]:
     is hashed through all its parts, and the search asks for every candidate)."""
     hit = _RANGES.get(id(section))
     if hit is None or hit[0] is not section:
+        if len(_RANGES) >= 64:      # sections made on the fly (tutti's groups) come and go
+            _RANGES.clear()
         hit = (section, tuple((*p.instrument.practical, *p.instrument.extreme) for p in section.parts))
         _RANGES[id(section)] = hit
     return hit[1]
