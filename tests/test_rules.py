@@ -74,6 +74,10 @@ def _project(folder: Path, old: str, new: str, name: str = "p.toml") -> Path:
     ('voicing = "close"', 'by_statement = { 9 = "spread" }', ["statement 9", "1..4"]),
     ('voicing = "close"', 'by_bar = { "5-2" = "spread" }', ["'5-2'", "9-12"]),
     ('statements = 4', 'statements = 4\nlead_range = ["C6", "C7"]', ["cannot play", "lead_range", "Trombone 1"]),
+    # a lead the trombones can play, but no voicing under it keeps Trombone 3 above its
+    # extreme low E2 (instruments.toml; from memory: the tenor trombone's low E)
+    ('statements = 4', 'statements = 4\nlead_range = ["E2", "E3"]',
+     ["Trombone 3 cannot play D2", "below its extreme range", "of any type", "allow_extreme"]),
 ])
 def test_bad_voicing_input_exits_2(tmp_path: Path, old: str, new: str, needles: list[str]) -> None:
     out = tmp_path / "out"
