@@ -219,8 +219,11 @@ def test_dp_takes_numpys_path_ties_included() -> None:
             pick = rng.integers(0, 4, len(found)).astype(float) if trial % 2 else rng.uniform(0, 9, len(found))
             costs.append(pick)
         motion = (1.0, 0.5, 0.0, 2.25)[trial % 4]
-        want = _dp_by_numpy(cands, costs, motion)
         rows = [[tuple(int(p) for p in r) for r in c] for c in cands]
+        # the line played three times over (the same candidate lists: the steps repeat, and
+        # the search keeps a repeated step's motion costs)
+        cands, costs, rows = cands * 3, costs * 3, rows * 3
+        want = _dp_by_numpy(cands, costs, motion)
         assert solve(rows, [c.tolist() for c in costs], motion) == want
 
 

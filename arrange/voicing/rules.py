@@ -62,22 +62,21 @@ def low_interval_limits() -> tuple[int, ...]:
     return low_interval_table()
 
 
-_BY_GAP: list[tuple[int, ...]] = []
+_BY_GAP: list[int] = []      # the limit of every gap 0..25 (0 and 25: every gap outside 1..24)
 
 
-def _limits_by_gap() -> tuple[int, ...]:
-    """The limit of every gap 0..25 (0 and 25 stand for every gap outside 1..24: none)."""
+def _limits_by_gap() -> list[int]:
     if not _BY_GAP:
         table = low_interval_limits()
-        _BY_GAP.append(tuple(table[d] if 1 <= d <= 24 and table[d] >= 0 else _NO_LIMIT for d in range(26)))
-    return _BY_GAP[0]
+        _BY_GAP.extend(table[d] if 1 <= d <= 24 and table[d] >= 0 else _NO_LIMIT for d in range(26))
+    return _BY_GAP
 
 
 def low_limit(gap: Pitch) -> Pitch:
     """The lowest allowed lower note of two voices ``gap`` semitones apart (upper minus
     lower), or a value under every pitch where the interval has no limit (a unison, a
     crossing, more than two octaves)."""
-    table = _BY_GAP[0] if _BY_GAP else _limits_by_gap()
+    table = _BY_GAP or _limits_by_gap()
     if isinstance(gap, int):
         return table[gap] if 1 <= gap <= 24 else _NO_LIMIT
     import numpy as np   # a column: its caller has numpy loaded already
@@ -87,15 +86,20 @@ def low_limit(gap: Pitch) -> Pitch:
 
 def below_limit(upper: Pitch, lower: Pitch) -> Mark:
     """The low-interval rule: ``lower`` under ``upper`` lies below the limit of their
-    interval (``voicing_rules/limits.toml``)."""
-    return lower < low_limit(upper - lower)
+    interval (``voicing_rules/limits.toml``, read by :func:`low_limit`)."""
+    gap = upper - lower
+    if isinstance(gap, int):        # one voicing: the table read here, the search asks often
+        return 1 <= gap <= 24 and lower < (_BY_GAP or _limits_by_gap())[gap]
+    return lower < low_limit(gap)
 
 
-def minor_ninth(upper: Pitch, lower: Pitch, ctx: Context) -> Mark:
-    """The minor-ninth rule: ``upper`` lies a minor ninth or a compound of it above
-    ``lower``, other than the b9 over a dominant's root."""
-    d = upper - lower
-    hit = (d >= 13) & (d % 12 == 1)
+def minor_ninth(uppers: Sequence[Pitch], lower: Pitch, ctx: Context) -> Mark:
+    """The minor-ninth rule: ``lower`` lies a minor ninth or a compound of it below one of
+    ``uppers``, other than the b9 over a dominant's root."""
+    hit: Mark = False
+    for upper in uppers:
+        d = upper - lower
+        hit = hit | ((d >= 13) & (d % 12 == 1))
     if ctx.dominant:
         hit = hit & (lower % 12 != ctx.root)
     return hit
@@ -152,39 +156,44 @@ def masks(voices: Sequence[Pitch], ctx: Context, section: Section) -> dict[str, 
     one voicing's pitches (ints), or one integer column per voice holding many voicings of
     the chord of ``ctx`` (the marks are then bool columns, or ``False`` for every row)."""
     n = len(voices)
-    out: dict[str, list[Mark]] = {k: [False] * n for k in KINDS}
-    rng, ext, low, cross, m9, dbl, gap = (out[k] for k in ("range", "extreme", "low-interval",
-                                                               "voice-crossing", "minor-ninth",
-                                                               "doubling", "gap"))
+    rng: list[Mark] = [False] * n
+    ext: list[Mark] = [False] * n
+    low: list[Mark] = [False] * n
+    cross: list[Mark] = [False] * n
+    m9: list[Mark] = [False] * n
+    dbl: list[Mark] = [False] * n
+    gap: list[Mark] = [False] * n
+    bottom: list[Mark] = [False] * n
     pcs = [p % 12 for p in voices]
+    flagged, unison = ctx.flagged, ctx.unison
     # the gap rule: adjacent upper voices (the bottom voice of five or more is free)
     gap_pairs = (n - 1 if n <= 4 else n - 2) if ctx.closed else 0
+    above: Pitch = None
     for j, ((plo, phi, xlo, xhi), p) in enumerate(zip(_ranges(section), voices, strict=True)):
-        inside = (p >= xlo) & (p <= xhi)
-        rng[j] = ((p < plo) | (p > phi)) & inside
+        rng[j] = ((p < plo) | (p > phi)) & (p >= xlo) & (p <= xhi)
         ext[j] = (p < xlo) | (p > xhi)
-        if not j:
-            continue
-        above = voices[j - 1]
-        d = above - p
-        low[j] = below_limit(above, p)
-        cross[j] = d < 0
-        if j <= gap_pairs:
-            gap[j] = d > 12
-        for i in range(j):
-            m9[j] = m9[j] | minor_ninth(voices[i], p, ctx)
-        if not ctx.unison:
-            pc = pcs[j]
-            again = False
-            for i in range(j):
-                again = again | (pcs[i] == pc)
-            dbl[j] = again & _has(ctx.flagged, pc) & (pc != pcs[0])
-    if n >= 3 and not ctx.unison:
+        if j:
+            d = above - p
+            low[j] = below_limit(above, p)
+            cross[j] = d < 0
+            if j <= gap_pairs:
+                gap[j] = d > 12
+            m9[j] = minor_ninth(voices[:j], p, ctx)
+            if not unison:
+                # the third or a tension (``flagged``) already sounding above, not the lead's
+                pc = pcs[j]
+                again: Mark = False
+                for other in pcs[:j]:
+                    again = again | (other == pc)
+                dbl[j] = again & ((flagged >> pc) & 1 == 1) & (pc != pcs[0])
+        above = p
+    if n >= 3 and not unison:
         pc = pcs[-1]
         b9 = (pc - ctx.root) % 12 == 1
         avoid = _lacks(ctx.tones, pc) & _has(ctx.tones, (pc - 1) % 12)
-        out["bottom"][-1] = b9 | avoid
-    return out
+        bottom[-1] = b9 | avoid
+    return {"range": rng, "extreme": ext, "low-interval": low, "voice-crossing": cross,
+            "minor-ninth": m9, "doubling": dbl, "gap": gap, "bottom": bottom}
 
 
 def penalties(marks: dict[str, list[Mark]], weights: dict[str, float]) -> Any:

@@ -34,7 +34,7 @@ def _limit_ok(upper: int, lower: int) -> bool:
 def _m9_free(p: int, placed: Sequence[int], chord: Chord) -> bool:
     """``p`` makes no minor ninth (``rules.minor_ninth``) with any of ``placed``."""
     ctx = rules.context(chord, "unison")
-    return not any(rules.minor_ninth(max(p, q), min(p, q), ctx) for q in placed)
+    return not any(rules.minor_ninth((max(p, q),), min(p, q), ctx) for q in placed)
 
 
 def _fits(p: int, placed: Sequence[int], chord: Chord) -> bool:

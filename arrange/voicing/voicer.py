@@ -18,7 +18,7 @@ import math
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
 from fractions import Fraction
-from operator import sub
+from operator import add, sub
 
 from arrange.checked import whole
 from arrange.errors import VoicingError
@@ -235,45 +235,36 @@ def solve(cands: Sequence[Sequence[Sequence[int]]], costs: Sequence[Sequence[flo
     the lower voices (every voice but the lead), summed in semitones.
 
     A candidate's best predecessor has the least running total plus ``motion`` times the
-    semitones its lower voices move.  Motion never costs less than nothing (``motion >= 0``),
-    so the predecessors are tried in order of their totals and the scan stops at the first
-    whose total alone exceeds the best price found; one whose total plus the motion its
-    voices' sum must make (no less than the difference of the sums) exceeds it is passed
-    over unpriced.
-    Ties go to the lowest index, as numpy's ``argmin`` over the predecessors would: the
-    same path and the same float sums as pricing every pair (``tests/test_voicing.py``)."""
+    semitones its lower voices move; ties go to the lowest index, as numpy's ``argmin``
+    over the predecessors would (the same path and the same float sums as pricing every
+    pair with numpy, ``tests/test_voicing.py``).  A step between two candidate lists met
+    for the first time prices only the pairs that can still win (:func:`_pruned_step`);
+    one met again (the same notes over the same chords: long lines repeat) keeps every
+    pair's motion cost and takes each minimum in one pass over the predecessors."""
     if motion < 0:
         raise ValueError(f"a motion weight below zero ({motion}) rewards motion")
     total = [float(c) for c in costs[0]]
     back: list[list[int]] = []
+    seen: set[tuple[int, int]] = set()
+    kept: dict[tuple[int, int], list[list[float]]] = {}
     for i in range(1, len(cands)):
-        order = sorted(range(len(total)), key=total.__getitem__)     # stable: ties by index
-        ranked = [total[a] for a in order]
-        prev = cands[i - 1]
-        lows = [prev[a][1:] for a in order]
-        sums = [sum(low) for low in lows]
-        arg: list[int] = []
-        new: list[float] = []
-        for row, own in zip(cands[i], costs[i], strict=True):
-            low = row[1:]
-            own_sum = sum(low)
-            best, at = math.inf, -1
-            q = -1
-            for t, other, other_sum in zip(ranked, lows, sums):   # noqa: B905 (equal lengths)
-                q += 1
-                if t > best:
-                    break
-                if t + motion * abs(other_sum - own_sum) > best:
-                    continue
-                v = t + motion * sum(map(abs, map(sub, other, low)))
-                if v < best:
-                    best, at = v, order[q]
-                elif v == best and (at < 0 or order[q] < at):
-                    at = order[q]
-            arg.append(max(at, 0))
-            new.append(best + float(own))
+        prev, cur = cands[i - 1], cands[i]
+        key = (id(prev), id(cur))
+        step = kept.get(key)
+        if step is None and key in seen and len(kept) < _KEPT_STEPS:
+            step = kept[key] = [[motion * sum(map(abs, map(sub, a[1:], b[1:]))) for a in prev] for b in cur]
+        seen.add(key)
+        if step is None:
+            arg, best_of = _pruned_step(prev, cur, total, motion)
+        else:
+            arg, best_of = [], []
+            for moves in step:
+                whole = list(map(add, total, moves))
+                least = min(whole)
+                arg.append(whole.index(least))      # the first of the least, as argmin
+                best_of.append(least)
+        total = [t + float(c) for t, c in zip(best_of, costs[i], strict=True)]
         back.append(arg)
-        total = new
     j = min(range(len(total)), key=total.__getitem__)
     best = total[j]
     path = [j]
@@ -281,6 +272,45 @@ def solve(cands: Sequence[Sequence[Sequence[int]]], costs: Sequence[Sequence[flo
         j = arg[j]
         path.append(j)
     return path[::-1], best
+
+
+# steps whose every pair's motion cost :func:`solve` keeps (at most 48 x 48 each)
+_KEPT_STEPS = 512
+
+
+def _pruned_step(prev: Sequence[Sequence[int]], cur: Sequence[Sequence[int]], total: list[float],
+                 motion: float) -> tuple[list[int], list[float]]:
+    """Each candidate of ``cur``: its best predecessor in ``prev`` and that price (running
+    total plus motion), pricing only the pairs that can still win.  Motion never costs less
+    than nothing (``motion >= 0``), so the predecessors are tried in order of their totals
+    and the scan stops at the first whose total alone exceeds the best price found; one
+    whose total plus the motion its voices' sum must make (no less than the difference of
+    the sums) exceeds it is passed over unpriced."""
+    order = sorted(range(len(total)), key=total.__getitem__)     # stable: ties by index
+    ranked = [total[a] for a in order]
+    lows = [prev[a][1:] for a in order]
+    sums = [sum(low) for low in lows]
+    arg: list[int] = []
+    best_of: list[float] = []
+    for row in cur:
+        low = row[1:]
+        own_sum = sum(low)
+        best, at = math.inf, -1
+        q = -1
+        for t, other, other_sum in zip(ranked, lows, sums):   # noqa: B905 (equal lengths)
+            q += 1
+            if t > best:
+                break
+            if t + motion * abs(other_sum - own_sum) > best:
+                continue
+            v = t + motion * sum(map(abs, map(sub, other, low)))
+            if v < best:
+                best, at = v, order[q]
+            elif v == best and (at < 0 or order[q] < at):
+                at = order[q]
+        arg.append(max(at, 0))
+        best_of.append(best)
+    return arg, best_of
 
 
 def path_cost(cands: Sequence[Sequence[Sequence[int]]], costs: Sequence[Sequence[float]], path: list[int],
