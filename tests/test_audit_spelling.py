@@ -267,6 +267,7 @@ def built(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Built]:
                   (o / f"{stem}.report.md").read_text(encoding="utf-8"), score,
                   sounding, parts,
                   sorted((o / f"{stem}-parts").glob("part*.musicxml"))[:len(parts)], keys, chords, bass=bass)
+        b.chords = [(off, _concert_spelling(b, off, cs)) for off, cs in chords]
         for k, f in enumerate(b.part_files):
             w = converter.parse(str(f))
             b.files.append((f.name, k, w, w.toSoundingPitch(inPlace=False)))
@@ -275,6 +276,23 @@ def built(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Built]:
 
 
 # ---------------------------------------------------------------- helpers
+
+
+def _concert_spelling(b: Built, offset: float, cs):  # noqa: ANN001, ANN202
+    """A symbol read back at sounding pitch from a staff whose key is the enharmonic one
+    (concert B major, trumpet in Db major: its Dbmaj7 sounds back as Cbmaj7) spelled as the
+    concert key spells it: of the symbol and its enharmonic neighbours (music21 ``transpose``
+    by a diminished second), the one with the fewest tones two half steps from the concert
+    key's signature."""
+    keys = _concert_key_by_bar(b)
+    sig = _m21_key(keys[max(x for x in keys if x <= max(_bar_of(b, offset), 1))])
+
+    def far(c) -> int:  # noqa: ANN001
+        return sum(1 for p in c.pitches
+                   if abs((p.accidental.alter if p.accidental else 0) -
+                          (a.alter if (a := sig.accidentalByStep(p.step)) else 0)) > 1)
+
+    return min([cs, cs.transpose("-d2"), cs.transpose("d2")], key=far)
 
 
 def _m21_key(text: str):  # noqa: ANN202
@@ -603,6 +621,45 @@ def test_chord_tones_are_spelled_by_degree_over_the_root(built: dict[str, Built]
                                f"{cs.figure} (its {names[n.pitch.pitchClass]})")
     assert total > 500
     assert not bad, f"{len(bad)} of {total} chord tones off their degree: " + "; ".join(bad[:12])
+
+
+def test_written_chord_tones_are_spelled_by_degree_over_the_written_symbol(built: dict[str, Built]) -> None:
+    """The same over a transposed staff: music21 spells the tones of each chord symbol as the
+    top staff prints it (written for that staff); a lead-section note of every part that
+    reads the top staff's transposition takes that name (Gb, the seventh of an alto's Ab7,
+    not F#), but a degree needing a double accidental and a dim7's seventh."""
+    from music21 import harmony
+
+    bad = []
+    total = 0
+    for b in built.values():
+        if b.concert:
+            continue
+        top = INSTRUMENTS[b.parts[0].instrument]["transposition"] % 12
+        if top == 0:
+            continue
+        symbols = [(float(cs.offset), cs) for cs in
+                   b.score.parts[0].flatten().getElementsByClass(harmony.ChordSymbol)]
+        for k, p in enumerate(b.score.parts):
+            if not b.parts[k].lead or INSTRUMENTS[b.parts[k].instrument]["transposition"] % 12 != top:
+                continue
+            for n in _notes(p):
+                t = float(n.offset)
+                cs = next((c for off, c in reversed(symbols) if off <= t + 1e-9), None)
+                if cs is None:
+                    continue
+                names = {x.pitchClass: x for x in cs.pitches}
+                x = names.get(n.pitch.pitchClass)
+                if x is None or abs(x.alter) >= 2 or (cs.chordKind == "diminished-seventh" and
+                                                       (x.pitchClass - cs.root().pitchClass) % 12 == 9):
+                    continue
+                total += 1
+                if x.name != n.pitch.name:
+                    bad.append(f"{b.name} bar {_bar_of(b, t)} {b.parts[k].name}: {n.pitch.name} under "
+                               f"{cs.figure} (its {x.name})")
+    assert total > 500
+    per = {x.split()[0]: sum(1 for y in bad if y.split()[0] == x.split()[0]) for x in bad}
+    assert not bad, f"{len(bad)} of {total} written chord tones off their degree {per}: " + "; ".join(bad[:12])
 
 
 def test_a_tie_keeps_its_spelling(built: dict[str, Built]) -> None:

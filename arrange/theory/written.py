@@ -128,7 +128,14 @@ def written_name(name: str, semitones: int, key: Key, chord: Chord | None = None
     if chord is not None:
         iv = (ROOT_NAMES[pc_name[0]] + pc_name.count("#") - pc_name.count("b") - chord.root) % 12
         deg = chord.degree_of(iv)
-        with_chord = deg is not None and interval_name(chord.root_name, iv, deg) == pc_name
+        by_degree = interval_name(chord.root_name, iv, deg) if deg is not None else None
+        with_chord = by_degree == pc_name
+        if by_degree is not None and not with_chord and abs(by_degree.count("#") - by_degree.count("b")) > 1 \
+                and not (chord.quality == "dim7" and deg == 7):
+            # a degree concert pitch writes by its plain enharmonic (Cb7's seventh as A): the
+            # part moves the degree with its chord (an alto's Ab7 has Gb, not F#)
+            place = fifths_of(by_degree) + move
+            with_chord = True
         if with_chord:
             place += _chord_shift(chord, move, flipped, wkey)
     if flipped and not with_chord and name_at(place) in _ODD and name_at(place) not in wkey.names:

@@ -84,7 +84,8 @@ def lead_staff(voiced: Voiced, k: int, info: ScoreInfo, lead: bool, top: bool | 
         for t, chord in chord_changes([ve.event for ve in voiced.events], h.framework):
             m, off = at_time(line, t)
             if m < len(staff.notes) and (mine is None or any(a <= t < b for a, b in mine)):
-                staff.add_mark(m, off, 5, harmony_element(chord, ivl=ivl))
+                staff.add_mark(m, off, 5, harmony_element(chord, ivl=ivl,
+                                                          key=h.key_at(int(t // h.line.meter.bar) + 1)))
     part_k = None if staffing is None else k
     for i, dyn in marks.entrances(voiced, info.dynamics, part_k):
         staff.add_mark(firsts[i].measure, firsts[i].offset, 4, marks.dynamic(dyn))
