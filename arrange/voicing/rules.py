@@ -171,6 +171,7 @@ def masks(voices: Sequence[Pitch], ctx: Context, section: Section) -> dict[str, 
     # the gap rule: adjacent upper voices (the bottom voice of five or more is free)
     gap_pairs = (n - 1 if n <= 4 else n - 2) if ctx.closed else 0
     above: Pitch = None
+    heard: Pitch = 0
     for j, ((plo, phi, xlo, xhi), p) in enumerate(zip(_ranges(section), voices, strict=True)):
         rng[j] = ((p < plo) | (p > phi)) & (p >= xlo) & (p <= xhi)
         ext[j] = (p < xlo) | (p > xhi)
@@ -182,12 +183,13 @@ def masks(voices: Sequence[Pitch], ctx: Context, section: Section) -> dict[str, 
                 gap[j] = d > 12
             m9[j] = minor_ninth(voices[:j], p, ctx)
             if not unison:
-                # the third or a tension (``flagged``) already sounding above, not the lead's
+                # the third or a tension (``flagged``) already sounding above (``heard``: the
+                # pitch classes of the voices above, a 12-bit set), not the lead's
                 pc = pcs[j]
-                again: Mark = False
-                for other in pcs[:j]:
-                    again = again | (other == pc)
-                dbl[j] = again & ((flagged >> pc) & 1 == 1) & (pc != pcs[0])
+                dbl[j] = (((heard & flagged) >> pc) & 1 == 1) & (pc != pcs[0])
+                heard = heard | (1 << pc)
+        else:
+            heard = 1 << pcs[0]
         above = p
     if n >= 3 and not unison:
         pc = pcs[-1]
