@@ -19,6 +19,7 @@ TYPES = {Q(4): ("whole", 0), Q(2): ("half", 0), Q(1): ("quarter", 0), Q(1, 2): (
           Q(1, 4): ("16th", 0), Q(1, 8): ("32nd", 0), Q(6): ("whole", 1), Q(3): ("half", 1),
           Q(3, 2): ("quarter", 1), Q(3, 4): ("eighth", 1), Q(3, 8): ("16th", 1), Q(3, 16): ("32nd", 1)}
 BEAMS = {"eighth": 1, "16th": 2, "32nd": 3}
+_LAST_TICK = Q(1, 96)     # a note's last moment: its end less the finest grid step
 
 def split_name(name: str) -> tuple[str, int, int]:
     """``Eb4`` -> ("E", -1, 4); the octave goes with the letter (``Cb4`` is B3's key)."""
@@ -101,8 +102,9 @@ def beams(notes: list[Any], meter: Meter, start: Fraction) -> dict[int, tuple[tu
         if n.name is None or kind is None or kind[0] not in BEAMS:
             prev_unit = None
             continue
-        u = unit_of(start + n.offset)
-        end_u = unit_of(start + n.offset + n.duration - Q(1, 96))
+        pos = start + n.offset
+        u = unit_of(pos)
+        end_u = unit_of(pos + n.duration - _LAST_TICK)
         if u != end_u:
             prev_unit = None
             continue

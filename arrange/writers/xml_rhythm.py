@@ -46,16 +46,24 @@ def _sub(parent: ET.Element, tag: str, text: str | None = None, **attrib: str) -
     return el
 
 
+def _kinds() -> dict[Fraction, tuple[str, int, bool]]:
+    out: dict[Fraction, tuple[str, int, bool]] = {}
+    for base, name in _TYPES.items():
+        out.setdefault(base, (name, 0, False))
+        out.setdefault(base * Fraction(3, 2), (name, 1, False))
+        out.setdefault(base * Fraction(2, 3), (name, 0, True))
+    return out
+
+
+_KINDS = _kinds()     # every readable value, looked up once a note (equal Fractions hash alike)
+
+
 def _type_of(d: Fraction) -> tuple[str, int, bool]:
     """(type, dots, triplet) of a readable value."""
-    for base, name in _TYPES.items():
-        if d == base:
-            return name, 0, False
-        if d == base * Fraction(3, 2):
-            return name, 1, False
-        if d == base * Fraction(2, 3):
-            return name, 0, True
-    raise ValueError(f"unreadable value {d}")
+    kind = _KINDS.get(d)
+    if kind is None:
+        raise ValueError(f"unreadable value {d}")
+    return kind
 
 
 def _value(note: ET.Element, d: Fraction) -> None:
