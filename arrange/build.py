@@ -27,7 +27,7 @@ __all__ = ["check_size", "written_notes", "MAX_SCORE_NOTES", "run_pipeline", "ru
            "refuse_errors", "default_lead_range", "signature_plan"]
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class BuildResult:
     """What a build wrote: the voiced passage, the written files and the voiced layers."""
     voiced: Voiced

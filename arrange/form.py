@@ -50,7 +50,7 @@ MAX_PASSAGES = 52
 _FRAMEWORK_KEYS = ("framework", "preset", "keys", "modulate")
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Passage:
     index: int                                   # 1-based
     name: str

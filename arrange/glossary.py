@@ -19,7 +19,7 @@ STARTER_REPORT = "the starter's report (arrange new, then arrange build)"
 _CHAIN = ("chain", "C4 E4 D4 G4")
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Term:
     term: str
     meaning: str

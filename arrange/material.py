@@ -26,7 +26,7 @@ __all__ = ["DesignedChain", "read_melody", "transpose_melody", "read_designed", 
 MELODY_KEYS = ("melody", "bars", "part")
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class DesignedChain:
     """A chain the designer finds: it carries the line from the passage before into the
     key of the passage after."""

@@ -38,7 +38,7 @@ MAX_FILE_BYTES = 1_000_000
 MAX_TITLE = 120
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class ChainSpec:
     """The project's ``[chain]`` table: motif, statements, overlap(s), lead range."""
     motif: tuple[int, ...]
@@ -47,7 +47,7 @@ class ChainSpec:
     lead_range: tuple[int, int] | None
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class OutputSpec:
     """The project's ``[output]`` table: formats and what the files carry."""
     formats: tuple[str, ...]
@@ -63,7 +63,7 @@ class OutputSpec:
     signatures: str = "arrival"           # modulate = "by-statement": one signature until the arrival key
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Project:
     """A project file read and checked: every stage's settings."""
     path: Path | None

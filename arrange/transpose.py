@@ -50,7 +50,7 @@ def parse_target(value: object, *, where: str) -> Target:
                            accepted="a whole number of semitones (-3, +5) or " + (err.accepted or "a key")) from None
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Moved:
     """What a project becomes: its key, motif, lead range and harmony, moved by ``shift``."""
     shift: int

@@ -43,7 +43,7 @@ LISTS = frozenset({"harmony.approach", "output.formats"})
 MAX_VARIANTS = 64
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Vary:
     key: str                       # dotted key
     text: str                      # as typed, for messages
@@ -120,7 +120,7 @@ def _drop_groove_options(rhythm: dict[str, Any], groove: object) -> None:
             del rhythm[key]
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Variant:
     name: str                                # "voicing=close, tempo=96"
     folder: str                              # a slug, unique

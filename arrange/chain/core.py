@@ -41,7 +41,7 @@ MAX_STATEMENTS = 1000
 MAX_NOTES = 100_000  # a longer line would take minutes downstream
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Statement:
     """One statement of a chain: its form (P or RI), transposition, pitches and first note."""
     index: int            # 1-based
@@ -52,7 +52,7 @@ class Statement:
     link: str             # "start", "exact" or "pitch-class"
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Chain:
     """A motif grown into a chain of statements, raw and placed (``arrange chain --json``)."""
     motif: tuple[int, ...]

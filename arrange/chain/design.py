@@ -37,7 +37,7 @@ __all__ = ["DesignSpec", "make_spec", "parse_steps", "Found", "Design", "search"
 _TIERS = ("strict", "end on a note of the second key's scale", "any last note")
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Found:
     motif: tuple[int, ...]
     chain: Chain
@@ -63,7 +63,7 @@ def ranking_of(spec: DesignSpec, chain: Chain) -> tuple[bool, bool]:
     return hi - lo <= spec.lead_span, chain.transposition % 12 != 0
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Design:
     spec: DesignSpec
     count: int

@@ -34,7 +34,7 @@ def _pcs(pcs: tuple[int, ...]) -> str:
     return " ".join(pitch_name(60 + p)[:-1] for p in pcs)
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class DesignSpec:
     length: int
     statements: int

@@ -15,7 +15,7 @@ from arrange.theory.keys import Key
 __all__ = ["FrameworkChord", "Event", "Harmonized", "stated_framework"]
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class FrameworkChord:
     """A chord of the framework: the bar, onset and duration it holds."""
     bar: int             # 1-based
@@ -24,7 +24,7 @@ class FrameworkChord:
     chord: Chord
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Event:
     """A lead note with the chord that sounds from its onset, its role, technique and why."""
     note: Note
@@ -38,7 +38,7 @@ class Event:
     target: Chord | None = None      # for an approach: the chord it resolves to
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Harmonized:
     """The harmony stage's value: the line, key, framework, events, warnings and key changes."""
     line: Line

@@ -42,7 +42,7 @@ _TOKEN = re.compile(r"^(.+?)(?::([0-9]{1,3}))?$")
 MODULATE = ("none", "by-statement")
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class HarmonyOptions:
     """The project's ``[harmony]`` table: framework, approach techniques, preset, keys."""
     framework: tuple[tuple[str, ...], ...] = ()        # tokens per bar as written: "Gm7:3"

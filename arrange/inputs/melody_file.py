@@ -36,7 +36,7 @@ ACCEPTED = ("a readable MusicXML (.musicxml, .xml, .mxl), MIDI (.mid, .midi) or 
             "given relative to the project file, e.g. \"file:tune.musicxml\"")
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class MelodyNote:
     """One lead note of a melody file: sounding pitch, onset and duration."""
     pitch: int            # sounding MIDI number
@@ -44,7 +44,7 @@ class MelodyNote:
     duration: Fraction
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Melody:
     """A lead line from outside the project: notes, meter, key, pickup, chord symbols."""
     notes: tuple[MelodyNote, ...]

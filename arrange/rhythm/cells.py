@@ -23,7 +23,7 @@ VALUES_HELP = ("note values 1 2 4 8 16 32, dotted '4.', triplet '8t', tied '4~8'
 MAX_TOKENS = 256
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Token:
     """One token of a rhythm cell: a duration, or a rest of that duration."""
     duration: Fraction

@@ -39,7 +39,7 @@ _GRID = 24                   # every written time is a multiple of 1/24 quarter
 HALF = Fraction(1, 2)
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Note:
     """One lead note: pitch, written and performed time, statement, weight, articulation."""
     index: int               # 0-based position in the line
@@ -56,7 +56,7 @@ class Note:
                              # chord starts under it (harmony stage), written tied, played once
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class StatementSpan:
     """Where a statement lies in the line: onset, duration, augmentation, bars."""
     index: int               # 1-based statement
@@ -67,7 +67,7 @@ class StatementSpan:
     last_bar: int
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Segment:
     """A stretch of the line the score names: a chain statement, or a melody (phrase or
     passage) where there is no chain.  ``Note.statement`` is its ``index``."""
@@ -77,7 +77,7 @@ class Segment:
     start: int               # 0-based index of its first note in the line
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class PassageSpan:
     """One passage of a form (``[[passages]]``), as the writers and the report need it."""
     index: int               # 1-based
@@ -91,7 +91,7 @@ class PassageSpan:
     design: tuple[tuple[str, float, str], ...] = ()   # designed chains: (motif, score, why), best first
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class RhythmOptions:
     """The project's ``[rhythm]`` table: groove, swing, cell, augmentation and the rest."""
     groove: str = "straight"
@@ -112,7 +112,7 @@ class RhythmOptions:
     where: str = "[rhythm]"
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Line:
     """The rhythm stage's value: the lead notes in time, with meter, groove and spans."""
     chain: Chain | None      # None: a melody (or a form) brought its own notes

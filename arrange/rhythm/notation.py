@@ -47,7 +47,7 @@ def is_triplet(d: Fraction) -> bool:
     return d in _TRIPLET
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Piece:
     """A written piece of a note or rest inside one measure, with its ties."""
     measure: int          # 0-based index of the written measure (the pickup, if any, is 0)

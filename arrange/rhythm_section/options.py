@@ -29,7 +29,7 @@ BASS_INSTRUMENTS = ("auto", "acoustic-bass", "electric-bass")
 _BY_GROOVE = {"swing": "walking", "shuffle": "shuffle", "latin": "tumbao", "straight": "roots-fifths"}
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class RhythmSectionOptions:
     """The project's ``[rhythm_section]`` table: parts, bass style and instrument, fills."""
     parts: tuple[str, ...] = ()

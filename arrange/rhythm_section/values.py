@@ -16,7 +16,7 @@ from arrange.theory.chords import Chord
 __all__ = ["BassNote", "Slash", "DrumHit", "Cue", "DrumPart", "RhythmSection", "PARTS"]
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class BassNote:
     """One note of the written bass line."""
     onset: Fraction
@@ -26,7 +26,7 @@ class BassNote:
     chord: Chord          # the framework chord the note sounds under (its symbol)
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Slash:
     """One comping slash: ``kind`` "time" (a stemless beat slash) or "hit" (a
     rhythmic slash with its value, accented); ``rest`` marks a silent value inside
@@ -39,7 +39,7 @@ class Slash:
     rest: bool = False
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class DrumHit:
     """One General MIDI drum hit of the mock-up."""
     onset: Fraction
@@ -48,7 +48,7 @@ class DrumHit:
     accent: int           # velocity added to the part's dynamic
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Cue:
     """A section figure shown above the drum staff: its onset and written value."""
     onset: Fraction
@@ -56,7 +56,7 @@ class Cue:
     anticipated: bool = False
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class DrumPart:
     """What the drummer reads (style, time, cues, fills) and the mock-up's hits."""
     style: str                         # the word over the first bar: "Swing", "Latin" ...
@@ -66,7 +66,7 @@ class DrumPart:
     hits: tuple[DrumHit, ...]          # what the mock-up plays
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class RhythmSection:
     """The rhythm-section stage's value: the asked parts and what each reads."""
     parts: tuple[str, ...]             # asked parts, in score order (PARTS)

@@ -59,7 +59,7 @@ _HALF = Fraction(1, 2)
 _VALUE_RE = re.compile(r"^(r?)(1|2|4|8|16)(\.?)(t?)$")
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Layer:
     index: int                                   # 1-based, in file order
     section: Section
@@ -74,7 +74,7 @@ class Layer:
         return velocity(self.dynamics)
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class LayerNote:
     onset: Fraction
     duration: Fraction
@@ -87,7 +87,7 @@ class LayerNote:
         return tuple(p for p in self.pitches if p is not None)
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class LayerFinding:
     kind: str
     event: int | None            # the lead event sounding at the background chord's onset
@@ -98,7 +98,7 @@ class LayerFinding:
     note: int | None = None         # 0-based index of the background chord
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class VoicedLayer:
     layer: Layer
     notes: tuple[LayerNote, ...]

@@ -34,7 +34,7 @@ __all__ = ["LayerRules", "layer_rules", "tone_order", "pc_sets", "safe_pcs", "ru
            "room_sets", "candidates", "cross_costs", "clash_pairs", "clash_counts", "fits_under", "velocity"]
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class LayerRules:
     defaults: tuple[tuple[str, str], ...]
     tension_order: tuple[int, ...]

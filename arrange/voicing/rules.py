@@ -115,7 +115,7 @@ def _lacks(mask: int, pc: Pitch) -> Mark:
     return (mask >> pc) & 1 == 0
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Context:
     """What the rules need of one voicing's chord and type."""
     root: int          # root pitch class

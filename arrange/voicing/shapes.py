@@ -32,7 +32,7 @@ CLOSED = ("close", "drop2", "drop2-4", "drop3")
 _ON = ("any", "dominant", "minor")
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Recipes:
     """``voicing_rules/voicings.toml``: forms, substitutions, doubling, search weights."""
     forms: tuple[tuple[str, tuple[int, ...]], ...]

@@ -19,7 +19,7 @@ RULES = ("octave-below", "stack")
 _WHERE = "voicing_rules/tutti.toml"
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Layout:
     name: str
     description: str
@@ -32,7 +32,7 @@ class Layout:
         return self.others[min(k, len(self.others) - 1)]
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class TuttiRules:
     root_reach: int              # semitones the root may lie below the part above it
     guide_tone_parts: int        # parts that must sound each guide tone

@@ -36,7 +36,7 @@ __all__ = ["Finding", "VoicedEvent", "Voiced", "Staffing", "VoicingOptions", "re
 PLANS = VOICINGS + ("auto",)
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Finding:
     """A rule finding of the voicing stage (a report warning or error)."""
     kind: str                 # one of rules.KINDS
@@ -46,7 +46,7 @@ class Finding:
     severity: str = "warning"  # "warning" or "error"
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class VoicedEvent:
     """An event voiced: its voicing type and one sounding pitch per part."""
     event: Event
@@ -56,7 +56,7 @@ class VoicedEvent:
     pitches: tuple[int, ...]
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Staffing:
     """The staves of a form whose passages have their own sections: ``Voiced.section`` then
     holds one part per player (every section's parts, a player two sections share once, in
@@ -82,7 +82,7 @@ class Staffing:
         return self.staves[self.of_event[i]][0]
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Voiced:
     """The voicing stage's value: the voiced events and their findings."""
     harmonized: Harmonized
@@ -92,7 +92,7 @@ class Voiced:
     staffing: Staffing | None = None     # a form's passages with their own sections
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class VoicingOptions:
     """The voicing keys of ``[section]``: voicing plan and options."""
     voicing: str = "close"                                   # a type or "auto"

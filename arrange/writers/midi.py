@@ -37,7 +37,7 @@ DEFAULT_VELOCITY = 80   # mf
 VELOCITY = {"ppp": 20, "pp": 33, "p": 49, "mp": 64, "mf": 80, "f": 96, "ff": 112, "fff": 124}
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class MidiOptions:
     """The mock-up's dynamics per statement and its optional, seeded humanizing."""
     dynamics: tuple[str, ...] = ("mf",)

@@ -20,7 +20,7 @@ _DOCTYPE = (b'<!DOCTYPE score-partwise PUBLIC "-//Recordare//DTD MusicXML 4.0 Pa
             b'"http://www.musicxml.org/dtds/partwise.dtd">\n')
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class StaffPart:
     """A staff with what the part list says of it."""
     staff: Staff

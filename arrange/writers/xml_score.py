@@ -40,7 +40,7 @@ _CLEFS = {"treble": ("G", 2, 0), "bass": ("F", 4, 0), "alto": ("C", 3, 0), "teno
 _ARTICULATIONS = {"accent": "accent", "staccato": "staccato", "tenuto": "tenuto"}
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class ScoreInfo:
     """What the score writer prints beside the notes: title, tempo, style, marks."""
     title: str
@@ -56,7 +56,7 @@ class ScoreInfo:
     signatures: tuple | None = None
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
 class Interval:
     """Written minus sounding: letter steps and semitones (0, 0 at concert pitch)."""
     steps: int = 0
