@@ -23,7 +23,7 @@ from arrange.theory.chords import Chord, chord_scale_for, parse_chord
 from arrange.theory.scales import CHORD_SCALES, MODES, tensions_in_scale
 
 __all__ = ["Key", "parse_key", "parse_key_change", "MODES", "CHORD_SCALES", "chord_scale_for",
-           "chord_scale_in_key", "tensions_in_scale", "LETTERS", "fifths_of", "name_at", "interval_steps",
+           "chord_scale_in_key", "tensions_in_scale", "LETTERS", "fifths_of", "name_at", "signature_alters", "interval_steps",
            "enharmonic", "signature_key", "written_key", "MAX_WRITTEN", "MAX_NAMED"]
 
 LETTERS = "CDEFGAB"
@@ -130,6 +130,15 @@ _FIFTHS_ORDER = "FCGDAEB"
 def fifths_of(name: str) -> int:
     """A note name's place on the line of fifths (C 0, G 1, F -1, F# 6, Bb -2, C## 14)."""
     return _FIFTHS_ORDER.index(name[0]) - 1 + 7 * (name.count("#") - name.count("b"))
+
+
+def signature_alters(fifths: int) -> dict[str, int]:
+    """The alteration a key signature of ``fifths`` gives each letter (sharps F C G ...,
+    flats B E A ...; past seven a letter takes a second one, as G# major's F##)."""
+    n = abs(fifths)
+    order = _FIFTHS_ORDER if fifths >= 0 else _FIFTHS_ORDER[::-1]
+    sign = 1 if fifths >= 0 else -1
+    return {x: sign * (n // 7 + (1 if i < n % 7 else 0)) for i, x in enumerate(order)}
 
 
 def name_at(fifths: int) -> str:

@@ -22,7 +22,7 @@ Names are ours (``Eb4``, ``F#5``); :func:`m21_name` turns one into music21's
 from __future__ import annotations
 
 from arrange.theory.chords import ROOT_NAMES, Chord, interval_name, parse_chord, spell_name
-from arrange.theory.keys import LETTERS, Key
+from arrange.theory.keys import LETTERS, Key, signature_alters
 
 __all__ = ["nonchord_degree", "spell_pc", "spell_pitch", "spell_chord", "with_octave", "m21_name", "root_spelling",
            "direction_of"]
@@ -164,6 +164,7 @@ def root_spelling(pc: int, suffix: str, key: Key, letter_hint: str | None = None
     E# or B# the key lacks, then most of its tones read as the key writes them, with few
     accidentals against the key's side (``letter_hint`` breaks ties: the letter the
     voice-leading suggests)."""
+    signature = signature_alters(key.fifths)
     best = None
     for letter in LETTERS:
         name = spell_name(letter, pc)
@@ -177,22 +178,13 @@ def root_spelling(pc: int, suffix: str, key: Key, letter_hint: str | None = None
         side = -1 if key.fifths < 0 else 1
         against = sum(1 for t in tones if _acc(t) * side < 0 and t not in key.names)
         foreign = sum(1 for t in tones if t not in key.names)
-        far = sum(1 for t in tones if abs(_acc(t) - _key_acc(key, t[0])) > 1)
+        far = sum(1 for t in tones if abs(_acc(t) - signature[t[0]]) > 1)
         score = (far, doubles, name in _ODD and name not in key.names, clash, against, foreign,
                  letter != letter_hint)
         if best is None or score < best[0]:
             best = (score, chord)
     assert best is not None
     return best[1]
-
-
-def _key_acc(key: Key, letter: str) -> int:
-    """The accidental the key signature gives ``letter`` (-1 flat, 0, +1 sharp; a key past
-    seven takes two: its signature is the circle of fifths' ``fifths``)."""
-    f = key.fifths
-    if f >= 0:
-        return f // 7 + (1 if "FCGDAEB".index(letter) < f % 7 else 0)
-    return -((-f) // 7 + (1 if "BEADGCF".index(letter) < (-f) % 7 else 0))
 
 
 def m21_name(name: str) -> str:

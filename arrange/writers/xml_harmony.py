@@ -14,6 +14,8 @@ import xml.etree.ElementTree as ET
 
 from arrange.theory.chords import Chord
 from arrange.theory.keys import Key
+from arrange.theory.written import split_name as split_octave
+from arrange.theory.written import written_name
 from arrange.writers.symbols import harmony_parts
 from arrange.writers.xml_score import Interval, split_name, transpose_name
 
@@ -34,9 +36,6 @@ def _written(name: str, ivl: Interval, key: Key | None, chord: Chord | None) -> 
     D#maj7; else moved by the interval."""
     if key is None or not (ivl.steps or ivl.semitones):
         return transpose_name(name, ivl)
-    from arrange.theory.written import split_name as split_octave
-    from arrange.theory.written import written_name
-
     return split_octave(written_name(f"{name}4", ivl.semitones, key, chord))[0]
 
 

@@ -10,6 +10,7 @@ from typing import Any
 
 from arrange.rhythm.meter import Meter
 from arrange.rhythm.notation import is_triplet
+from arrange.theory.keys import signature_alters
 
 __all__ = ["TYPES", "BEAMS", "split_name", "signature_alters", "accidentals", "tuplets", "beams", "beat_units"]
 
@@ -28,12 +29,6 @@ def split_name(name: str) -> tuple[str, int, int]:
         alter += 1 if name[i] == "#" else -1
         i += 1
     return name[0], alter, int(name[i:]) if i < len(name) else 4
-
-
-def signature_alters(fifths: int) -> dict[str, int]:
-    """The alteration a key signature of ``fifths`` gives each letter (sharps F C G ...)."""
-    order = "FCGDAEB"
-    return {x: 1 for x in order[:fifths]} if fifths >= 0 else {x: -1 for x in order[::-1][:-fifths]}
 
 
 def accidentals(notes: list[Any], fifths: int) -> dict[int, int]:

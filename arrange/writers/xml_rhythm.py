@@ -25,7 +25,7 @@ from arrange.harmony.events import Harmonized
 from arrange.rhythm.notation import Piece, pieces
 from arrange.rhythm_section.values import RhythmSection
 from arrange.theory.chords import Chord
-from arrange.theory.keys import written_key
+from arrange.theory.keys import signature_alters, written_key
 from arrange.voicing.sections import instruments
 from arrange.writers.xml_harmony import harmony_element
 
@@ -35,7 +35,6 @@ DIVISIONS = 48          # per quarter: the line's 1/24 grid, and 1/16 once 12/8 
 PART_IDS = {"guitar": "P-rs-guitar", "piano": "P-rs-piano", "bass": "P-rs-bass", "drums": "P-rs-drums"}
 _TYPES = {Fraction(4): "whole", Fraction(2): "half", Fraction(1): "quarter", Fraction(1, 2): "eighth",
           Fraction(1, 4): "16th", Fraction(1, 8): "32nd", Fraction(1, 16): "64th"}
-_SHARPS, _FLATS = "FCGDAEB", "BEADGCF"
 _ACC_TEXT = {-2: "flat-flat", -1: "flat", 0: "natural", 1: "sharp", 2: "double-sharp"}
 
 
@@ -85,12 +84,6 @@ def _finish_value(note: ET.Element, d: Fraction, cue: bool = False, accidental: 
         tm = _sub(note, "time-modification")
         _sub(tm, "actual-notes", "3")
         _sub(tm, "normal-notes", "2")
-
-
-def _signature(fifths: int) -> dict[str, int]:
-    if fifths >= 0:
-        return {s: 1 for s in _SHARPS[:fifths]}
-    return {s: -1 for s in _FLATS[:-fifths]}
 
 
 class _Measures:
@@ -268,7 +261,7 @@ def _comp_part(ms: _Measures, rs: RhythmSection, meter, rs_part: str) -> None:  
             _symbols_before(ms, m, t, t + pc.duration, changes, done)
             # the guitar's 8vb clef: the file holds sounding pitch (as the guitar's other parts)
             at = ("B", 3) if rs_part == "guitar" else ("B", 4)
-            alter = _signature(ms.harmonized.key_at(int(t // rs.bar) + 1).fifths).get("B", 0)
+            alter = signature_alters(ms.harmonized.key_at(int(t // rs.bar) + 1).fifths).get("B", 0)
             if s.kind == "time":
                 _slash_note(m, pc, stem="none", accent=False, display=at, alter=alter)
             else:
@@ -299,7 +292,7 @@ def _bass_part(ms: _Measures, rs: RhythmSection, meter, names: tuple[str, ...]) 
             m = ms.measures[pc.measure]
             t = ms.start(pc.measure) + pc.offset
             _symbols_before(ms, m, t, t + pc.duration, changes, done)
-            ms.signature = _signature(written_key(key).fifths)
+            ms.signature = signature_alters(written_key(key).fifths)
             acc = ms.accidental(pc.measure, step, octave, alter)
             n = _sub(m, "note")
             p = _sub(n, "pitch")
