@@ -105,8 +105,8 @@ def minor_ninth(uppers: Sequence[Pitch], lower: Pitch, ctx: Context) -> Mark:
     return hit
 
 
-def _has(mask: int, pc: Pitch) -> Mark:
-    """``pc`` (0..11) is in the 12-bit set ``mask``."""
+def _has(mask: Pitch, pc: Pitch) -> Mark:
+    """``pc`` (0..11) is in the 12-bit set ``mask`` (either may be a column)."""
     return (mask >> pc) & 1 == 1
 
 
@@ -186,7 +186,7 @@ def masks(voices: Sequence[Pitch], ctx: Context, section: Section) -> dict[str, 
                 # the third or a tension (``flagged``) already sounding above (``heard``: the
                 # pitch classes of the voices above, a 12-bit set), not the lead's
                 pc = pcs[j]
-                dbl[j] = (((heard & flagged) >> pc) & 1 == 1) & (pc != pcs[0])
+                dbl[j] = _has(heard & flagged, pc) & (pc != pcs[0])
                 heard = heard | (1 << pc)
         else:
             heard = 1 << pcs[0]
