@@ -26,12 +26,13 @@ ninth between a background note and a lead-section note sounding with it
 """
 from __future__ import annotations
 
+import heapq
+import math
 import re
 from bisect import bisect_right
+from collections.abc import Callable
 from dataclasses import dataclass
 from fractions import Fraction
-
-import numpy as np
 
 from arrange.errors import ProjectError
 from arrange.harmony.events import FrameworkChord, Harmonized, stated_framework
@@ -39,7 +40,7 @@ from arrange.tables import Table
 from arrange.theory.chords import Chord
 from arrange.theory.pitch import pitch_name
 from arrange.voicing import rules
-from arrange.voicing.pads import (candidates, clash_counts, clash_pairs, cross_costs, fits_under, layer_rules, rubs,
+from arrange.voicing.pads import (Group, candidates, clash_table, clashes, cross_cost, layer_rules, rubs, rule_cost,
                                   tone_order, velocity)
 from arrange.voicing.sections import Section, section_from_table
 from arrange.voicing.shapes import recipes
@@ -47,7 +48,7 @@ from arrange.voicing.voicer import Voiced
 
 __all__ = ["Layer", "LayerNote", "LayerFinding", "VoicedLayer", "ROLES", "PLACEMENTS", "DYNAMICS",
            "read_layers",
-           "parse_values", "build_layers", "accents", "layer_times", "root_costs"]
+           "parse_values", "build_layers", "accents", "layer_times"]
 
 ROLES = ("pad", "hits")
 # under: below the lead section's lowest sounding note, low intervals open, thinned or resting
@@ -281,123 +282,165 @@ def _sounding_index(voiced: Voiced) -> tuple[list[Fraction], list[Fraction]]:
 _KEEP = 500      # candidates per chord kept for the search (the cheapest by their own costs)
 
 
-def _step_table(motion: float, leap: float, most: int) -> np.ndarray:
+def _sum(values: list[float]) -> float:
+    """``values`` added as numpy adds a row of float64 (``np.add.reduce`` over a contiguous
+    axis: one by one under eight, else eight running sums joined pairwise, then the rest),
+    so the search's sums stay those of the numpy search this replaced, ties and all.  (The
+    builtin ``sum`` of floats rounds differently from Python 3.12 on.)"""
+    return 0.0 + _pairwise(values, 0, len(values))
+
+
+def _pairwise(a: list[float], i: int, n: int) -> float:
+    if n < 8:
+        res = -0.0
+        for k in range(i, i + n):
+            res += a[k]
+        return res
+    if n <= 128:
+        r = a[i:i + 8]
+        m = n - n % 8
+        for k in range(i + 8, i + m, 8):
+            for j in range(8):
+                r[j] += a[k + j]
+        res = ((r[0] + r[1]) + (r[2] + r[3])) + ((r[4] + r[5]) + (r[6] + r[7]))
+        for k in range(i + m, i + n):
+            res += a[k]
+        return res
+    half = n // 2
+    half -= half % 8
+    return _pairwise(a, i, half) + _pairwise(a, i + half, n - half)
+
+
+def _step_table(motion: float, leap: float, most: int) -> list[float]:
     """Cost of one voice moving ``d`` semitones, ``d`` = 0 .. ``most``."""
-    d = np.arange(most + 1, dtype=np.int64)
-    return motion * d + leap * np.clip(d - 2, 0, None)
+    return [motion * d + leap * max(d - 2, 0) for d in range(most + 1)]
 
 
-def _steps(a: np.ndarray, ra: np.ndarray, b: np.ndarray, rb: np.ndarray, table: np.ndarray) -> np.ndarray:
-    """``(len(a), len(b))`` motion costs between two chords' candidates: each
-    voice's cost looked up by its distance, voices resting on either side free.
-    Voices are added one ``(len(a), len(b))`` plane at a time, in order, which
-    gives the very sums numpy's ``sum`` over a last axis shorter than 8 gives
-    (longer axes it sums pairwise, so they keep the plain ``sum``)."""
-    n = a.shape[1]
-    if n >= 8:
-        step = table[np.abs(a[:, None, :] - b[None, :, :])]
-        return (step * ~(ra[:, None, :] | rb[None, :, :])).sum(axis=2)
-    aT, bT, raT, rbT = (np.ascontiguousarray(x.T) for x in (a, b, ra, rb))
-    most = len(table) - 1
-    signed = table[np.abs(np.arange(-most, most + 1))]       # indexed by a - b + most: no abs per pair
-    shape = (len(a), len(b))
-    where, total, plane = np.empty(shape, dtype=np.intp), np.empty(shape), np.empty(shape)
-    for v in range(n):
-        out = total if v == 0 else plane
-        np.subtract((aT[v] + most)[:, None], bT[v][None, :], out=where)
-        np.take(signed, where, out=out, mode="clip")           # every index is in range
-        if raT[v].any() or rbT[v].any():
-            np.multiply(out, ~(raT[v][:, None] | rbT[v][None, :]), out=out)
-        if v:
-            total += plane
+def _motion(a: tuple[int, ...], ra: tuple[bool, ...], b: tuple[int, ...], rb: tuple[bool, ...],
+            table: list[float]) -> float:
+    """The motion cost between two candidates: each voice's cost looked up by its distance,
+    voices resting on either side free (added in the voices' order below eight voices, as
+    :func:`_sum` does)."""
+    if len(a) >= 8:
+        return _sum([0.0 if p or q else table[abs(x - y)] for x, p, y, q in zip(a, ra, b, rb, strict=True)])
+    total = 0.0
+    if True in ra or True in rb:
+        for x, p, y, q in zip(a, ra, b, rb, strict=True):
+            if not (p or q):
+                total += table[abs(x - y)]
+    else:
+        for x, y in zip(a, b, strict=True):
+            total += table[abs(x - y)]
     return total
 
 
-def _solve(cands: list[np.ndarray], costs: list[np.ndarray], rests: list[np.ndarray]) -> list[int]:
+def _solve(cands: list[list[tuple[int, ...]]], costs: list[list[float]],
+           rests: list[list[tuple[bool, ...]]]) -> list[int]:
     """One candidate per chord minimising costs plus motion (semitones, every voice
-    playing on both sides; common tones free) plus a leap cost beyond a whole step."""
+    playing on both sides; common tones free) plus a leap cost beyond a whole step.
+
+    A candidate's best predecessor has the least running total plus motion; ties go to the
+    lowest index (as numpy's ``argmin`` over every pair would).  Where no step costs less
+    than nothing (``motion``, ``leap`` >= 0) the predecessors are tried in order of their
+    totals, the scan stops at the first whose total alone exceeds the best price found, and
+    one whose total plus ``motion`` times the difference of the sums of the voices both
+    play (no more than the motion itself) exceeds it is passed over unpriced."""
     motion, leap = recipes().weight("motion"), layer_rules().weight("leap")
-    idx = [c.astype(np.intp) for c in cands]          # distances index the table: intp takes fastest
-    table = _step_table(motion, leap, int(max(c.max() for c in cands) - min(c.min() for c in cands)))
-    total = costs[0].astype(float)
-    back = []
+    most = max(max(r) for c in cands for r in c) - min(min(r) for c in cands for r in c)
+    table = _step_table(motion, leap, most)
+    prune = motion >= 0 and leap >= 0
+    total = [float(c) for c in costs[0]]
+    back: list[list[int]] = []
     for i in range(1, len(cands)):
-        # rows: this chord's candidates, columns: the previous chord's (argmin along a row)
-        whole = _steps(idx[i], rests[i], idx[i - 1], rests[i - 1], table) + total[None, :]
-        arg = whole.argmin(axis=1)
+        prev, prest, cur, crest = cands[i - 1], rests[i - 1], cands[i], rests[i]
+        order = sorted(range(len(total)), key=total.__getitem__) if prune else list(range(len(total)))
+        sums = [sum(p for p, r in zip(a, ra, strict=True) if not r) for a, ra in zip(prev, prest, strict=True)]
+        arg: list[int] = []
+        new: list[float] = []
+        for row, rrow, own in zip(cur, crest, costs[i], strict=True):
+            best, at = math.inf, -1
+            mine = sum(p for p, r in zip(row, rrow, strict=True) if not r)
+            for k in order:
+                t = total[k]
+                if prune and t > best:
+                    break
+                # the voices both play: a bound on their motion where both rest the same parts
+                if prune and rrow == prest[k] and t + motion * abs(sums[k] - mine) * _SLACK > best:
+                    continue
+                v = _motion(prev[k], prest[k], row, rrow, table) + t
+                if v < best or (v == best and k < at):
+                    best, at = v, k
+            arg.append(at)
+            new.append(best + own)
         back.append(arg)
-        total = whole[np.arange(len(cands[i])), arg] + costs[i]
-    j = int(total.argmin())
+        total = new
+    j = min(range(len(total)), key=total.__getitem__)
     path = [j]
     for arg in reversed(back):
-        j = int(arg[j])
+        j = arg[j]
         path.append(j)
     return path[::-1]
+
+
+# the bound's margin: the voices' float costs summed may round below ``motion`` times their
+# distances summed, by far less than this share
+_SLACK = 1 - 1e-9
 
 
 def _voice_layer(harmonized: Harmonized, voiced: Voiced, layer: Layer) -> VoicedLayer:
     times = layer_times(harmonized, layer)
     if not times:
         return VoicedLayer(layer, (), ())
-    cands, rests, costs, sounding, played, silent = [], [], [], [], [], []
+    cands: list[list[tuple[int, ...]]] = []
+    rests: list[list[tuple[bool, ...]]] = []
+    costs: list[list[float]] = []
+    sounding, played, silent = [], [], []
     cramped: list[int | None] = []
     index = _sounding_index(voiced)
+    section = layer.section
+    n = len(section.parts)
+    root_weight = layer_rules().weight("root_bottom")
+    priced: dict[Chord, dict[tuple[tuple[int, ...], tuple[bool, ...]], float]] = {}
     for onset, dur, chord in times:
         snd = _sounding(voiced, onset, dur, index)
         lead = tuple(sorted({q for _i, _w, p in snd for q in p}))
-        P, R, c = candidates(chord, layer.section, lead)
-        rc = root_costs(P, chord, snd)
-        c = c + cross_costs(P, [(w, p) for _i, w, p in snd], chord, R)
+        # first of all a background sits under the section, its low intervals open (common
+        # practice): only the candidates that do are listed (thinner ones make room under a
+        # low section); where none does, the findings name what is left.  among: anywhere;
+        # the costs keep it as low as they can (cross_cost)
+        lows = tuple(min(p) for _i, _w, p in snd) if layer.placement == "under" else None
+        pool = candidates(chord, section, lead, lows)
         # a pad thins rather than rubs, then states the chord from its root (or slash bass):
         # where a least-clashing candidate has the root at the bottom, only those stay, so
         # voice motion never outweighs the root (common practice of background writing);
         # where none has, the thinned chord's why names the root among the tones left out
-        order = np.argsort(c, kind="stable")
-        bass = chord.bass if chord.bass is not None else chord.root
-        # first of all a background sits under the section, its low intervals open (common
-        # practice): where any candidate does, only those stay (thinner ones make room under
-        # a low section); where none does, the findings name what is left
-        if layer.placement == "under":
-            fits = fits_under(P, tuple(min(p) for _i, _w, p in snd))
-        else:       # among: anywhere; the costs keep it as low as they can (cross_costs)
-            fits = np.ones(len(P), dtype=bool)
-        roomy = bool((fits & ~R.any(axis=1)).any())      # a voicing of every part fits under
-        if not roomy and not (fits & (rc == 0)).any():
+        rooted = _rooted(chord, snd, root_weight)
+        full = [(g, rows) for g, rows in pool if len(g.sounding) == n]
+        roomy = bool(full)      # a voicing of every part fits under
+        if not roomy and not any(rooted(row) for _g, rows in pool for row in rows):
             # no room under the section for even its root at the bottom: the background
             # rests there (an arranger leaves it out rather than muddy or cover the section,
             # or put another tone in the bass)
             silent.append((onset, dur, chord, snd))
             continue
-        pool = fits
-        fewest = _fewest_clashes(P, R, chord, snd, pool)
-        chosen = fewest
-        if (fewest & (P.min(axis=1) % 12 == bass % 12)).any():
-            chosen = (rc == 0) & fewest
-        # guide tones first, as ever: each one that rubs against no lead-section note of
-        # the chord's time (a pad leaves a guide tone out only to avoid a clash or for room)
-        safe = tuple(g for g in tone_order(chord)[:2] if not any(rubs(g, q % 12, chord) for q in lead))
-        guided = chosen & _holds_guides(P, R, safe)
-        if not safe:        # both rub: still one of them where it costs no further clash
-            guided = chosen & ~_holds_none(P, R, tone_order(chord)[:2])
-        if guided.any():
-            chosen = guided
-        # then as many voices as fit: a part rests only where the room under the section
-        # (or a clash) leaves it nothing to play, never to save a leap
-        voices = (~R).sum(axis=1)
-        chosen = chosen & (voices == voices[chosen].max())
-        order = order[chosen[order]]
-        keep = order[:_KEEP]
+        tables = [clash_table(p, chord) for _i, _w, p in snd]
+        chosen = _rules_first(chord, lead, full, tables, rooted, n) or _rules_first(chord, lead, pool, tables,
+                                                                                      rooted, None)
+        # the cheapest by their own costs (the voicing stage's rules, the lead section's
+        # notes), equal costs in the candidates' order
+        keep, weighed = _cheapest(chord, section, chosen, [(w, p) for _i, w, p in snd], tables,
+                                  priced.setdefault(chord, {}))
         # no room for every part: the chord's why says so (the section's lowest note named)
         cramped.append(None if roomy else min((q for _i, _w, p in snd for q in p), default=None))
-        cands.append(P[keep])
-        rests.append(R[keep])
-        costs.append(c[keep])
+        cands.append([chosen[k][0].pitches(chosen[k][1]) for k in keep])
+        rests.append([chosen[k][0].rests for k in keep])
+        costs.append([weighed[k] for k in keep])
         sounding.append(snd)
         played.append((onset, dur, chord))
     path = _solve(cands, costs, rests) if cands else []
     notes = []
     for (o, d, ch), i, j, snd in zip(played, range(len(played)), path, sounding, strict=True):
-        row = tuple(None if r else int(p) for p, r in zip(cands[i][j], rests[i][j], strict=True))
+        row = tuple(None if r else p for p, r in zip(cands[i][j], rests[i][j], strict=True))
         notes.append(LayerNote(o, d, ch, row, _why(ch, row, snd, voiced, layer, cramped[i])))
     findings = _findings(harmonized, voiced, layer, tuple(notes), sounding)
     findings += _rest_findings(harmonized, layer, silent)
@@ -422,47 +465,124 @@ def _rest_findings(harmonized: Harmonized, layer: Layer,
     return out
 
 
-def _fewest_clashes(P: np.ndarray, R: np.ndarray, chord: Chord,
-                    snd: list[tuple[int, float, tuple[int, ...]]], pool: np.ndarray) -> np.ndarray:
-    """The candidates of ``pool`` with the fewest minor seconds / ninths against the
-    lead-section notes sounding during the chord (a pad thins rather than rubs: its ``why``
-    then names the tones it leaves out, the root among them, and the lead notes they would rub)."""
-    count = np.zeros(len(P), dtype=np.int64)
-    for _i, _w, pitches in snd:
-        count += clash_counts(P, ~R, pitches, chord)
-    if not pool.any():
-        return pool
-    return pool & (count == count[pool].min())
+def _rules_first(chord: Chord, lead: tuple[int, ...], pool: list[tuple[Group, tuple[tuple[int, ...], ...]]],
+                 tables: list[dict[int, int]], rooted: Callable[[tuple[int, ...]], bool],
+                 full: int | None) -> list[tuple[Group, tuple[int, ...]]]:
+    """The candidates (tone set, sounding voices) of ``pool`` that pass the rules a background
+    obeys before any cost, each a filter keeping the ones passing it wherever any does, in
+    order: the fewest minor seconds / ninths against the lead-section notes sounding during
+    the chord (``tables``: :func:`pads.clash_table` of each; a pad thins rather than rubs:
+    its ``why`` then names the tones it leaves out, the root among them, and the lead notes
+    they would rub), the root at the bottom (``rooted``), every guide tone that rubs against
+    no lead note of the chord (where both rub, one of them), the most sounding voices.
+
+    ``full``: the number of parts, when ``pool`` holds only the voicings of every part:
+    then the answer is the whole pool's where these ones settle every filter (none clashes
+    less than not at all, one of them has the root at the bottom and one the guide tones),
+    and ``[]`` where they do not."""
+    table: dict[int, int] = {}
+    for t in tables:
+        for p, k in t.items():
+            table[p] = table.get(p, 0) + k
+    least, fewest = None, []
+    counted: dict[int, tuple[int, list[int]]] = {}      # tone sets' voicings are often shared
+    get = table.get
+    for g, rows in pool:
+        hit = counted.get(id(rows))
+        if hit is None:
+            counts = [sum([get(p, 0) for p in row]) for row in rows] if table else [0] * len(rows)
+            hit = counted[id(rows)] = (min(counts), counts)
+        if least is not None and hit[0] > least:
+            continue
+        for row, k in zip(rows, hit[1], strict=True):
+            if least is None or k < least:
+                least, fewest = k, [(g, row)]
+            elif k == least:
+                fewest.append((g, row))
+    if full is not None and least != 0:
+        return []
+    bass = (chord.bass if chord.bass is not None else chord.root) % 12
+    if any(row[-1] % 12 == bass for _g, row in fewest):
+        fewest = [(g, row) for g, row in fewest if rooted(row)]
+    elif full is not None:
+        return []
+    # guide tones first, as ever: each one that rubs against no lead-section note of
+    # the chord's time (a pad leaves a guide tone out only to avoid a clash or for room)
+    guides = tone_order(chord)[:2]
+    safe = tuple(g for g in guides if not any(rubs(g, q % 12, chord) for q in lead))
+    held: dict[int, bool] = {}
+    for g, _row in fewest:
+        if id(g) not in held:
+            held[id(g)] = (all(t in g.pcs for t in safe) if safe      # both rub: still one of them
+                           else any(t in g.pcs for t in guides))
+    guided = [(g, row) for g, row in fewest if held[id(g)]]
+    if guided:
+        fewest = guided
+    elif full is not None:
+        return []
+    # then as many voices as fit: a part rests only where the room under the section
+    # (or a clash) leaves it nothing to play, never to save a leap
+    most = max(len(g.sounding) for g, _row in fewest)
+    return [(g, row) for g, row in fewest if len(g.sounding) == most]
 
 
-def _holds_guides(P: np.ndarray, R: np.ndarray, guides: tuple[int, ...]) -> np.ndarray:
-    """The candidates sounding every one of ``guides`` (pitch classes of the chord's guide
-    tones, ``pads.tone_order``: its third and its seventh or sixth)."""
-    out = np.ones(len(P), dtype=bool)
-    pcs = P % 12
-    for g in guides:
-        out &= ((pcs == g) & ~R).any(axis=1)
-    return out
+def _cheapest(chord: Chord, section: Section, chosen: list[tuple[Group, tuple[int, ...]]],
+              sounding: list[tuple[float, tuple[int, ...]]], tables: list[dict[int, int]],
+              priced: dict[tuple[tuple[int, ...], tuple[bool, ...]], float]) -> tuple[list[int], list[float]]:
+    """The ``_KEEP`` cheapest of ``chosen`` (indices, equal costs in their order) and every
+    cost worked out: tone-set preference plus the voicing stage's rule penalties
+    (:func:`pads.rule_cost`, kept in ``priced`` for the chord) plus the costs against the
+    lead section (:func:`pads.cross_cost`).  The rule penalties are never below zero (cost
+    weights are, ``shapes.recipes``), so where more than ``_KEEP`` are chosen they are
+    worked out in order of the other costs only until the rest cannot come in."""
+    weights = {k: recipes().weight(k) for k in rules.KINDS}
+    against = cross_cost(sounding, tables)
+    cross = [against(row) for _g, row in chosen]
+
+    def weigh(k: int) -> float:
+        g, row = chosen[k]
+        pitches = g.pitches(row)
+        pen = priced.get((pitches, g.rests))
+        if pen is None:
+            pen = priced[pitches, g.rests] = rule_cost(chord, section, pitches, g.rests, weights)
+        return (g.cost + pen) + cross[k]
+
+    weighed = [math.inf] * len(chosen)
+    if len(chosen) <= _KEEP:
+        done = list(range(len(chosen)))
+        for k in done:
+            weighed[k] = weigh(k)
+    else:
+        least = [g.cost + c for (g, _row), c in zip(chosen, cross, strict=True)]     # no more than the cost
+        done, kept = [], []           # kept: the _KEEP least costs so far, as a heap of their negatives
+        for k in sorted(range(len(chosen)), key=least.__getitem__):
+            if len(kept) == _KEEP and least[k] > -kept[0]:
+                break
+            weighed[k] = weigh(k)
+            done.append(k)
+            if len(kept) < _KEEP:
+                heapq.heappush(kept, -weighed[k])
+            elif weighed[k] < -kept[0]:
+                heapq.heapreplace(kept, -weighed[k])
+    keep = sorted(done, key=lambda j: (weighed[j], j))[:_KEEP]
+    return keep, weighed
 
 
-def _holds_none(P: np.ndarray, R: np.ndarray, tones: tuple[int, ...]) -> np.ndarray:
-    """The candidates sounding none of the pitch classes ``tones``."""
-    return ~(np.isin(P % 12, tones) & ~R).any(axis=1)
-
-
-def root_costs(P: np.ndarray, chord: Chord, snd: list[tuple[int, float, tuple[int, ...]]]) -> np.ndarray:
-    """``root_bottom`` (nonzero: the filter of ``_voice_layer`` leaves the row out) for each
-    candidate whose lowest voice is not the chord's root (its bass for a slash chord), unless the lead section's lowest note at the chord's start is
-    that root, below it (common practice: a background states the chord from its root).
-    A resting voice carries the pitch above it, so the row's minimum is its lowest
-    sounding note."""
-    bass = chord.bass if chord.bass is not None else chord.root
-    low = P.min(axis=1)
-    wrong = low % 12 != bass % 12
+def _rooted(chord: Chord, snd: list[tuple[int, float, tuple[int, ...]]], weight: float
+            ) -> Callable[[tuple[int, ...]], bool]:
+    """Whether a candidate states the chord from its root (its bass for a slash chord): its
+    lowest voice is that root, or the lead section's lowest note at the chord's start is
+    that root and the candidate lies above it (common practice: a background states the
+    chord from its root).  A resting voice carries the pitch above it, so the row's minimum
+    is its lowest sounding note.  ``root_bottom`` = 0 (``layers.toml``) lets every one pass."""
+    bass = (chord.bass if chord.bass is not None else chord.root) % 12
     first = snd[0][2] if snd else ()
-    if first and min(first) % 12 == bass % 12:       # the section's own bass is the root
-        wrong &= ~(low > min(first))
-    return layer_rules().weight("root_bottom") * wrong
+    own = min(first) if first and min(first) % 12 == bass else None     # the section's own bass
+
+    def rooted(row: tuple[int, ...]) -> bool:       # the sounding voices, top to bottom
+        low = row[-1]
+        return weight == 0 or low % 12 == bass or (own is not None and low > own)
+    return rooted
 
 
 def _why(chord: Chord, row: tuple[int | None, ...], snd: list[tuple[int, float, tuple[int, ...]]],
@@ -514,16 +634,16 @@ def _findings(harmonized: Harmonized, voiced: Voiced, layer: Layer, notes: tuple
         return []
     bar_len = harmonized.line.meter.bar
     bars = [int(n.onset // bar_len) + 1 for n in notes]
-    R = np.array([[p is None for p in n.pitches] for n in notes], dtype=bool)
-    P = np.array([_filled(n.pitches) for n in notes], dtype=np.int64)
+    P = [_filled(n.pitches) for n in notes]
     ctx = [rules.context(n.chord, "spread") for n in notes]
     sec = layer.section
+    names = [p.name for p in sec.parts]
     name = f"layer {layer.index} ({layer.role}, {sec.name})"
     out = []
     first_event = [snd[0][0] if snd else None for snd in sounding]
-    for kind, i, part, msg, severity in rules.findings(P.tolist(), ctx, sec, bars=bars, allow_extreme=True,
+    for kind, i, part, msg, severity in rules.findings(P, ctx, sec, bars=bars, allow_extreme=True,
                                                        vtypes=["spread"] * len(notes)):
-        if R[i, [p.name for p in sec.parts].index(part)]:
+        if notes[i].pitches[names.index(part)] is None:
             continue        # a resting part carries its neighbour's pitch only for the checks
         out.append(LayerFinding(kind, first_event[i], part, f"{name}, {msg}", severity, None, i))
     for i, (n, snd) in enumerate(zip(notes, sounding, strict=True)):
@@ -534,27 +654,25 @@ def _findings(harmonized: Harmonized, voiced: Voiced, layer: Layer, notes: tuple
                 "layer-above-lead", first_event[i], sec.parts[top].name,
                 f"{name}, bar {bars[i]}: {sec.parts[top].name} {pitch_name(max(n.sounding))} sits at or "
                 f"above the lead section's lowest note {pitch_name(min(lows))}", "warning", None, i))
-        layer_row = np.array([_filled(n.pitches)], dtype=np.int64)
         seen: set[tuple[int, int, int, int]] = set()
         for e, _w, pitches in snd:
-            hits = clash_pairs(layer_row, np.array(pitches, dtype=np.int64), n.chord)[0]
-            for j, q in zip(*np.nonzero(hits), strict=True):
-                if n.pitches[int(j)] is None:
+            for j, a in enumerate(P[i]):
+                if n.pitches[j] is None:
                     continue
-                a, b = int(P[i, int(j)]), pitches[int(q)]
-                if (int(j), int(q), a, b) in seen:     # one finding per pair while the chord holds
-                    continue
-                seen.add((int(j), int(q), a, b))
-                kind = "clash-minor-second" if abs(a - b) == 1 else "clash-minor-ninth"
-                what = "a minor second" if abs(a - b) == 1 else (
-                    "a minor ninth" if abs(a - b) == 13 else "a compound minor ninth")
-                bar = int(voiced.events[e].event.note.onset // bar_len) + 1
-                out.append(LayerFinding(
-                    kind, e, sec.parts[int(j)].name,
-                    f"{name}, bar {bar}: {sec.parts[int(j)].name} {pitch_name(a)} against "
-                    f"{_lead_names(voiced, e)[int(q)]} {pitch_name(b)} of the lead section, {what} "
-                    f"sounding together (over {n.chord.symbol})", "warning",
-                    _lead_names(voiced, e)[int(q)], i))
+                for q, b in enumerate(pitches):
+                    if not clashes(a, b, n.chord) or (j, q, a, b) in seen:
+                        continue        # one finding per pair while the chord holds
+                    seen.add((j, q, a, b))
+                    kind = "clash-minor-second" if abs(a - b) == 1 else "clash-minor-ninth"
+                    what = "a minor second" if abs(a - b) == 1 else (
+                        "a minor ninth" if abs(a - b) == 13 else "a compound minor ninth")
+                    bar = int(voiced.events[e].event.note.onset // bar_len) + 1
+                    out.append(LayerFinding(
+                        kind, e, sec.parts[j].name,
+                        f"{name}, bar {bar}: {sec.parts[j].name} {pitch_name(a)} against "
+                        f"{_lead_names(voiced, e)[q]} {pitch_name(b)} of the lead section, {what} "
+                        f"sounding together (over {n.chord.symbol})", "warning",
+                        _lead_names(voiced, e)[q], i))
     return out
 
 
