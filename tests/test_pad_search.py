@@ -191,10 +191,14 @@ def test_solve_finds_the_cheapest_path() -> None:
         assert _plain_total(got, cands, rests, costs, motion, leap) == pytest.approx(best)
 
 
+@pytest.mark.parametrize("vector_pairs", [20_000, 1])
 @pytest.mark.parametrize("n, k, rest_share", [(3, 30, 0.0), (4, 60, 0.1), (5, 40, 0.3), (8, 30, 0.0), (9, 25, 0.2)])
-def test_solve_is_numpys_path_ties_included(n: int, k: int, rest_share: float) -> None:
+def test_solve_is_numpys_path_ties_included(n: int, k: int, rest_share: float, vector_pairs: int,
+                                            monkeypatch: pytest.MonkeyPatch) -> None:
     """The pruned search takes the path pricing every pair with numpy would, float sums and
-    ties (whole-number costs make many) alike."""
+    ties (whole-number costs make many) alike; so does its step for many pairs, priced all at
+    once (``vector_pairs`` = 1: every step)."""
+    monkeypatch.setattr(layers, "_VECTOR_PAIRS", vector_pairs)
     rng = np.random.default_rng(n * 100 + k)
     motion = layers.recipes().weight("motion")
     leap = layers.layer_rules().weight("leap")

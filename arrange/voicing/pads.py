@@ -12,9 +12,13 @@ A pad is thinned rather than let rub: when no full set of chord tones is free
 of minor seconds and minor ninths against every lead-section pitch sounding
 during the chord (:func:`safe_pcs`), :func:`candidates` adds thinner voicings
 of the clash-free tones only (a guide tone always among them), doubled in
-octaves or with lower parts resting (``rests``, a bool array beside the
-pitches; a resting voice carries the pitch of the voice above it so that the
-rule checks see the sounding intervals, and its own marks are cleared).
+octaves or with lower parts resting (a :class:`Group` says which parts sound; a
+resting part carries the pitch of the part above it so that the rule checks see
+the sounding intervals, and its own marks are left out).
+
+Plain Python, pruned: a voicing that cannot sit under the lead section is never
+placed (each stack's floor, the tops under the section), and the layer stage
+prices only the voicings that pass its rules before any cost.
 """
 from __future__ import annotations
 
@@ -132,7 +136,7 @@ def pc_sets(chord: Chord, n: int) -> list[tuple[tuple[int, ...], float]]:
     return out
 
 
-@lru_cache(maxsize=512)
+@lru_cache(maxsize=16384)
 def _rel_stacks(pcs: tuple[int, ...], n: int) -> tuple[tuple[int, tuple[int, ...], int], ...]:
     """The stacks of the multiset ``pcs`` (sorted) within the gap limits: each one's top
     pitch class, every voice's distance below the top, and the lowest top at which every
@@ -143,9 +147,9 @@ def _rel_stacks(pcs: tuple[int, ...], n: int) -> tuple[tuple[int, tuple[int, ...
     with too wide a gap is never placed.  Stacks are the same for every transposition of
     the tones (:func:`_stacks`)."""
     lr = layer_rules()
-    limits = rules.low_interval_limits()
     orders = set(permutations(pcs)) if n <= 5 else {pcs[i:] + pcs[:i] for i in range(n)}
     widths = (0, 12) if n <= 5 else (0,)
+    limit = [rules.low_limit(g) for g in range(25)]          # the rule's limit by gap
     out = []
     for order in orders:
         choices = []
@@ -158,13 +162,13 @@ def _rel_stacks(pcs: tuple[int, ...], n: int) -> tuple[tuple[int, tuple[int, ...
             floor = -(1 << 30)
             for g in gaps:
                 offsets.append(offsets[-1] + g)
-                if 1 <= g <= 24 and limits[g] >= 0 and limits[g] + offsets[-1] > floor:
-                    floor = limits[g] + offsets[-1]
+                # the lower note top - offset keeps the rule's limit (rules.below_limit)
+                floor = max(floor, (limit[g] if g < 25 else rules.low_limit(g)) + offsets[-1])
             out.append((order[0], tuple(offsets), floor))
     return tuple(out)
 
 
-@lru_cache(maxsize=1024)
+@lru_cache(maxsize=16384)
 def _stacks(pcs: tuple[int, ...], n: int) -> dict[int, tuple[tuple[tuple[int, ...], int], ...]]:
     """:func:`_rel_stacks` of ``pcs`` (sorted), read from its transposition that starts on 0,
     by top pitch class: each stack's distances below the top and floor, in ascending order
@@ -176,7 +180,7 @@ def _stacks(pcs: tuple[int, ...], n: int) -> dict[int, tuple[tuple[tuple[int, ..
     return {first: tuple(sorted(v)) for first, v in by_first.items()}
 
 
-@lru_cache(maxsize=16384)
+@lru_cache(maxsize=65536)
 def _at_top(pcs: tuple[int, ...], n: int, lo: int, top: int, fit: bool) -> tuple[tuple[int, ...], ...]:
     """The voicings (top to bottom, in descending order) of the multiset ``pcs`` from the top
     pitch ``top`` with the bottom at or above ``lo``; ``fit``: only those whose adjacent
@@ -192,7 +196,7 @@ def _tops(pcs: tuple[int, ...], hi: int) -> list[int]:
     return [t for t in range(hi, hi - 36, -1) if t % 12 in tones]
 
 
-@lru_cache(maxsize=2048)
+@lru_cache(maxsize=16384)
 def _shapes(pcs: tuple[int, ...], lo: int, hi: int, n: int) -> tuple[tuple[int, ...], ...]:
     """Every voicing (top to bottom, rows in descending order) of the multiset ``pcs``
     (:func:`_stacks`) from a top within the octave below ``hi``, or one or two octaves
@@ -389,8 +393,9 @@ def rule_cost(chord: Chord, section: Section, pitches: tuple[int, ...], rests: t
     ``rules.KINDS``: ranges, low-interval limits, crossing, minor ninths, doubling), a
     resting part's marks cleared (it carries its neighbour's pitch only for the checks)."""
     marks = rules.masks(pitches, rules.context(chord, "spread"), section)
-    if any(rests):
-        marks = {k: [m for m, r in zip(ms, rests, strict=True) if not r] for k, ms in marks.items()}
+    if True in rests:
+        plays = [j for j, r in enumerate(rests) if not r]
+        marks = {k: [ms[j] for j in plays] for k, ms in marks.items()}
     return rules.penalties(marks, weights)
 
 
