@@ -146,7 +146,7 @@ def _rest_cut(onset: Fraction, duration: Fraction, meter: Meter, pickup: Fractio
     return tuple(pieces(onset, duration, meter, pickup=pickup, rest=True))
 
 
-@dataclass(slots=True)
+@dataclass(slots=True, eq=False)
 class _Note:
     """A written note or rest of a staff, before it becomes XML."""
     offset: Fraction
@@ -158,7 +158,7 @@ class _Note:
     whole_bar: bool = False
 
 
-@dataclass(slots=True)
+@dataclass(slots=True, eq=False)
 class Staff:
     """One part's measures under construction (``line``: the rhythm stage's Line)."""
     line: object
