@@ -21,6 +21,7 @@ TYPES = {Q(4): ("whole", 0), Q(2): ("half", 0), Q(1): ("quarter", 0), Q(1, 2): (
           Q(3, 2): ("quarter", 1), Q(3, 4): ("eighth", 1), Q(3, 8): ("16th", 1), Q(3, 16): ("32nd", 1)}
 BEAMS = {"eighth": 1, "16th": 2, "32nd": 3}
 _LAST_TICK = Q(1, 96)     # a note's last moment: its end less the finest grid step
+_EIGHTH = Q(1, 2)
 
 def split_name(name: str) -> tuple[str, int, int]:
     """``Eb4`` -> ("E", -1, 4); the octave goes with the letter (``Cb4`` is B3's key)."""
@@ -78,11 +79,12 @@ def beams(notes: list[Any], meter: Meter, start: Fraction) -> dict[int, tuple[tu
     inside one beat are beamed; in 4/4 a half bar of four plain eighths is one group
     (common practice), never across the middle of the bar."""
     units = beat_units(meter)
-    if str(meter) == "4/4":
+    where = [start + n.offset for n in notes]         # each note's bar position, worked out once
+    if meter.numerator == 4 and meter.denominator == 4:
         halves = []
         for lo, hi in ((Q(0), Q(2)), (Q(2), Q(4))):
-            inside = [n for n in notes if lo <= start + n.offset < hi]
-            if len(inside) == 4 and all(n.name is not None and n.duration == Q(1, 2) for n in inside):
+            inside = [n for n, pos in zip(notes, where) if lo <= pos < hi]
+            if len(inside) == 4 and all(n.name is not None and n.duration == _EIGHTH for n in inside):
                 halves.append(lo + 1)
         units = [u for u in units if u not in halves]
 
@@ -97,7 +99,7 @@ def beams(notes: list[Any], meter: Meter, start: Fraction) -> dict[int, tuple[tu
         if n.name is None or kind is None or kind[0] not in BEAMS:
             prev_unit = None
             continue
-        pos = start + n.offset
+        pos = where[i]
         u = unit_of(pos)
         end_u = unit_of(pos + n.duration - _LAST_TICK)
         if u != end_u:

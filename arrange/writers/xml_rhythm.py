@@ -416,11 +416,10 @@ def rhythm_score_bytes(root: ET.Element, rs: RhythmSection, harmonized: Harmoniz
     """The score file of ``root`` (``musicxml.score_tree``, the score not yet written) with
     the rhythm parts appended below the others, in one bracketed group; indented by two
     spaces (the score alone is indented by one)."""
-    from arrange.writers.xml_document import HEAD
+    from arrange.writers.xml_document import HEAD, xml_text
 
     _append(root, rs, harmonized, first_channel, bass_names)
-    ET.indent(root, space="  ")
-    return HEAD + ET.tostring(root, encoding="unicode").encode("utf-8")
+    return HEAD + xml_text(root, "  ").encode("utf-8")
 
 
 def _append(root: ET.Element, rs: RhythmSection, harmonized: Harmonized, first_channel: int,
@@ -447,6 +446,8 @@ _HEAD = (b'<?xml version="1.0" encoding="UTF-8"?>\n'
 def rhythm_part_files(rs: RhythmSection | None, harmonized: Harmonized, title: str, tempo: float,
                       style: str, version: str = "", *, bass_names: tuple[str, ...] = ()) -> list[tuple[str, bytes]]:
     """One printable MusicXML file per rhythm part: ``(part name, bytes)``."""
+    from arrange.writers.xml_document import xml_text
+
     if rs is None:
         return []
     out = []
@@ -474,7 +475,6 @@ def rhythm_part_files(rs: RhythmSection | None, harmonized: Harmonized, title: s
             _sub(_sub(w, "direction-type"), "words", style).set("font-weight", "bold")
             first.insert(at, w)
         root.append(part)
-        ET.indent(root, space="  ")
         name = sp.findtext("part-name") or "Part"
-        out.append((name, _HEAD + ET.tostring(root, encoding="utf-8")))
+        out.append((name, _HEAD + xml_text(root, "  ").encode("utf-8")))
     return out
