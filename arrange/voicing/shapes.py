@@ -47,10 +47,16 @@ class Recipes:
     auto_steps: tuple[tuple[float, str], ...]
 
     def form(self, quality: str) -> tuple[int, ...] | None:
-        return dict(self.forms).get(quality)
+        return _tables(self)[0].get(quality)
 
     def weight(self, name: str) -> float:
-        return dict(self.weights)[name]
+        return _tables(self)[1][name]
+
+
+@lru_cache(maxsize=8)
+def _tables(rec: Recipes) -> tuple[dict[str, tuple[int, ...]], dict[str, float]]:
+    """A recipe's forms and weights as dicts, made once (the search asks for them often)."""
+    return dict(rec.forms), dict(rec.weights)
 
 
 # the voicing options a substitution may name (``[section]`` keys of the same name)
@@ -104,12 +110,14 @@ def _is_minor(chord: Chord) -> bool:
     return 3 in chord.intervals and 4 not in chord.intervals
 
 
+@lru_cache(maxsize=1024)
 def fifth_pc(chord: Chord) -> int:
     iv = {i % 12 for i in chord.intervals}
     fifth = 7 if 7 in iv else 6 if 6 in iv else 8 if 8 in iv else 7
     return (chord.root + fifth) % 12
 
 
+@lru_cache(maxsize=1024)
 def guide_tones(chord: Chord) -> tuple[int, ...]:
     """Pitch classes of the guide tones of ``chord``: the third (the 4th of a sus4 chord,
     the 2nd of a sus2), and the seventh (or the sixth)."""
