@@ -259,19 +259,20 @@ def _render_all(variants: list[Variant], formats: tuple[str, ...] | None,
     """Every combination built in memory, in order.  Each is independent of the others
     and most of each one's time is its own preview (verovio's layout and the PNG), so
     with ``count`` > 1 the combinations are shared among that many worker processes
-    (:func:`start_method`); the results, rows and file bytes, come back in combination
-    order whichever worker finishes first.  With 1, one after another in this process.
-    The PNGs are drawn last, once per distinct picture (:func:`_add_pngs`)."""
+    (:mod:`arrange.workers`, started by :func:`start_method`); the results, rows and file
+    bytes, come back in combination order whichever worker finishes first.  With 1, one
+    after another in this process.  The PNGs are drawn last, once per distinct picture
+    (:func:`_add_pngs`)."""
     global _JOBS
     _JOBS = (variants, formats)
     try:
         if count > 1:
             import gc
-            import multiprocessing
 
-            context = multiprocessing.get_context(start_method())
-            forked = context.get_start_method() == "fork"
-            if forked:
+            from arrange.workers import WorkerLost, Workers
+
+            method = start_method()
+            if method == "fork":
                 # the writers, verovio, resvg and mido are imported here, before the
                 # workers are forked, so that they start with them instead of each paying
                 # for them again; frozen, those objects stay out of the workers' garbage
@@ -279,16 +280,17 @@ def _render_all(variants: list[Variant], formats: tuple[str, ...] | None,
                 _preload(formats or ())
                 gc.collect()
                 gc.freeze()
-            start: tuple[Callable[..., None], tuple[Any, ...]] = (
-                (_worker_signals, ()) if forked else (_worker_start, (variants, formats)))
-            # leaving the block terminates the workers (Ctrl-C and SIGTERM are the
-            # parent's to handle: the workers ignore the one and die of the other)
+            start: tuple[Callable[..., None] | None, tuple[Any, ...]] = (
+                (None, ()) if method == "fork" else (_worker_start, (variants, formats)))
             try:
-                with context.Pool(count, initializer=start[0], initargs=start[1]) as pool:
-                    rendered = pool.map(_render_one, range(len(variants)), chunksize=1)
-                    return _add_pngs(variants, rendered, lambda svgs: pool.map(_png_of, svgs, chunksize=1))
+                with Workers(count, method, *start) as pool:
+                    rendered = pool.map(_render_one, range(len(variants)))
+                    return _add_pngs(variants, rendered, lambda svgs: pool.map(_png_of, svgs))
+            except WorkerLost as err:
+                raise WorkerLost(f"{err}; nothing was written (--jobs 1 builds every combination "
+                                 "in this process)") from None
             finally:
-                if forked:
+                if method == "fork":
                     gc.unfreeze()
         rendered = [_render_one(i) for i in range(len(variants))]
         return _add_pngs(variants, rendered, lambda svgs: [_png_of(s) for s in svgs])
@@ -346,17 +348,9 @@ def _preload(formats: tuple[str, ...]) -> None:
 
 
 def _worker_start(variants: list[Variant], formats: tuple[str, ...] | None) -> None:
-    """A spawned worker: the combinations (sent once), then the signals as a forked one."""
+    """A spawned worker: the combinations, sent to it once (a forked one inherits them)."""
     global _JOBS
     _JOBS = (variants, formats)
-    _worker_signals()
-
-
-def _worker_signals() -> None:
-    import signal
-
-    signal.signal(signal.SIGINT, signal.SIG_IGN)
-    signal.signal(signal.SIGTERM, signal.SIG_DFL)
 
 
 def _row(var: Variant, voiced: Any, layers: Any, files: dict[str, bytes]) -> dict[str, Any]:

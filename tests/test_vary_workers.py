@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import json
 import os
+import signal
 import subprocess
 import sys
 from pathlib import Path
@@ -164,3 +165,107 @@ def test_an_unplayable_combination_stops_every_worker_count_alike(project: Path)
         assert snapshot(out) == old
         results[jobs] = r.stderr
     assert results["1"] == results["2"]
+
+
+# Faults injected from the test side only: the child process's combination builder is
+# wrapped to kill its own worker (SIGKILL, as the kernel's out-of-memory killer does),
+# to raise, or to wait, before the real builder runs.
+_WRAP = """
+import os, signal, sys, time
+from pathlib import Path
+import arrange.variants as V
+mode, mark = sys.argv[1], Path(sys.argv[2])
+real, parent = V._render_one, os.getpid()
+def injected(i):
+    if os.getpid() != parent and mode == "kill" and i == 2:
+        os.kill(os.getpid(), signal.SIGKILL)
+    if os.getpid() != parent and mode == "wait":
+        (mark / str(os.getpid())).write_text(str(i))
+        time.sleep(120)
+    if mode == "fault" and i == 2:
+        raise ValueError("injected fault in combination 3")
+    return real(i)
+V._render_one = injected
+from arrange.cli import main
+main(sys.argv[3:])
+"""
+
+
+def _injected(project: Path, mode: str, out: Path, jobs: str) -> subprocess.Popen:
+    mark = project / f"mark-{mode}-{jobs}"
+    mark.mkdir(exist_ok=True)
+    env = {**os.environ, "PYTHONPATH": str(Path(variants.__file__).parent.parent)}
+    return subprocess.Popen([sys.executable, "-c", _WRAP, mode, str(mark), "build", str(project / "p.toml"),
+                             "-o", str(out), "--formats", "musicxml", *GOOD, "--jobs", jobs],
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=env,
+                            start_new_session=True)
+
+
+def _finished(child: subprocess.Popen, timeout: float) -> tuple[str, str]:
+    """The child's output once it has ended; a child that hangs fails the test, and it and
+    its workers (its own process group) are killed."""
+    try:
+        return child.communicate(timeout=timeout)
+    except subprocess.TimeoutExpired:
+        os.killpg(child.pid, signal.SIGKILL)
+        child.communicate()
+        raise AssertionError(f"hung: still running after {timeout:.0f} s") from None
+
+
+def test_a_killed_worker_ends_the_run_with_one_line_and_nothing_written(project: Path) -> None:
+    """A worker killed mid-run (SIGKILL, POSIX signal 9): the run does not wait for the
+    lost combination; exit 1 (an internal fault, not bad input), one line naming it."""
+    out = project / "killed"
+    child = _injected(project, "kill", out, "2")
+    stdout, stderr = _finished(child, 120)
+    assert child.returncode == 1, stderr
+    lines = [ln for ln in stderr.splitlines() if ln.startswith("arrange:")]
+    assert len(lines) == 1, stderr
+    assert "worker process" in lines[0] and "SIGKILL" in lines[0] and "nothing was written" in lines[0]
+    assert "Traceback" not in stderr and stdout == ""
+    assert not out.exists()
+
+
+def test_a_fault_in_one_combination_reads_alike_with_one_worker_or_two(project: Path) -> None:
+    said = {}
+    for jobs in ("1", "2"):
+        out = project / f"fault{jobs}"
+        child = _injected(project, "fault", out, jobs)
+        stdout, stderr = _finished(child, 120)
+        assert child.returncode == 1, stderr
+        lines = [ln for ln in stderr.splitlines() if ln.startswith("arrange:")]
+        assert len(lines) == 1 and "ValueError: injected fault in combination 3" in lines[0], stderr
+        assert not out.exists() and stdout == ""
+        said[jobs] = lines[0]
+    assert said["1"] == said["2"]
+
+
+@pytest.mark.parametrize(("sig", "code"), [(signal.SIGINT, 130), (signal.SIGTERM, 143)],
+                         ids=["ctrl-c", "sigterm"])
+def test_an_interrupted_run_ends_its_workers(project: Path, sig: int, code: int) -> None:
+    """Ctrl-C (to the process group, as a terminal sends it) or SIGTERM (to the command)
+    while both workers build: exit 128 + the signal number (the shell's convention), the
+    workers gone with it, nothing written."""
+    import time
+
+    out = project / f"interrupted{int(sig)}"
+    child = _injected(project, "wait", out, "2")
+    mark = project / "mark-wait-2"
+    deadline = time.monotonic() + 120
+    while len(list(mark.iterdir())) < 2 and time.monotonic() < deadline and child.poll() is None:
+        time.sleep(0.05)
+    pids = [int(p.name) for p in mark.iterdir()]
+    if len(pids) != 2:
+        os.killpg(child.pid, signal.SIGKILL)
+        raise AssertionError(f"workers never started: {_finished(child, 30)[1][-600:]}")
+    if sig == signal.SIGINT:         # the terminal sends Ctrl-C to the whole process group
+        os.killpg(child.pid, sig)
+    else:                            # `kill PID`: the command alone
+        child.send_signal(sig)
+    stdout, stderr = _finished(child, 30)
+    assert child.returncode == code, stderr
+    for pid in pids:
+        with pytest.raises(ProcessLookupError):
+            os.kill(pid, 0)
+        (mark / str(pid)).unlink()
+    assert not out.exists()
