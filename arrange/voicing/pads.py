@@ -52,7 +52,13 @@ class LayerRules:
         return dict(self.defaults)[name]
 
     def weight(self, name: str) -> float:
-        return dict(self.weights)[name]
+        return _weights(self)[name]
+
+
+@lru_cache(maxsize=8)
+def _weights(lr: LayerRules) -> dict[str, float]:
+    """The layer weights as a dict, made once (the search asks for them often)."""
+    return dict(lr.weights)
 
 
 @lru_cache(maxsize=1)
@@ -194,15 +200,22 @@ def _rel_stacks(pcs: tuple[int, ...], n: int) -> tuple[tuple[int, tuple[int, ...
 
 
 @lru_cache(maxsize=16384)
-def _stacks(pcs: tuple[int, ...], n: int) -> dict[int, tuple[tuple[tuple[int, ...], int], ...]]:
-    """:func:`_rel_stacks` of ``pcs`` (sorted), read from its transposition that starts on 0,
-    by top pitch class: each stack's distances below the top and floor, in ascending order
-    of distances (so the voicings from one top come out in descending order of pitches)."""
-    k = pcs[0]
+def _rel_by_first(pcs: tuple[int, ...], n: int) -> dict[int, tuple[tuple[tuple[int, ...], int], ...]]:
+    """:func:`_rel_stacks` by top pitch class: each stack's distances below the top and
+    floor, in ascending order of distances (so the voicings from one top come out in
+    descending order of pitches)."""
     by_first: dict[int, list[tuple[tuple[int, ...], int]]] = {}
-    for first, offsets, floor in _rel_stacks(tuple(p - k for p in pcs), n):
-        by_first.setdefault((first + k) % 12, []).append((offsets, floor))
+    for first, offsets, floor in _rel_stacks(pcs, n):
+        by_first.setdefault(first, []).append((offsets, floor))
     return {first: tuple(sorted(v)) for first, v in by_first.items()}
+
+
+@lru_cache(maxsize=16384)
+def _stacks(pcs: tuple[int, ...], n: int) -> dict[int, tuple[tuple[tuple[int, ...], int], ...]]:
+    """The stacks of the multiset ``pcs`` (sorted) by top pitch class (:func:`_rel_by_first`
+    of the transposition of ``pcs`` that starts on 0)."""
+    k = pcs[0]
+    return {(first + k) % 12: v for first, v in _rel_by_first(tuple(p - k for p in pcs), n).items()}
 
 
 @lru_cache(maxsize=65536)
@@ -214,11 +227,12 @@ def _at_top(pcs: tuple[int, ...], n: int, lo: int, top: int, fit: bool) -> tuple
                  if top - offsets[-1] >= lo and (not fit or top >= floor))
 
 
-def _tops(pcs: tuple[int, ...], hi: int) -> list[int]:
+@lru_cache(maxsize=16384)
+def _tops(pcs: tuple[int, ...], hi: int) -> tuple[int, ...]:
     """The tops a voicing of ``pcs`` may have (descending): a tone of the set within the
     octave below ``hi``, or one or two octaves lower."""
     tones = set(pcs)
-    return [t for t in range(hi, hi - 36, -1) if t % 12 in tones]
+    return tuple(t for t in range(hi, hi - 36, -1) if t % 12 in tones)
 
 
 @lru_cache(maxsize=16384)
@@ -356,8 +370,10 @@ def _groups(chord: Chord, section: Section, safe: tuple[int, ...] | None) -> tup
 
 def _has_shape(g: Group) -> bool:
     """Some stack of the group's tones fits between its parts' ``lo`` and ``hi``."""
-    return any(g.hi - (g.hi - first) % 12 - offsets[-1] >= g.lo
-               for first, stacks in _stacks(g.pcs, len(g.sounding)).items() for offsets, _floor in stacks)
+    k = g.pcs[0]
+    return any(g.hi - (g.hi - first - k) % 12 - offsets[-1] >= g.lo
+               for first, stacks in _rel_by_first(tuple(p - k for p in g.pcs), len(g.sounding)).items()
+               for offsets, _floor in stacks)
 
 
 def candidates(chord: Chord, section: Section, lead: tuple[int, ...] = (),
@@ -383,16 +399,12 @@ def candidates(chord: Chord, section: Section, lead: tuple[int, ...] = (),
     lows = tuple(sorted(set(lows)))
     ceiling = min(lows, default=max(g.hi for g in groups) + 1)
     floor = min(g.lo for g in groups)
-    allowed = [t for t in range(ceiling - 1, floor - 1, -1) if not any(rules.below_limit(low, t) for low in lows)]
+    allowed = {t for t in range(ceiling - 1, floor - 1, -1) if not any(rules.below_limit(low, t) for low in lows)}
     for g in groups:
-        t_n, lo, hi, tones = len(g.sounding), g.lo, g.hi, set(g.pcs)
+        t_n, lo = len(g.sounding), g.lo
         rows: tuple[tuple[int, ...], ...] = ()
-        for top in allowed:
-            if top > hi:
-                continue
-            if top <= hi - 36:
-                break
-            if top % 12 in tones:
+        for top in _tops(g.pcs, g.hi):
+            if top in allowed:
                 rows += _at_top(g.pcs, t_n, lo, top, True)
         if rows:
             out.append((g, rows))
