@@ -80,6 +80,7 @@ def _serve(conn: Any, inherited: list[Any], initializer: Callable[..., None] | N
                 conn.send((False, _portable(err)))
         except OSError:
             return
+        del task, fn, item, reply        # the last result is not kept while waiting for the next task
 
 
 class Workers:
