@@ -25,7 +25,7 @@ from __future__ import annotations
 from collections.abc import Callable
 from dataclasses import dataclass
 from functools import lru_cache
-from itertools import combinations, combinations_with_replacement, permutations, product
+from itertools import combinations, combinations_with_replacement
 
 from arrange.errors import VoicingError
 from arrange.theory.chords import Chord
@@ -147,24 +147,49 @@ def _rel_stacks(pcs: tuple[int, ...], n: int) -> tuple[tuple[int, tuple[int, ...
     with too wide a gap is never placed.  Stacks are the same for every transposition of
     the tones (:func:`_stacks`)."""
     lr = layer_rules()
-    orders = set(permutations(pcs)) if n <= 5 else {pcs[i:] + pcs[:i] for i in range(n)}
-    widths = (0, 12) if n <= 5 else (0,)
-    limit = [rules.low_limit(g) for g in range(25)]          # the rule's limit by gap
-    out = []
-    for order in orders:
-        choices = []
-        for j, (a, b) in enumerate(zip(order, order[1:])):
-            close = (a - b) % 12 or 12
-            most = lr.max_bottom_gap if j == n - 2 else lr.max_gap
-            choices.append([close + w for w in widths if close + w <= most])
-        for gaps in product(*choices):
+    limit = [rules.low_limit(g) for g in range(25)]          # the rule's limit by gap (at most 24 here)
+    out: list[tuple[int, tuple[int, ...], int]] = []
+    if n > 5:       # rotations of the tones, close
+        for order in {pcs[i:] + pcs[:i] for i in range(n)}:
+            gaps = [(a - b) % 12 or 12 for a, b in zip(order, order[1:])]
+            if n > 1 and (max(gaps[:-1], default=0) > lr.max_gap or gaps[-1] > lr.max_bottom_gap):
+                continue
             offsets = [0]
             floor = -(1 << 30)
             for g in gaps:
                 offsets.append(offsets[-1] + g)
                 # the lower note top - offset keeps the rule's limit (rules.below_limit)
-                floor = max(floor, (limit[g] if g < 25 else rules.low_limit(g)) + offsets[-1])
+                floor = max(floor, limit[g] + offsets[-1])
             out.append((order[0], tuple(offsets), floor))
+        return tuple(out)
+    left = {pc: pcs.count(pc) for pc in pcs}
+    offsets = [0]
+
+    def walk(first: int, above: int, floor: int) -> None:
+        """Every order of the tones ``left`` stacked under the voice ``above`` (each tone
+        once per copy: the multiset's distinct orders), close or an octave open."""
+        depth = len(offsets)
+        if depth == n:
+            out.append((first, tuple(offsets), floor))
+            return
+        most = lr.max_bottom_gap if depth == n - 1 else lr.max_gap
+        for pc, k in left.items():
+            if not k:
+                continue
+            left[pc] = k - 1
+            for g in ((above - pc) % 12 or 12, ((above - pc) % 12 or 12) + 12):
+                if g > most:
+                    break
+                offsets.append(offsets[-1] + g)
+                # the lower note top - offset keeps the rule's limit (rules.below_limit)
+                walk(first, pc, max(floor, limit[g] + offsets[-1]))
+                offsets.pop()
+            left[pc] = k
+
+    for pc in list(left):
+        left[pc] -= 1
+        walk(pc, pc, -(1 << 30))
+        left[pc] += 1
     return tuple(out)
 
 
