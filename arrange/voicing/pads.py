@@ -31,11 +31,11 @@ from arrange.errors import VoicingError
 from arrange.theory.chords import Chord
 from arrange.voicing import rules
 from arrange.voicing.sections import Section, read_rules
-from arrange.voicing.shapes import fifth_pc, recipes
+from arrange.voicing.shapes import fifth_pc
 
 __all__ = ["LayerRules", "layer_rules", "tone_order", "pc_sets", "safe_pcs", "rubs", "thinned_sets",
            "room_sets", "Group", "candidates", "rule_cost", "cross_cost", "clashes", "clash_table",
-           "clash_count", "fits_under", "velocity"]
+           "fits_under", "velocity"]
 
 
 @dataclass(frozen=True, slots=True, eq=False)
@@ -464,12 +464,6 @@ def clash_table(pitches: tuple[int, ...], chord: Chord) -> dict[int, int]:
                     out[v] = out.get(v, 0) + k
                 v += 12 if v > q else -12
     return out
-
-
-def clash_count(row: tuple[int, ...], table: dict[int, int]) -> int:
-    """The (voice, lead pitch) clashes of a voicing's sounding voices ``row`` (``table``:
-    :func:`clash_table`)."""
-    return sum([table.get(p, 0) for p in row])
 
 
 def cross_cost(sounding: list[tuple[float, tuple[int, ...]]], tables: list[dict[int, int]]
