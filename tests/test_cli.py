@@ -80,7 +80,8 @@ def test_help_and_chain_do_not_import_music21_or_numpy() -> None:
 NOT_FOR_SCORE_AND_MIDI = ("click", "music21", "numpy", "verovio", "resvg_py", "arrange.writers.preview",
                           "arrange.writers.pdf", "arrange.writers.report", "arrange.chain.design",
                           "arrange.chain.kernel", "arrange.chain.spec",
-                          "arrange.inputs.melody_file", "arrange.voicing.layers", "arrange.voicing.pads",
+                          "arrange.inputs.melody_file", "arrange.voicing.layers", "arrange.voicing.layer_search",
+                          "arrange.voicing.pads",
                           "arrange.rhythm_section.section", "arrange.rhythm_section.values",
                           "arrange.writers.xml_rhythm", "arrange.writers.xml_layers", "secrets")
 

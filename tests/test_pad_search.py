@@ -20,7 +20,7 @@ import pytest
 from conftest import BASIC, run_cli, write_project
 
 from arrange.theory.chords import parse_chord
-from arrange.voicing import layers, pads
+from arrange.voicing import layer_search, pads
 from arrange.voicing.sections import get_section
 
 
@@ -129,14 +129,14 @@ def test_motion_gives_numpy_sums_exactly() -> None:
     under eight voices, pairwise from eight on: numpy's own float sums), resting voices free."""
     rng = np.random.default_rng(3)
     motion, leap = 0.37, 0.713                       # weights with no exact binary form
-    table = layers._step_table(motion, leap, 60)
+    table = layer_search.step_table(motion, leap, 60)
     for n in range(1, 14):
         a, b = rng.integers(30, 90, (40, n)), rng.integers(30, 90, (40, n))
         ra, rb = rng.random((40, n)) < 0.2, rng.random((40, n)) < 0.1
         d = np.abs(a[:, None, :] - b[None, :, :])
         plays = ~(ra[:, None, :] | rb[None, :, :])
         want = ((motion * d + leap * np.clip(d - 2, 0, None)) * plays).sum(axis=2)
-        got = [[layers._motion(tuple(x.tolist()), tuple(p.tolist()), tuple(y.tolist()), tuple(q.tolist()), table)
+        got = [[layer_search.step_cost(tuple(x.tolist()), tuple(p.tolist()), tuple(y.tolist()), tuple(q.tolist()), table)
                 for y, q in zip(b, rb, strict=True)] for x, p in zip(a, ra, strict=True)]
         assert got == want.tolist(), n
 
@@ -182,12 +182,12 @@ def _random_layer(rng, chords: int, k: int, n: int, rest_share: float, whole_cos
 
 def test_solve_finds_the_cheapest_path() -> None:
     rng = np.random.default_rng(7)
-    motion = layers.recipes().weight("motion")
-    leap = layers.layer_rules().weight("leap")
+    motion = layer_search.recipes().weight("motion")
+    leap = pads.layer_rules().weight("leap")
     for _trial in range(20):
         cands, rests, costs = _random_layer(rng, 4, 4, 3, 0.15, False)
         best = min(_plain_total(p, cands, rests, costs, motion, leap) for p in product(range(4), repeat=4))
-        got = layers._solve(cands, costs, rests)
+        got = layer_search.solve(cands, costs, rests)
         assert _plain_total(got, cands, rests, costs, motion, leap) == pytest.approx(best)
 
 
@@ -198,13 +198,13 @@ def test_solve_is_numpys_path_ties_included(n: int, k: int, rest_share: float, v
     """The pruned search takes the path pricing every pair with numpy would, float sums and
     ties (whole-number costs make many) alike; so does its step for many pairs, priced all at
     once (``vector_pairs`` = 1: every step)."""
-    monkeypatch.setattr(layers, "_VECTOR_PAIRS", vector_pairs)
+    monkeypatch.setattr(layer_search, "VECTOR_PAIRS", vector_pairs)
     rng = np.random.default_rng(n * 100 + k)
-    motion = layers.recipes().weight("motion")
-    leap = layers.layer_rules().weight("leap")
+    motion = layer_search.recipes().weight("motion")
+    leap = pads.layer_rules().weight("leap")
     for _trial in range(3):
         cands, rests, costs = _random_layer(rng, 6, k, n, rest_share, True)
-        assert layers._solve(cands, costs, rests) == _numpy_solve(cands, costs, rests, motion, leap)
+        assert layer_search.solve(cands, costs, rests) == _numpy_solve(cands, costs, rests, motion, leap)
 
 
 def test_cli_pad_unchanged_when_built_twice(tmp_path) -> None:

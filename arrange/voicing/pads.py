@@ -157,7 +157,7 @@ def _rel_stacks(pcs: tuple[int, ...], n: int) -> tuple[tuple[int, tuple[int, ...
     out: list[tuple[int, tuple[int, ...], int]] = []
     if n > 5:       # rotations of the tones, close
         for order in {pcs[i:] + pcs[:i] for i in range(n)}:
-            gaps = [(a - b) % 12 or 12 for a, b in zip(order, order[1:])]
+            gaps = [(a - b) % 12 or 12 for a, b in zip(order, order[1:], strict=False)]
             if n > 1 and (max(gaps[:-1], default=0) > lr.max_gap or gaps[-1] > lr.max_bottom_gap):
                 continue
             offsets = [0]
@@ -419,7 +419,7 @@ def fits_under(pitches: tuple[int, ...], lows: tuple[int, ...]) -> bool:
     adjacent sounding voices below their limit (``voicing_rules/limits.toml``), nor the top
     below the limit of its interval to each of ``lows``."""
     top = pitches[0]
-    return (not any(rules.below_limit(u, w) for u, w in zip(pitches, pitches[1:]))
+    return (not any(rules.below_limit(u, w) for u, w in zip(pitches, pitches[1:], strict=False))
             and all(low > top and not rules.below_limit(low, top) for low in lows))
 
 
