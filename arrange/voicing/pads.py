@@ -25,7 +25,7 @@ from __future__ import annotations
 from collections.abc import Callable
 from dataclasses import dataclass
 from functools import lru_cache
-from itertools import combinations, combinations_with_replacement, permutations, product
+from itertools import combinations, combinations_with_replacement
 
 from arrange.errors import VoicingError
 from arrange.theory.chords import Chord
@@ -52,7 +52,13 @@ class LayerRules:
         return dict(self.defaults)[name]
 
     def weight(self, name: str) -> float:
-        return dict(self.weights)[name]
+        return _weights(self)[name]
+
+
+@lru_cache(maxsize=8)
+def _weights(lr: LayerRules) -> dict[str, float]:
+    """The layer weights as a dict, made once (the search asks for them often)."""
+    return dict(lr.weights)
 
 
 @lru_cache(maxsize=1)
@@ -147,37 +153,69 @@ def _rel_stacks(pcs: tuple[int, ...], n: int) -> tuple[tuple[int, tuple[int, ...
     with too wide a gap is never placed.  Stacks are the same for every transposition of
     the tones (:func:`_stacks`)."""
     lr = layer_rules()
-    orders = set(permutations(pcs)) if n <= 5 else {pcs[i:] + pcs[:i] for i in range(n)}
-    widths = (0, 12) if n <= 5 else (0,)
-    limit = [rules.low_limit(g) for g in range(25)]          # the rule's limit by gap
-    out = []
-    for order in orders:
-        choices = []
-        for j, (a, b) in enumerate(zip(order, order[1:])):
-            close = (a - b) % 12 or 12
-            most = lr.max_bottom_gap if j == n - 2 else lr.max_gap
-            choices.append([close + w for w in widths if close + w <= most])
-        for gaps in product(*choices):
+    limit = [rules.low_limit(g) for g in range(25)]          # the rule's limit by gap (at most 24 here)
+    out: list[tuple[int, tuple[int, ...], int]] = []
+    if n > 5:       # rotations of the tones, close
+        for order in {pcs[i:] + pcs[:i] for i in range(n)}:
+            gaps = [(a - b) % 12 or 12 for a, b in zip(order, order[1:])]
+            if n > 1 and (max(gaps[:-1], default=0) > lr.max_gap or gaps[-1] > lr.max_bottom_gap):
+                continue
             offsets = [0]
             floor = -(1 << 30)
             for g in gaps:
                 offsets.append(offsets[-1] + g)
                 # the lower note top - offset keeps the rule's limit (rules.below_limit)
-                floor = max(floor, (limit[g] if g < 25 else rules.low_limit(g)) + offsets[-1])
+                floor = max(floor, limit[g] + offsets[-1])
             out.append((order[0], tuple(offsets), floor))
+        return tuple(out)
+    left = {pc: pcs.count(pc) for pc in pcs}
+    offsets = [0]
+
+    def walk(first: int, above: int, floor: int) -> None:
+        """Every order of the tones ``left`` stacked under the voice ``above`` (each tone
+        once per copy: the multiset's distinct orders), close or an octave open."""
+        depth = len(offsets)
+        if depth == n:
+            out.append((first, tuple(offsets), floor))
+            return
+        most = lr.max_bottom_gap if depth == n - 1 else lr.max_gap
+        for pc, k in left.items():
+            if not k:
+                continue
+            left[pc] = k - 1
+            for g in ((above - pc) % 12 or 12, ((above - pc) % 12 or 12) + 12):
+                if g > most:
+                    break
+                offsets.append(offsets[-1] + g)
+                # the lower note top - offset keeps the rule's limit (rules.below_limit)
+                walk(first, pc, max(floor, limit[g] + offsets[-1]))
+                offsets.pop()
+            left[pc] = k
+
+    for pc in list(left):
+        left[pc] -= 1
+        walk(pc, pc, -(1 << 30))
+        left[pc] += 1
     return tuple(out)
 
 
 @lru_cache(maxsize=16384)
-def _stacks(pcs: tuple[int, ...], n: int) -> dict[int, tuple[tuple[tuple[int, ...], int], ...]]:
-    """:func:`_rel_stacks` of ``pcs`` (sorted), read from its transposition that starts on 0,
-    by top pitch class: each stack's distances below the top and floor, in ascending order
-    of distances (so the voicings from one top come out in descending order of pitches)."""
-    k = pcs[0]
+def _rel_by_first(pcs: tuple[int, ...], n: int) -> dict[int, tuple[tuple[tuple[int, ...], int], ...]]:
+    """:func:`_rel_stacks` by top pitch class: each stack's distances below the top and
+    floor, in ascending order of distances (so the voicings from one top come out in
+    descending order of pitches)."""
     by_first: dict[int, list[tuple[tuple[int, ...], int]]] = {}
-    for first, offsets, floor in _rel_stacks(tuple(p - k for p in pcs), n):
-        by_first.setdefault((first + k) % 12, []).append((offsets, floor))
+    for first, offsets, floor in _rel_stacks(pcs, n):
+        by_first.setdefault(first, []).append((offsets, floor))
     return {first: tuple(sorted(v)) for first, v in by_first.items()}
+
+
+@lru_cache(maxsize=16384)
+def _stacks(pcs: tuple[int, ...], n: int) -> dict[int, tuple[tuple[tuple[int, ...], int], ...]]:
+    """The stacks of the multiset ``pcs`` (sorted) by top pitch class (:func:`_rel_by_first`
+    of the transposition of ``pcs`` that starts on 0)."""
+    k = pcs[0]
+    return {(first + k) % 12: v for first, v in _rel_by_first(tuple(p - k for p in pcs), n).items()}
 
 
 @lru_cache(maxsize=65536)
@@ -189,11 +227,12 @@ def _at_top(pcs: tuple[int, ...], n: int, lo: int, top: int, fit: bool) -> tuple
                  if top - offsets[-1] >= lo and (not fit or top >= floor))
 
 
-def _tops(pcs: tuple[int, ...], hi: int) -> list[int]:
+@lru_cache(maxsize=16384)
+def _tops(pcs: tuple[int, ...], hi: int) -> tuple[int, ...]:
     """The tops a voicing of ``pcs`` may have (descending): a tone of the set within the
     octave below ``hi``, or one or two octaves lower."""
     tones = set(pcs)
-    return [t for t in range(hi, hi - 36, -1) if t % 12 in tones]
+    return tuple(t for t in range(hi, hi - 36, -1) if t % 12 in tones)
 
 
 @lru_cache(maxsize=16384)
@@ -331,8 +370,10 @@ def _groups(chord: Chord, section: Section, safe: tuple[int, ...] | None) -> tup
 
 def _has_shape(g: Group) -> bool:
     """Some stack of the group's tones fits between its parts' ``lo`` and ``hi``."""
-    return any(g.hi - (g.hi - first) % 12 - offsets[-1] >= g.lo
-               for first, stacks in _stacks(g.pcs, len(g.sounding)).items() for offsets, _floor in stacks)
+    k = g.pcs[0]
+    return any(g.hi - (g.hi - first - k) % 12 - offsets[-1] >= g.lo
+               for first, stacks in _rel_by_first(tuple(p - k for p in g.pcs), len(g.sounding)).items()
+               for offsets, _floor in stacks)
 
 
 def candidates(chord: Chord, section: Section, lead: tuple[int, ...] = (),
@@ -358,16 +399,12 @@ def candidates(chord: Chord, section: Section, lead: tuple[int, ...] = (),
     lows = tuple(sorted(set(lows)))
     ceiling = min(lows, default=max(g.hi for g in groups) + 1)
     floor = min(g.lo for g in groups)
-    allowed = [t for t in range(ceiling - 1, floor - 1, -1) if not any(rules.below_limit(low, t) for low in lows)]
+    allowed = {t for t in range(ceiling - 1, floor - 1, -1) if not any(rules.below_limit(low, t) for low in lows)}
     for g in groups:
-        t_n, lo, hi, tones = len(g.sounding), g.lo, g.hi, set(g.pcs)
+        t_n, lo = len(g.sounding), g.lo
         rows: tuple[tuple[int, ...], ...] = ()
-        for top in allowed:
-            if top > hi:
-                continue
-            if top <= hi - 36:
-                break
-            if top % 12 in tones:
+        for top in _tops(g.pcs, g.hi):
+            if top in allowed:
                 rows += _at_top(g.pcs, t_n, lo, top, True)
         if rows:
             out.append((g, rows))
