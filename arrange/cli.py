@@ -130,6 +130,22 @@ _whole.__name__ = "whole number"
 WHOLE = _whole
 
 
+def _jobs(text: str) -> int:
+    """``--jobs``: a count of worker processes, 1 or more (ASCII digits, as :func:`_whole`)."""
+    from arrange.checked import whole
+    from arrange.exits import one_line
+
+    n = whole(text)
+    if n is not None and n >= 1:
+        return n
+    raise argparse.ArgumentTypeError(f"{one_line(repr(text))} is not a number of worker processes: "
+                                     "a whole number 1 or more (1 builds the combinations in this "
+                                     "process), e.g. 2")
+
+
+_jobs.__name__ = "number of worker processes"
+
+
 def _file(text: str) -> Path:
     """A file name (the file need not exist yet); an existing folder is refused."""
     path = Path(text)
@@ -369,13 +385,17 @@ def _chain_table(c: Any) -> str:
 @option("--vary", dest="vary", action="append", default=None, metavar="KEY=V1,V2",
         help="Build every combination into its own folder, with DIR/variants.md "
         "(e.g. voicing=close,drop2; repeatable).")
+@option("--jobs", dest="jobs", default=None, type=_jobs, metavar="N",
+        help="With --vary: build the combinations in N worker processes (default: one per "
+        "processor, at most one per combination; 1 builds them in this process).")
 @option("--transpose", dest="move", default=None, metavar="SEMITONES|KEY",
         help='Move the whole project: by semitones (-3, +5), or to a key ("Ab major", '
         "in the octave that keeps the lead in range).")
 @guarded
 def build(project: Path, out_dir: Path, formats: str | None, parts: bool | None,
           analysis: bool | None, audio: bool | None, vary: Sequence[str] | None = None,
-          move: str | None = None, pdf: bool = False, paper: str | None = None) -> None:
+          move: str | None = None, pdf: bool = False, paper: str | None = None,
+          jobs: int | None = None) -> None:
     """Build PROJECT.toml into score, MIDI and report files in the output folder."""
     vary = tuple(vary or ())
     from arrange.project import load_project
@@ -397,7 +417,7 @@ def build(project: Path, out_dir: Path, formats: str | None, parts: bool | None,
         from arrange.variants import build_variants
 
         echo(f"{proj.title}: every combination of {len(vary)} varied keys ...", err=True)
-        for p in build_variants(project, vary, out_dir, fmts, adjust=adjust):
+        for p in build_variants(project, vary, out_dir, fmts, adjust=adjust, jobs=jobs):
             echo(str(p))
         return
     _build_one(proj, out_dir, fmts, label=proj.title)

@@ -26,7 +26,7 @@ from arrange.rhythm.groove import GROOVE_ONLY
 from arrange.theory.pitch import pitch_name
 
 __all__ = ["SHORT", "Vary", "parse_vary", "expand", "Variant", "build_variants", "variants_markdown",
-           "MAX_VARIANTS"]
+           "MAX_VARIANTS", "processors", "workers", "start_method"]
 
 # short names an arranger types, and the dotted key each stands for
 SHORT = {
@@ -169,8 +169,10 @@ def _read(data: dict[str, Any], where: str, path: Path | None, vary_where: str) 
 
 def build_variants(project_path: Path, specs: tuple[str, ...], out_dir: Path,
                    formats: tuple[str, ...] | None = None,
-                   adjust: Callable[[Project], Project] | None = None) -> list[Path]:
-    """Build every combination into ``out_dir/<folder>/`` and write ``variants.md``."""
+                   adjust: Callable[[Project], Project] | None = None,
+                   jobs: int | None = None) -> list[Path]:
+    """Build every combination into ``out_dir/<folder>/`` and write ``variants.md``;
+    ``jobs``: worker processes (None: one per processor, see :func:`workers`)."""
     from arrange.writers.files import write_sets
 
     varies = [parse_vary(s) for s in specs]
@@ -185,7 +187,8 @@ def build_variants(project_path: Path, specs: tuple[str, ...], out_dir: Path,
     counted = 0
     for var in variants:                       # every combination counts toward the limits
         counted += check_size(var.project, where=f"--vary {var.name}", already=counted)
-    rendered = _render_all(variants, formats)  # everything in memory before a file is written
+    # everything in memory before a file is written
+    rendered = _render_all(variants, formats, workers(len(variants), jobs))
     for var, (error, _row_data, _files) in zip(variants, rendered, strict=True):
         if error is not None:                  # the first combination in order that failed
             cls, what, where, accepted = error
@@ -197,7 +200,8 @@ def build_variants(project_path: Path, specs: tuple[str, ...], out_dir: Path,
     return written
 
 
-# the combinations a worker process reads (inherited when it is forked, not sent to it)
+# the combinations a worker process reads (inherited when it is forked, handed to it
+# once when it is spawned: :func:`_worker_start`)
 _JOBS: tuple[list[Variant], tuple[str, ...] | None] = ([], None)
 
 _Rendered = tuple[tuple[type, str, str | None, str | None] | None, dict[str, Any], dict[str, bytes]]
@@ -222,7 +226,9 @@ def _png_of(svg: bytes) -> bytes:
     return png_bytes(svg)
 
 
-def _processors() -> int:
+def processors() -> int:
+    """The processors this process may run on (its affinity where the platform says it,
+    else every processor of the machine)."""
     import os
 
     try:
@@ -231,41 +237,60 @@ def _processors() -> int:
         return os.cpu_count() or 1
 
 
-def _render_all(variants: list[Variant], formats: tuple[str, ...] | None) -> list[_Rendered]:
+def workers(combinations: int, jobs: int | None = None) -> int:
+    """How many processes build ``combinations``: ``jobs`` (``--jobs``) or one per
+    :func:`processors`, never more than there are combinations; 1 builds them in this
+    process."""
+    if jobs is not None and jobs < 1:
+        raise ValueError(f"jobs {jobs} < 1")  # the command line refuses it first
+    return max(1, min(combinations, jobs if jobs is not None else processors()))
+
+
+def start_method() -> str:
+    """``fork`` where the platform has it (the workers start with the parent's modules
+    and combinations, nothing re-imported or sent), else ``spawn``."""
+    import multiprocessing
+
+    return "fork" if "fork" in multiprocessing.get_all_start_methods() else "spawn"
+
+
+def _render_all(variants: list[Variant], formats: tuple[str, ...] | None,
+                count: int = 1) -> list[_Rendered]:
     """Every combination built in memory, in order.  Each is independent of the others
     and most of each one's time is its own preview (verovio's layout and the PNG), so
-    where the machine has more than one processor the combinations are shared among
-    forked worker processes (the results, rows and file bytes, come back in order);
-    elsewhere, or where a process cannot be forked, one after another.  The PNGs are
-    drawn last, once per distinct picture (:func:`_add_pngs`)."""
+    with ``count`` > 1 the combinations are shared among that many worker processes
+    (:mod:`arrange.workers`, started by :func:`start_method`); the results, rows and file
+    bytes, come back in combination order whichever worker finishes first.  With 1, one
+    after another in this process.  The PNGs are drawn last, once per distinct picture
+    (:func:`_add_pngs`)."""
     global _JOBS
     _JOBS = (variants, formats)
-    workers = min(len(variants), _processors())
     try:
-        if workers > 1:
-            import multiprocessing
+        if count > 1:
+            import gc
 
-            try:
-                context = multiprocessing.get_context("fork")
-            except ValueError:                 # no fork on this platform
-                context = None
-            if context is not None:
+            from arrange.workers import WorkerLost, Workers
+
+            method = start_method()
+            if method == "fork":
                 # the writers, verovio, resvg and mido are imported here, before the
                 # workers are forked, so that they start with them instead of each paying
                 # for them again; frozen, those objects stay out of the workers' garbage
                 # collections and their memory pages stay shared
-                import gc
-
                 _preload(formats or ())
                 gc.collect()
                 gc.freeze()
-                # leaving the block terminates the workers (Ctrl-C and SIGTERM are the
-                # parent's to handle: the workers ignore the one and die of the other)
-                try:
-                    with context.Pool(workers, initializer=_worker_signals) as pool:
-                        rendered = pool.map(_render_one, range(len(variants)), chunksize=1)
-                        return _add_pngs(variants, rendered, lambda svgs: pool.map(_png_of, svgs, chunksize=1))
-                finally:
+            start: tuple[Callable[..., None] | None, tuple[Any, ...]] = (
+                (None, ()) if method == "fork" else (_worker_start, (variants, formats)))
+            try:
+                with Workers(count, method, *start) as pool:
+                    rendered = pool.map(_render_one, range(len(variants)))
+                    return _add_pngs(variants, rendered, lambda svgs: pool.map(_png_of, svgs))
+            except WorkerLost as err:
+                raise WorkerLost(f"{err}; nothing was written (--jobs 1 builds every combination "
+                                 "in this process)") from None
+            finally:
+                if method == "fork":
                     gc.unfreeze()
         rendered = [_render_one(i) for i in range(len(variants))]
         return _add_pngs(variants, rendered, lambda svgs: [_png_of(s) for s in svgs])
@@ -322,11 +347,10 @@ def _preload(formats: tuple[str, ...]) -> None:
             pass
 
 
-def _worker_signals() -> None:
-    import signal
-
-    signal.signal(signal.SIGINT, signal.SIG_IGN)
-    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+def _worker_start(variants: list[Variant], formats: tuple[str, ...] | None) -> None:
+    """A spawned worker: the combinations, sent to it once (a forked one inherits them)."""
+    global _JOBS
+    _JOBS = (variants, formats)
 
 
 def _row(var: Variant, voiced: Any, layers: Any, files: dict[str, bytes]) -> dict[str, Any]:

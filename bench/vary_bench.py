@@ -8,7 +8,10 @@ combinations built one by one, each in its own process (each
 ``--vary`` given one value, so every one writes the same folder as in A). A and B run in
 turn (A B A B ...); for each pair the ratio A/B is taken of the processor time (user +
 system of the finished processes, from ``getrusage``) and of the wall time, and the
-median is quoted.  Target (issue 15): A at most 0.4x B.
+median is quoted.  Target (issue 15): A at most 0.4x B.  A runs with its default worker
+processes (one per processor); for voicing x key with the default formats the same
+``--vary`` with ``--jobs 1`` (every combination in one process) runs in each pair too,
+so the workers' own gain is read side by side.
 """
 from __future__ import annotations
 
@@ -57,18 +60,32 @@ def _compare(formats: str, key: str, values: tuple[str, ...], runs: int) -> floa
                 "--vary", "voicing=" + ",".join(VOICINGS), "--vary", f"{key}=" + ",".join(values)]]
         each = [[py, "-m", "arrange", "build", str(PROJECT), "-o", f"{tmp}/b", *flags,
                  "--vary", f"voicing={v}", "--vary", f"{key}={k}"] for v in VOICINGS for k in values]
+        serial = None
+        if (formats, key) == CASES[0][:2]:
+            serial = [[*(f"{tmp}/c" if w == f"{tmp}/a" else w for w in one[0]), "--jobs", "1"]]
         _timed(one)
         _timed(each[:1])           # warm-up (file cache, .pyc)
-        rows = []
+        rows, alone = [], []
         for _ in range(runs):
             a, b = _timed(one), _timed(each)
             rows.append((a[0], b[0], a[0] / b[0], a[1], b[1], a[1] / b[1]))
-        same = all((Path(tmp) / "a" / f.relative_to(Path(tmp) / "b")).read_bytes() == f.read_bytes()
+            if serial is not None:
+                c = _timed(serial)
+                alone.append((c[0], c[0] / b[0], c[1], c[1] / b[1], a[0] / c[0], a[1] / c[1]))
+        same = all((Path(tmp) / d / f.relative_to(Path(tmp) / "b")).read_bytes() == f.read_bytes()
+                   for d in ("a", "c") if (Path(tmp) / d).exists()
                    for f in (Path(tmp) / "b").rglob("*") if f.is_file() and f.name != "variants.md")
+        if serial is not None:     # with one worker and with several: variants.md too
+            same = same and (Path(tmp) / "a" / "variants.md").read_bytes() == (
+                Path(tmp) / "c" / "variants.md").read_bytes()
     med = [statistics.median(r[i] for r in rows) for i in range(6)]
     print(f"formats {formats}, voicing x {key}")
     print(f"processor s: one --vary {med[0]:.2f}, 16 builds {med[1]:.2f}, ratio {med[2]:.2f}")
     print(f"wall s:      one --vary {med[3]:.2f}, 16 builds {med[4]:.2f}, ratio {med[5]:.2f}")
+    if alone:
+        m = [statistics.median(r[i] for r in alone) for i in range(6)]
+        print(f"--jobs 1:    processor s {m[0]:.2f} (ratio {m[1]:.2f}), wall s {m[2]:.2f} (ratio {m[3]:.2f}); "
+              f"default workers / --jobs 1: processor {m[4]:.2f}, wall {m[5]:.2f}")
     print(f"same files in every combination folder: {'yes' if same else 'NO'}")
     print(f"target <= 0.4: processor time {'met' if med[2] <= 0.4 else 'NOT met'}, "
           f"wall time {'met' if med[5] <= 0.4 else 'NOT met'}")

@@ -75,12 +75,13 @@ def test_help_and_chain_do_not_import_music21_or_numpy() -> None:
 # needs no module of: the preview, PDF and report writers and their renderers, music21, the
 # designer, the melody reader, the layer stage and its pad search, the rhythm section's parts;
 # no third-party command-line library (click): the standard library's argparse reads it; and no
-# numpy (the voicing stage's rules, voice-leading search and tutti are plain Python; only the
-# pad search and the designer hold numpy arrays)
+# numpy (the voicing stage's rules, voice-leading search and tutti and the pad search are plain
+# Python; only the designer, and a layer search among a section's many voicings, hold numpy arrays)
 NOT_FOR_SCORE_AND_MIDI = ("click", "music21", "numpy", "verovio", "resvg_py", "arrange.writers.preview",
                           "arrange.writers.pdf", "arrange.writers.report", "arrange.chain.design",
                           "arrange.chain.kernel", "arrange.chain.spec",
-                          "arrange.inputs.melody_file", "arrange.voicing.layers", "arrange.voicing.pads",
+                          "arrange.inputs.melody_file", "arrange.voicing.layers", "arrange.voicing.layer_search",
+                          "arrange.voicing.pads",
                           "arrange.rhythm_section.section", "arrange.rhythm_section.values",
                           "arrange.writers.xml_rhythm", "arrange.writers.xml_layers", "secrets")
 

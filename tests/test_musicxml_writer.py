@@ -930,3 +930,40 @@ def test_a_concert_score_puts_low_transposing_parts_in_bass_clef(tmp_path: Path)
     bari = next(p for p in score.parts if p.partName == "Baritone Sax")
     lows = [n.pitch.midi for n in bari.flatten().notes]
     assert sum(p < 60 for p in lows) > len(lows) / 2       # the baritone sounds mostly below middle C
+
+
+@pytest.mark.parametrize("space", [" ", "  "])
+def test_the_score_text_is_what_elementtree_writes(space: str) -> None:
+    """``xml_document.xml_text`` (one pass, the tree left as it was) writes a tree character
+    for character as the standard library's ``xml.etree.ElementTree.indent`` followed by
+    ``tostring(encoding="unicode")`` do (the reference): escaped text, tails and attribute
+    values (quotes, ampersands, line breaks, tabs), empty elements, blank and non-blank text
+    and tails, deep nesting, non-ASCII text."""
+    import copy
+    import xml.etree.ElementTree as ET
+
+    from arrange.writers.xml_document import xml_text
+
+    root = ET.Element("score-partwise", version="4.0")
+    work = ET.SubElement(root, "work")
+    ET.SubElement(work, "work-title").text = 'Tom & "Jerry" <live> \u266d\u00e9'
+    ET.SubElement(root, "empty")
+    ET.SubElement(root, "blank").text = "   "
+    odd = ET.SubElement(root, "credit", {"a": 'x"y&z<w>', "b": "line\nbreak\r\tt"})
+    odd.text = "  "                        # blank text of an element with children: replaced
+    kid = ET.SubElement(odd, "credit-words", justify="center")
+    kid.text = "1 > 0"
+    kid.tail = " kept tail & more "        # a non-blank tail stays
+    ET.SubElement(odd, "x").tail = "\n   "  # a blank tail of the last child: the parent's level
+    deep = root
+    for k in range(6):
+        deep = ET.SubElement(deep, f"level{k}", n=str(k))
+    deep.text = "bottom"
+    last = ET.SubElement(root, "last")
+    last.tail = "not blank"
+    reference = copy.deepcopy(root)
+    ET.indent(reference, space=space)
+    want = ET.tostring(reference, encoding="unicode")
+    before = ET.tostring(root, encoding="unicode")
+    assert xml_text(root, space) == want
+    assert ET.tostring(root, encoding="unicode") == before      # the tree is left as it was

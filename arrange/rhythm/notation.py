@@ -44,7 +44,9 @@ def readable(d: Fraction) -> bool:
 
 
 def is_triplet(d: Fraction) -> bool:
-    return d in _TRIPLET
+    # every triplet value has a denominator divisible by 3: most values are told apart
+    # without hashing a Fraction (a modular inverse each time)
+    return d.denominator % 3 == 0 and d in _TRIPLET
 
 
 @dataclass(frozen=True, slots=True, eq=False)

@@ -15,6 +15,7 @@ or the fifth) that the mock-up plays.
 """
 from __future__ import annotations
 
+from bisect import bisect_left, bisect_right
 from collections.abc import Sequence
 from fractions import Fraction
 
@@ -40,18 +41,53 @@ def hits(harmonized: Harmonized) -> tuple[Cue, ...]:
 
 def chord_at(harmonized: Harmonized, t: Fraction) -> Chord:
     """The chord the horns sound at ``t``: the last lead note's chord, unless a
-    framework chord started after that note (a change under a held note or a rest)."""
+    framework chord started after that note (a change under a held note or a rest).
+    Looked up by bisection in the onsets (where they stand in order, as the stages make
+    them; otherwise by the scan it stands for), so a long line's slashes do not each scan
+    every note and chord."""
+    ev_on, ev_sorted, fw_on, fw_sorted = _onsets(harmonized)
+    events, framework = harmonized.events, harmonized.framework
     chord: Chord | None = None
     since = Fraction(-10**9)
-    for ev in harmonized.events:
-        if ev.note.onset <= t:
-            chord, since = ev.chord, ev.note.onset
-        else:
-            break
-    for fc in harmonized.framework:
-        if since < fc.onset <= t:
-            chord, since = fc.chord, fc.onset
-    return chord if chord is not None else harmonized.framework[0].chord
+    if ev_sorted:
+        k = bisect_right(ev_on, t)
+        if k:
+            chord, since = events[k - 1].chord, ev_on[k - 1]
+    else:
+        for ev in events:
+            if ev.note.onset <= t:
+                chord, since = ev.chord, ev.note.onset
+            else:
+                break
+    if fw_sorted:
+        # the scan keeps the first chord of the latest onset after ``since`` up to ``t``
+        k = bisect_right(fw_on, t)
+        if k and since < fw_on[k - 1]:
+            first = bisect_left(fw_on, fw_on[k - 1])
+            chord = framework[first].chord
+    else:
+        for fc in framework:
+            if since < fc.onset <= t:
+                chord, since = fc.chord, fc.onset
+    return chord if chord is not None else framework[0].chord
+
+
+_ONSETS: dict[int, tuple[Harmonized, list[Fraction], bool, list[Fraction], bool]] = {}
+
+
+def _onsets(h: Harmonized) -> tuple[list[Fraction], bool, list[Fraction], bool]:
+    """The onsets of ``h``'s events and framework chords, and whether each stands in
+    order; worked out once per harmony (every slash and bass note asks)."""
+    hit = _ONSETS.get(id(h))
+    if hit is None or hit[0] is not h:
+        ev_on = [ev.note.onset for ev in h.events]
+        fw_on = [fc.onset for fc in h.framework]
+        hit = (h, ev_on, all(a <= b for a, b in zip(ev_on, ev_on[1:])),
+               fw_on, all(a <= b for a, b in zip(fw_on, fw_on[1:])))
+        if len(_ONSETS) > 8:
+            _ONSETS.clear()
+        _ONSETS[id(h)] = hit
+    return hit[1], hit[2], hit[3], hit[4]
 
 
 def comp_pitches(chord: Chord, floor: int = COMP_FLOOR) -> tuple[int, ...]:
@@ -117,8 +153,13 @@ def comping(harmonized: Harmonized, figures: Sequence[Cue]) -> tuple[Slash, ...]
     line = harmonized.line
     bar = line.meter.bar
     out: list[Slash] = []
+    onsets = [c.onset for c in figures]
+    in_order = all(a <= b for a, b in zip(onsets, onsets[1:]))
     for m in range(line.bars):
         t0 = m * bar
-        figure = [c for c in figures if t0 <= c.onset < t0 + bar]
+        if in_order:      # the bar's figures by bisection: the same as the scan below
+            figure = list(figures[bisect_left(onsets, t0):bisect_left(onsets, t0 + bar)])
+        else:
+            figure = [c for c in figures if t0 <= c.onset < t0 + bar]
         out.extend(_bar_slashes(harmonized, t0, bar, line.meter.beats, figure))
     return tuple(out)

@@ -114,7 +114,7 @@ def _normalise(text: str) -> str:
     return s
 
 
-@dataclass(slots=True)
+@dataclass(slots=True, eq=False)
 class _Parts:
     """A chord symbol's parts while it is read."""
     third: str = "M"         # M, m, sus2, sus4

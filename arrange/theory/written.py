@@ -71,6 +71,7 @@ def _interval_fifths(semitones: int) -> int:
     return fifths_of(split_name(transpose_name("C4", semitones))[0])
 
 
+@lru_cache(maxsize=4096)
 def _chord_shift(chord: Chord, move: int, flipped: bool, wkey: Key) -> int:
     """Extra 12 fifths (0, -12 or +12) the chord's root takes in the written part: none of
     its tones needing a double accidental the concert chord does not have (the seventh of a

@@ -11,7 +11,7 @@ Public entry points:
 
 Inside: ``shapes`` lists candidate voicings from the recipes, ``rules`` marks rule breaks
 (plain Python, for one voicing or a numpy column of many), ``pads`` the background chord
-candidates (numpy, imported only by a project with layers).  The search and layer modules
+candidates (plain Python, imported only by a project with layers).  The search and layer modules
 are imported only when one of their names is asked for, so reading sections stays light.
 """
 from __future__ import annotations

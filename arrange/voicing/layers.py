@@ -9,9 +9,10 @@
 * **hits** are short chords (``rhythm`` gives their length) on the groove's
   accents (:func:`accents`), on the chord the lead section plays there.
 
-Each chord is voiced by :mod:`arrange.pads` (guide tones first, then allowed
-tensions; the voicing stage's rule checks) and the whole layer is chosen by a
-dynamic programme that keeps common tones and moves by step.  With ``placement =
+Each chord is voiced by :mod:`arrange.voicing.pads` (guide tones first, then allowed
+tensions; the voicing stage's rule checks) and the whole layer is chosen by
+:mod:`arrange.voicing.layer_search` (the rules before any cost, the cheapest, a dynamic
+programme that keeps common tones and moves by step).  With ``placement =
 "under"`` (the default) every chord sits below the lead section's lowest sounding
 note within the low-interval limits (:func:`arrange.voicing.pads.fits_under`),
 thinned where the section leaves no room for every part, and left out (the layer
@@ -31,23 +32,20 @@ from bisect import bisect_right
 from dataclasses import dataclass
 from fractions import Fraction
 
-import numpy as np
-
 from arrange.errors import ProjectError
 from arrange.harmony.events import FrameworkChord, Harmonized, stated_framework
 from arrange.tables import Table
 from arrange.theory.chords import Chord
 from arrange.theory.pitch import pitch_name
 from arrange.voicing import rules
-from arrange.voicing.pads import (candidates, clash_counts, clash_pairs, cross_costs, fits_under, layer_rules, rubs,
-                                  tone_order, velocity)
+from arrange.voicing.layer_search import cheapest, rooted_test, rules_first, solve
+from arrange.voicing.pads import candidates, clash_table, clashes, layer_rules, rubs, tone_order, velocity
 from arrange.voicing.sections import Section, section_from_table
-from arrange.voicing.shapes import recipes
 from arrange.voicing.voicer import Voiced
 
 __all__ = ["Layer", "LayerNote", "LayerFinding", "VoicedLayer", "ROLES", "PLACEMENTS", "DYNAMICS",
            "read_layers",
-           "parse_values", "build_layers", "accents", "layer_times", "root_costs"]
+           "parse_values", "build_layers", "accents", "layer_times"]
 
 ROLES = ("pad", "hits")
 # under: below the lead section's lowest sounding note, low intervals open, thinned or resting
@@ -278,126 +276,57 @@ def _sounding_index(voiced: Voiced) -> tuple[list[Fraction], list[Fraction]]:
     return onsets, reach
 
 
-_KEEP = 500      # candidates per chord kept for the search (the cheapest by their own costs)
-
-
-def _step_table(motion: float, leap: float, most: int) -> np.ndarray:
-    """Cost of one voice moving ``d`` semitones, ``d`` = 0 .. ``most``."""
-    d = np.arange(most + 1, dtype=np.int64)
-    return motion * d + leap * np.clip(d - 2, 0, None)
-
-
-def _steps(a: np.ndarray, ra: np.ndarray, b: np.ndarray, rb: np.ndarray, table: np.ndarray) -> np.ndarray:
-    """``(len(a), len(b))`` motion costs between two chords' candidates: each
-    voice's cost looked up by its distance, voices resting on either side free.
-    Voices are added one ``(len(a), len(b))`` plane at a time, in order, which
-    gives the very sums numpy's ``sum`` over a last axis shorter than 8 gives
-    (longer axes it sums pairwise, so they keep the plain ``sum``)."""
-    n = a.shape[1]
-    if n >= 8:
-        step = table[np.abs(a[:, None, :] - b[None, :, :])]
-        return (step * ~(ra[:, None, :] | rb[None, :, :])).sum(axis=2)
-    aT, bT, raT, rbT = (np.ascontiguousarray(x.T) for x in (a, b, ra, rb))
-    most = len(table) - 1
-    signed = table[np.abs(np.arange(-most, most + 1))]       # indexed by a - b + most: no abs per pair
-    shape = (len(a), len(b))
-    where, total, plane = np.empty(shape, dtype=np.intp), np.empty(shape), np.empty(shape)
-    for v in range(n):
-        out = total if v == 0 else plane
-        np.subtract((aT[v] + most)[:, None], bT[v][None, :], out=where)
-        np.take(signed, where, out=out, mode="clip")           # every index is in range
-        if raT[v].any() or rbT[v].any():
-            np.multiply(out, ~(raT[v][:, None] | rbT[v][None, :]), out=out)
-        if v:
-            total += plane
-    return total
-
-
-def _solve(cands: list[np.ndarray], costs: list[np.ndarray], rests: list[np.ndarray]) -> list[int]:
-    """One candidate per chord minimising costs plus motion (semitones, every voice
-    playing on both sides; common tones free) plus a leap cost beyond a whole step."""
-    motion, leap = recipes().weight("motion"), layer_rules().weight("leap")
-    idx = [c.astype(np.intp) for c in cands]          # distances index the table: intp takes fastest
-    table = _step_table(motion, leap, int(max(c.max() for c in cands) - min(c.min() for c in cands)))
-    total = costs[0].astype(float)
-    back = []
-    for i in range(1, len(cands)):
-        # rows: this chord's candidates, columns: the previous chord's (argmin along a row)
-        whole = _steps(idx[i], rests[i], idx[i - 1], rests[i - 1], table) + total[None, :]
-        arg = whole.argmin(axis=1)
-        back.append(arg)
-        total = whole[np.arange(len(cands[i])), arg] + costs[i]
-    j = int(total.argmin())
-    path = [j]
-    for arg in reversed(back):
-        j = int(arg[j])
-        path.append(j)
-    return path[::-1]
-
-
 def _voice_layer(harmonized: Harmonized, voiced: Voiced, layer: Layer) -> VoicedLayer:
     times = layer_times(harmonized, layer)
     if not times:
         return VoicedLayer(layer, (), ())
-    cands, rests, costs, sounding, played, silent = [], [], [], [], [], []
+    cands: list[list[tuple[int, ...]]] = []
+    rests: list[list[tuple[bool, ...]]] = []
+    costs: list[list[float]] = []
+    sounding, played, silent = [], [], []
     cramped: list[int | None] = []
     index = _sounding_index(voiced)
+    section = layer.section
+    n = len(section.parts)
+    root_weight = layer_rules().weight("root_bottom")
+    priced: dict[Chord, dict[tuple[tuple[int, ...], tuple[bool, ...]], float]] = {}
     for onset, dur, chord in times:
         snd = _sounding(voiced, onset, dur, index)
         lead = tuple(sorted({q for _i, _w, p in snd for q in p}))
-        P, R, c = candidates(chord, layer.section, lead)
-        rc = root_costs(P, chord, snd)
-        c = c + cross_costs(P, [(w, p) for _i, w, p in snd], chord, R)
+        # first of all a background sits under the section, its low intervals open (common
+        # practice): only the candidates that do are listed (thinner ones make room under a
+        # low section); where none does, the findings name what is left.  among: anywhere;
+        # the costs keep it as low as they can (cross_cost)
+        lows = tuple(min(p) for _i, _w, p in snd) if layer.placement == "under" else None
+        pool = candidates(chord, section, lead, lows)
         # a pad thins rather than rubs, then states the chord from its root (or slash bass):
         # where a least-clashing candidate has the root at the bottom, only those stay, so
         # voice motion never outweighs the root (common practice of background writing);
         # where none has, the thinned chord's why names the root among the tones left out
-        order = np.argsort(c, kind="stable")
-        bass = chord.bass if chord.bass is not None else chord.root
-        # first of all a background sits under the section, its low intervals open (common
-        # practice): where any candidate does, only those stay (thinner ones make room under
-        # a low section); where none does, the findings name what is left
-        if layer.placement == "under":
-            fits = fits_under(P, tuple(min(p) for _i, _w, p in snd))
-        else:       # among: anywhere; the costs keep it as low as they can (cross_costs)
-            fits = np.ones(len(P), dtype=bool)
-        roomy = bool((fits & ~R.any(axis=1)).any())      # a voicing of every part fits under
-        if not roomy and not (fits & (rc == 0)).any():
+        rooted = rooted_test(chord, snd, root_weight)
+        roomy = any(len(g.sounding) == n for g, _rows in pool)      # a voicing of every part fits under
+        if not roomy and not any(rooted(row) for _g, rows in pool for row in rows):
             # no room under the section for even its root at the bottom: the background
             # rests there (an arranger leaves it out rather than muddy or cover the section,
             # or put another tone in the bass)
             silent.append((onset, dur, chord, snd))
             continue
-        pool = fits
-        fewest = _fewest_clashes(P, R, chord, snd, pool)
-        chosen = fewest
-        if (fewest & (P.min(axis=1) % 12 == bass % 12)).any():
-            chosen = (rc == 0) & fewest
-        # guide tones first, as ever: each one that rubs against no lead-section note of
-        # the chord's time (a pad leaves a guide tone out only to avoid a clash or for room)
-        safe = tuple(g for g in tone_order(chord)[:2] if not any(rubs(g, q % 12, chord) for q in lead))
-        guided = chosen & _holds_guides(P, R, safe)
-        if not safe:        # both rub: still one of them where it costs no further clash
-            guided = chosen & ~_holds_none(P, R, tone_order(chord)[:2])
-        if guided.any():
-            chosen = guided
-        # then as many voices as fit: a part rests only where the room under the section
-        # (or a clash) leaves it nothing to play, never to save a leap
-        voices = (~R).sum(axis=1)
-        chosen = chosen & (voices == voices[chosen].max())
-        order = order[chosen[order]]
-        keep = order[:_KEEP]
+        tables = [clash_table(p, chord) for _i, _w, p in snd]
+        chosen = rules_first(chord, lead, pool, tables, rooted)
+        # the cheapest by their own costs (the voicing stage's rules, the lead section's
+        # notes), equal costs in the candidates' order
+        kept = cheapest(chord, section, chosen, [(w, p) for _i, w, p in snd], tables, priced.setdefault(chord, {}))
         # no room for every part: the chord's why says so (the section's lowest note named)
         cramped.append(None if roomy else min((q for _i, _w, p in snd for q in p), default=None))
-        cands.append(P[keep])
-        rests.append(R[keep])
-        costs.append(c[keep])
+        cands.append([g.pitches(row) for _w, g, row in kept])
+        rests.append([g.rests for _w, g, _row in kept])
+        costs.append([w for w, _g, _row in kept])
         sounding.append(snd)
         played.append((onset, dur, chord))
-    path = _solve(cands, costs, rests) if cands else []
+    path = solve(cands, costs, rests) if cands else []
     notes = []
     for (o, d, ch), i, j, snd in zip(played, range(len(played)), path, sounding, strict=True):
-        row = tuple(None if r else int(p) for p, r in zip(cands[i][j], rests[i][j], strict=True))
+        row = tuple(None if r else p for p, r in zip(cands[i][j], rests[i][j], strict=True))
         notes.append(LayerNote(o, d, ch, row, _why(ch, row, snd, voiced, layer, cramped[i])))
     findings = _findings(harmonized, voiced, layer, tuple(notes), sounding)
     findings += _rest_findings(harmonized, layer, silent)
@@ -420,49 +349,6 @@ def _rest_findings(harmonized: Harmonized, layer: Layer,
             f"{name}, bar {int(onset // bar_len) + 1}: rests through {chord.symbol}: no voicing of it "
             f"with its root at the bottom fits under {below} within the low-interval limits", "warning"))
     return out
-
-
-def _fewest_clashes(P: np.ndarray, R: np.ndarray, chord: Chord,
-                    snd: list[tuple[int, float, tuple[int, ...]]], pool: np.ndarray) -> np.ndarray:
-    """The candidates of ``pool`` with the fewest minor seconds / ninths against the
-    lead-section notes sounding during the chord (a pad thins rather than rubs: its ``why``
-    then names the tones it leaves out, the root among them, and the lead notes they would rub)."""
-    count = np.zeros(len(P), dtype=np.int64)
-    for _i, _w, pitches in snd:
-        count += clash_counts(P, ~R, pitches, chord)
-    if not pool.any():
-        return pool
-    return pool & (count == count[pool].min())
-
-
-def _holds_guides(P: np.ndarray, R: np.ndarray, guides: tuple[int, ...]) -> np.ndarray:
-    """The candidates sounding every one of ``guides`` (pitch classes of the chord's guide
-    tones, ``pads.tone_order``: its third and its seventh or sixth)."""
-    out = np.ones(len(P), dtype=bool)
-    pcs = P % 12
-    for g in guides:
-        out &= ((pcs == g) & ~R).any(axis=1)
-    return out
-
-
-def _holds_none(P: np.ndarray, R: np.ndarray, tones: tuple[int, ...]) -> np.ndarray:
-    """The candidates sounding none of the pitch classes ``tones``."""
-    return ~(np.isin(P % 12, tones) & ~R).any(axis=1)
-
-
-def root_costs(P: np.ndarray, chord: Chord, snd: list[tuple[int, float, tuple[int, ...]]]) -> np.ndarray:
-    """``root_bottom`` (nonzero: the filter of ``_voice_layer`` leaves the row out) for each
-    candidate whose lowest voice is not the chord's root (its bass for a slash chord), unless the lead section's lowest note at the chord's start is
-    that root, below it (common practice: a background states the chord from its root).
-    A resting voice carries the pitch above it, so the row's minimum is its lowest
-    sounding note."""
-    bass = chord.bass if chord.bass is not None else chord.root
-    low = P.min(axis=1)
-    wrong = low % 12 != bass % 12
-    first = snd[0][2] if snd else ()
-    if first and min(first) % 12 == bass % 12:       # the section's own bass is the root
-        wrong &= ~(low > min(first))
-    return layer_rules().weight("root_bottom") * wrong
 
 
 def _why(chord: Chord, row: tuple[int | None, ...], snd: list[tuple[int, float, tuple[int, ...]]],
@@ -514,16 +400,16 @@ def _findings(harmonized: Harmonized, voiced: Voiced, layer: Layer, notes: tuple
         return []
     bar_len = harmonized.line.meter.bar
     bars = [int(n.onset // bar_len) + 1 for n in notes]
-    R = np.array([[p is None for p in n.pitches] for n in notes], dtype=bool)
-    P = np.array([_filled(n.pitches) for n in notes], dtype=np.int64)
+    P = [_filled(n.pitches) for n in notes]
     ctx = [rules.context(n.chord, "spread") for n in notes]
     sec = layer.section
+    names = [p.name for p in sec.parts]
     name = f"layer {layer.index} ({layer.role}, {sec.name})"
     out = []
     first_event = [snd[0][0] if snd else None for snd in sounding]
-    for kind, i, part, msg, severity in rules.findings(P.tolist(), ctx, sec, bars=bars, allow_extreme=True,
+    for kind, i, part, msg, severity in rules.findings(P, ctx, sec, bars=bars, allow_extreme=True,
                                                        vtypes=["spread"] * len(notes)):
-        if R[i, [p.name for p in sec.parts].index(part)]:
+        if notes[i].pitches[names.index(part)] is None:
             continue        # a resting part carries its neighbour's pitch only for the checks
         out.append(LayerFinding(kind, first_event[i], part, f"{name}, {msg}", severity, None, i))
     for i, (n, snd) in enumerate(zip(notes, sounding, strict=True)):
@@ -534,27 +420,25 @@ def _findings(harmonized: Harmonized, voiced: Voiced, layer: Layer, notes: tuple
                 "layer-above-lead", first_event[i], sec.parts[top].name,
                 f"{name}, bar {bars[i]}: {sec.parts[top].name} {pitch_name(max(n.sounding))} sits at or "
                 f"above the lead section's lowest note {pitch_name(min(lows))}", "warning", None, i))
-        layer_row = np.array([_filled(n.pitches)], dtype=np.int64)
         seen: set[tuple[int, int, int, int]] = set()
         for e, _w, pitches in snd:
-            hits = clash_pairs(layer_row, np.array(pitches, dtype=np.int64), n.chord)[0]
-            for j, q in zip(*np.nonzero(hits), strict=True):
-                if n.pitches[int(j)] is None:
+            for j, a in enumerate(P[i]):
+                if n.pitches[j] is None:
                     continue
-                a, b = int(P[i, int(j)]), pitches[int(q)]
-                if (int(j), int(q), a, b) in seen:     # one finding per pair while the chord holds
-                    continue
-                seen.add((int(j), int(q), a, b))
-                kind = "clash-minor-second" if abs(a - b) == 1 else "clash-minor-ninth"
-                what = "a minor second" if abs(a - b) == 1 else (
-                    "a minor ninth" if abs(a - b) == 13 else "a compound minor ninth")
-                bar = int(voiced.events[e].event.note.onset // bar_len) + 1
-                out.append(LayerFinding(
-                    kind, e, sec.parts[int(j)].name,
-                    f"{name}, bar {bar}: {sec.parts[int(j)].name} {pitch_name(a)} against "
-                    f"{_lead_names(voiced, e)[int(q)]} {pitch_name(b)} of the lead section, {what} "
-                    f"sounding together (over {n.chord.symbol})", "warning",
-                    _lead_names(voiced, e)[int(q)], i))
+                for q, b in enumerate(pitches):
+                    if not clashes(a, b, n.chord) or (j, q, a, b) in seen:
+                        continue        # one finding per pair while the chord holds
+                    seen.add((j, q, a, b))
+                    kind = "clash-minor-second" if abs(a - b) == 1 else "clash-minor-ninth"
+                    what = "a minor second" if abs(a - b) == 1 else (
+                        "a minor ninth" if abs(a - b) == 13 else "a compound minor ninth")
+                    bar = int(voiced.events[e].event.note.onset // bar_len) + 1
+                    out.append(LayerFinding(
+                        kind, e, sec.parts[j].name,
+                        f"{name}, bar {bar}: {sec.parts[j].name} {pitch_name(a)} against "
+                        f"{_lead_names(voiced, e)[q]} {pitch_name(b)} of the lead section, {what} "
+                        f"sounding together (over {n.chord.symbol})", "warning",
+                        _lead_names(voiced, e)[q], i))
     return out
 
 

@@ -12,26 +12,30 @@ A pad is thinned rather than let rub: when no full set of chord tones is free
 of minor seconds and minor ninths against every lead-section pitch sounding
 during the chord (:func:`safe_pcs`), :func:`candidates` adds thinner voicings
 of the clash-free tones only (a guide tone always among them), doubled in
-octaves or with lower parts resting (``rests``, a bool array beside the
-pitches; a resting voice carries the pitch of the voice above it so that the
-rule checks see the sounding intervals, and its own marks are cleared).
+octaves or with lower parts resting (a :class:`Group` says which parts sound; a
+resting part carries the pitch of the part above it so that the rule checks see
+the sounding intervals, and its own marks are left out).
+
+Plain Python, pruned: a voicing that cannot sit under the lead section is never
+placed (each stack's floor, the tops under the section), and the layer stage
+prices only the voicings that pass its rules before any cost.
 """
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 from functools import lru_cache
-from itertools import combinations, combinations_with_replacement, permutations, product
-
-import numpy as np
+from itertools import combinations, combinations_with_replacement
 
 from arrange.errors import VoicingError
 from arrange.theory.chords import Chord
 from arrange.voicing import rules
 from arrange.voicing.sections import Section, read_rules
-from arrange.voicing.shapes import fifth_pc, recipes
+from arrange.voicing.shapes import fifth_pc
 
 __all__ = ["LayerRules", "layer_rules", "tone_order", "pc_sets", "safe_pcs", "rubs", "thinned_sets",
-           "room_sets", "candidates", "cross_costs", "clash_pairs", "clash_counts", "fits_under", "velocity"]
+           "room_sets", "Group", "candidates", "rule_cost", "cross_cost", "clashes", "clash_table",
+           "fits_under", "velocity"]
 
 
 @dataclass(frozen=True, slots=True, eq=False)
@@ -48,7 +52,13 @@ class LayerRules:
         return dict(self.defaults)[name]
 
     def weight(self, name: str) -> float:
-        return dict(self.weights)[name]
+        return _weights(self)[name]
+
+
+@lru_cache(maxsize=8)
+def _weights(lr: LayerRules) -> dict[str, float]:
+    """The layer weights as a dict, made once (the search asks for them often)."""
+    return dict(lr.weights)
 
 
 @lru_cache(maxsize=1)
@@ -132,54 +142,105 @@ def pc_sets(chord: Chord, n: int) -> list[tuple[tuple[int, ...], float]]:
     return out
 
 
-@lru_cache(maxsize=8)
-def _open_choices(n: int) -> np.ndarray:
-    """``(o, n - 1)`` 0/1: which voices below the top drop an extra octave."""
-    rows = list(product((0, 1), repeat=n - 1)) if n <= 5 else [(0,) * (n - 1)]
-    return np.array(rows, dtype=np.int64).reshape(len(rows), n - 1)
-
-
-@lru_cache(maxsize=1024)
-def _stacks(pcs: tuple[int, ...], n: int) -> tuple[np.ndarray, np.ndarray]:
-    """The stacks of the multiset ``pcs`` within the gap limits: each one's top
-    pitch class ``(k,)`` and every voice's distance below the top ``(k, n)``.
-    Each order of the tones is stacked downward, each lower voice close or an
-    octave open; the gaps depend only on the order and the open choices, so a
-    stack with too wide a gap is dropped before any pitch is placed."""
+@lru_cache(maxsize=16384)
+def _rel_stacks(pcs: tuple[int, ...], n: int) -> tuple[tuple[int, tuple[int, ...], int], ...]:
+    """The stacks of the multiset ``pcs`` (sorted) within the gap limits: each one's top
+    pitch class, every voice's distance below the top, and the lowest top at which every
+    adjacent pair keeps its low-interval limit (``rules.below_limit``: the lower note
+    ``top - offset`` at or above the limit of the gap).  Each order of the tones is stacked
+    downward, each lower voice close or (up to five parts) an octave open, as far as the
+    gap limits let it: the gaps depend only on the order and the open choices, so a stack
+    with too wide a gap is never placed.  Stacks are the same for every transposition of
+    the tones (:func:`_stacks`)."""
     lr = layer_rules()
-    orders = set(permutations(pcs)) if n <= 5 else {pcs[i:] + pcs[:i] for i in range(n)}
-    order_rows = np.array(sorted(orders), dtype=np.int64).reshape(len(orders), n)
-    close = (order_rows[:, :-1] - order_rows[:, 1:]) % 12
-    close[close == 0] = 12
-    gaps = close[:, None, :] + 12 * _open_choices(n)[None, :, :]          # (k, o, n - 1)
-    if n > 1:
-        ok = ((gaps[:, :, :-1].max(axis=2, initial=0) <= lr.max_gap)
-              & (gaps[:, :, -1] <= lr.max_bottom_gap))
-    else:
-        ok = np.ones(gaps.shape[:2], dtype=bool)
-    offsets = np.concatenate([np.zeros(gaps.shape[:2] + (1,), dtype=np.int64), np.cumsum(gaps, axis=2)], axis=2)
-    first = np.broadcast_to(order_rows[:, :1], ok.shape)
-    return first[ok], offsets[ok]
+    limit = [rules.low_limit(g) for g in range(25)]          # the rule's limit by gap (at most 24 here)
+    out: list[tuple[int, tuple[int, ...], int]] = []
+    if n > 5:       # rotations of the tones, close
+        for order in {pcs[i:] + pcs[:i] for i in range(n)}:
+            gaps = [(a - b) % 12 or 12 for a, b in zip(order, order[1:], strict=False)]
+            if n > 1 and (max(gaps[:-1], default=0) > lr.max_gap or gaps[-1] > lr.max_bottom_gap):
+                continue
+            offsets = [0]
+            floor = -(1 << 30)
+            for g in gaps:
+                offsets.append(offsets[-1] + g)
+                # the lower note top - offset keeps the rule's limit (rules.below_limit)
+                floor = max(floor, limit[g] + offsets[-1])
+            out.append((order[0], tuple(offsets), floor))
+        return tuple(out)
+    left = {pc: pcs.count(pc) for pc in pcs}
+    offsets = [0]
+
+    def walk(first: int, above: int, floor: int) -> None:
+        """Every order of the tones ``left`` stacked under the voice ``above`` (each tone
+        once per copy: the multiset's distinct orders), close or an octave open."""
+        depth = len(offsets)
+        if depth == n:
+            out.append((first, tuple(offsets), floor))
+            return
+        most = lr.max_bottom_gap if depth == n - 1 else lr.max_gap
+        for pc, k in left.items():
+            if not k:
+                continue
+            left[pc] = k - 1
+            for g in ((above - pc) % 12 or 12, ((above - pc) % 12 or 12) + 12):
+                if g > most:
+                    break
+                offsets.append(offsets[-1] + g)
+                # the lower note top - offset keeps the rule's limit (rules.below_limit)
+                walk(first, pc, max(floor, limit[g] + offsets[-1]))
+                offsets.pop()
+            left[pc] = k
+
+    for pc in list(left):
+        left[pc] -= 1
+        walk(pc, pc, -(1 << 30))
+        left[pc] += 1
+    return tuple(out)
 
 
-@lru_cache(maxsize=2048)
-def _shapes(pcs: tuple[int, ...], lo: int, hi: int, n: int) -> np.ndarray:
-    """Every voicing ``(k, n)`` (top to bottom, rows in descending order) of the
-    multiset ``pcs`` (:func:`_stacks`) from a top within the octave below ``hi``,
-    or one or two octaves lower, with the bottom at or above ``lo``."""
-    first, offsets = _stacks(pcs, n)
-    top = hi - (hi - first) % 12                         # the top in hi - 11 .. hi on the order's first tone
-    V = (top[:, None] - 12 * np.arange(3)[None, :])[:, :, None] - offsets[:, None, :]   # (k, 3, n)
-    rows = V[V[..., -1] >= lo].reshape(-1, n)
-    if 0 <= lo and hi < 256 and n <= 7:
-        # one base-256 number per row sorts as the row does (every pitch lies in lo .. hi)
-        place = 256 ** np.arange(n - 1, -1, -1, dtype=np.int64)
-        keys = np.unique(rows @ place)[::-1]
-        out = (keys[:, None] // place[None, :]) % 256
-    else:
-        out = np.unique(rows, axis=0)[::-1].copy() if len(rows) else rows
-    out.flags.writeable = False
-    return out
+@lru_cache(maxsize=16384)
+def _rel_by_first(pcs: tuple[int, ...], n: int) -> dict[int, tuple[tuple[tuple[int, ...], int], ...]]:
+    """:func:`_rel_stacks` by top pitch class: each stack's distances below the top and
+    floor, in ascending order of distances (so the voicings from one top come out in
+    descending order of pitches)."""
+    by_first: dict[int, list[tuple[tuple[int, ...], int]]] = {}
+    for first, offsets, floor in _rel_stacks(pcs, n):
+        by_first.setdefault(first, []).append((offsets, floor))
+    return {first: tuple(sorted(v)) for first, v in by_first.items()}
+
+
+@lru_cache(maxsize=16384)
+def _stacks(pcs: tuple[int, ...], n: int) -> dict[int, tuple[tuple[tuple[int, ...], int], ...]]:
+    """The stacks of the multiset ``pcs`` (sorted) by top pitch class (:func:`_rel_by_first`
+    of the transposition of ``pcs`` that starts on 0)."""
+    k = pcs[0]
+    return {(first + k) % 12: v for first, v in _rel_by_first(tuple(p - k for p in pcs), n).items()}
+
+
+@lru_cache(maxsize=65536)
+def _at_top(pcs: tuple[int, ...], n: int, lo: int, top: int, fit: bool) -> tuple[tuple[int, ...], ...]:
+    """The voicings (top to bottom, in descending order) of the multiset ``pcs`` from the top
+    pitch ``top`` with the bottom at or above ``lo``; ``fit``: only those whose adjacent
+    voices keep their low-interval limits."""
+    return tuple(tuple(top - o for o in offsets) for offsets, floor in _stacks(pcs, n).get(top % 12, ())
+                 if top - offsets[-1] >= lo and (not fit or top >= floor))
+
+
+@lru_cache(maxsize=16384)
+def _tops(pcs: tuple[int, ...], hi: int) -> tuple[int, ...]:
+    """The tops a voicing of ``pcs`` may have (descending): a tone of the set within the
+    octave below ``hi``, or one or two octaves lower."""
+    tones = set(pcs)
+    return tuple(t for t in range(hi, hi - 36, -1) if t % 12 in tones)
+
+
+@lru_cache(maxsize=16384)
+def _shapes(pcs: tuple[int, ...], lo: int, hi: int, n: int) -> tuple[tuple[int, ...], ...]:
+    """Every voicing (top to bottom, rows in descending order) of the multiset ``pcs``
+    (:func:`_stacks`) from a top within the octave below ``hi``, or one or two octaves
+    lower, with the bottom at or above ``lo``."""
+    return tuple(row for t in _tops(pcs, hi) for row in _at_top(pcs, n, lo, t, False))
 
 
 def rubs(pc: int, lead_pc: int, chord: Chord) -> bool:
@@ -250,145 +311,181 @@ def room_sets(chord: Chord, n: int) -> list[tuple[tuple[int, ...], float]]:
     return out
 
 
-def _embed(V: np.ndarray, sounding: tuple[int, ...], n: int) -> tuple[np.ndarray, np.ndarray]:
-    """Voicings ``V`` of the ``sounding`` parts spread over ``n`` parts; a resting
-    part carries the pitch of the sounding voice above it (above the first sounding part:
-    that part's pitch), so the rule checks see the sounding intervals."""
-    carry = [max(sum(1 for s in sounding if s <= j) - 1, 0) for j in range(n)]
-    rests = np.array([j not in sounding for j in range(n)], dtype=bool)
-    return V[:, carry], np.broadcast_to(rests, (len(V), n))
+@dataclass(frozen=True, slots=True, eq=False)
+class Group:
+    """One tone set voiced by some of a section's parts: its sorted tones, the parts that
+    sound (indices, top to bottom; the others rest), the span those parts reach together
+    and the set's preference cost.  A resting part carries the pitch of the sounding part
+    above it (above the first sounding part: that part's pitch), so the rule checks see the
+    sounding intervals (``carry``)."""
+    pcs: tuple[int, ...]
+    sounding: tuple[int, ...]
+    lo: int
+    hi: int
+    cost: float
+    carry: tuple[int, ...]
+    rests: tuple[bool, ...]
+
+    def pitches(self, row: tuple[int, ...]) -> tuple[int, ...]:
+        """A voicing ``row`` of the sounding parts spread over every part (a resting part
+        carrying the pitch above it)."""
+        return row if len(row) == len(self.carry) else tuple(row[c] for c in self.carry)
 
 
-def candidates(chord: Chord, section: Section, lead: tuple[int, ...] = ()
-               ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Candidate voicings ``(k, n)`` (sounding, top to bottom), their rests ``(k, n)``
-    and costs ``(k,)``: preference cost plus the voicing stage's weighted rule
-    penalties.  ``lead``: every lead-section pitch sounding during the chord; when
-    no full voicing is free of clashes with it, thinner clash-free ones join.
-    The lead matters only through its clash-free tones, so chords that repeat
-    with the same tones free share one (read-only) result."""
-    return _candidates(chord, section, safe_pcs(chord, lead) if lead else None)
+def _group(pcs: tuple[int, ...], sounding: tuple[int, ...], section: Section, cost: float,
+           seen: dict[tuple[int, ...], tuple[int, int, tuple[int, ...], tuple[bool, ...]]]) -> Group:
+    hit = seen.get(sounding)
+    if hit is None:
+        parts = section.parts
+        n = len(parts)
+        hit = seen[sounding] = (min(parts[j].instrument.practical[0] for j in sounding),
+                                max(parts[j].instrument.practical[1] for j in sounding),
+                                tuple(max(sum(1 for s in sounding if s <= j) - 1, 0) for j in range(n)),
+                                tuple(j not in sounding for j in range(n)))
+    return Group(pcs, sounding, hit[0], hit[1], cost, hit[2], hit[3])
 
 
 @lru_cache(maxsize=512)
-def _candidates(chord: Chord, section: Section, safe: tuple[int, ...] | None
-                ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def _groups(chord: Chord, section: Section, safe: tuple[int, ...] | None) -> tuple[Group, ...]:
+    """The tone sets a background chord is voiced from, in the search's order: the full sets
+    (:func:`pc_sets`), the thinned ones where no full set is clash free (:func:`thinned_sets`,
+    the top part always sounding, any others joining it), the ones making room under a low
+    section (:func:`room_sets`, the lowest parts sounding, the bass part taking the root).
+    Raises where not one of them has a voicing inside the section's ranges."""
     n = len(section.parts)
-    parts = section.parts
-    lo = min(p.instrument.practical[0] for p in parts)
-    hi = max(p.instrument.practical[1] for p in parts)
-    rows: list[np.ndarray] = []
-    rest_rows: list[np.ndarray] = []
-    base: list[np.ndarray] = []
-    for pcs, cost in pc_sets(chord, n):
-        V = _shapes(tuple(sorted(pcs)), lo, hi, n)
-        rows.append(V)
-        rest_rows.append(np.zeros(V.shape, dtype=bool))
-        base.append(np.full(len(V), cost))
+    seen: dict[tuple[int, ...], tuple[int, int, tuple[int, ...], tuple[bool, ...]]] = {}
+    out = [_group(tuple(sorted(pcs)), tuple(range(n)), section, cost, seen) for pcs, cost in pc_sets(chord, n)]
     for ms, t, cost in thinned_sets(chord, n, safe) if safe is not None else []:
         # the top part always sounds; any t - 1 of the others join it
-        for others in combinations(range(1, n), t - 1):
-            sounding = (0, *others)
-            s_lo = min(parts[j].instrument.practical[0] for j in sounding)
-            s_hi = max(parts[j].instrument.practical[1] for j in sounding)
-            row, rest = _embed(_shapes(ms, s_lo, s_hi, t), sounding, n)
-            rows.append(row)
-            rest_rows.append(rest)
-            base.append(np.full(len(row), cost))
+        out += [_group(ms, (0, *others), section, cost, seen) for others in combinations(range(1, n), t - 1)]
     for pcs, cost in room_sets(chord, n):
-        t = len(pcs)
         # low down the lowest parts play (the bass part takes the root), the upper ones rest
-        sounding = tuple(range(n - t, n))
-        s_lo = min(parts[j].instrument.practical[0] for j in sounding)
-        s_hi = max(parts[j].instrument.practical[1] for j in sounding)
-        row, rest = _embed(_shapes(tuple(sorted(pcs)), s_lo, s_hi, t), sounding, n)
-        rows.append(row)
-        rest_rows.append(rest)
-        base.append(np.full(len(row), cost))
-    if not sum(len(r) for r in rows):
+        out.append(_group(tuple(sorted(pcs)), tuple(range(n - len(pcs), n)), section, cost, seen))
+    if not any(_has_shape(g) for g in out):
         raise VoicingError(f"no voicing of {chord.symbol} fits the section {section.name!r}",
                            where="[[layers]] section",
                            accepted="a section whose parts' practical ranges overlap enough to hold a chord")
-    P = np.concatenate(rows, axis=0)
-    R = np.concatenate(rest_rows, axis=0)
-    weights = {k: recipes().weight(k) for k in rules.KINDS}
-    # the voicing stage's own rules, run on one column of pitches per voice; a resting voice's
-    # marks are cleared (it carries its neighbour's pitch only for the checks)
-    plays = np.ascontiguousarray(~R.T)
-    marks = rules.masks(list(np.ascontiguousarray(P.T)), rules.context(chord, "spread"), section)
-    cost = np.concatenate(base) + rules.penalties(
-        {k: [m & plays[j] for j, m in enumerate(ms)] for k, ms in marks.items()}, weights)
-    for arr in (P, R, cost):
-        arr.flags.writeable = False
-    return P, R, cost
+    return tuple(out)
 
 
-def clash_pairs(layer: np.ndarray, lead: np.ndarray, chord: Chord) -> np.ndarray:
-    """``(m, n, q)`` bool: voice j of background voicing i against lead-section pitch
-    q lies a minor second, minor ninth or compound apart.  The b9 over a dominant's
-    root is kept, as inside a section (:mod:`arrange.rules`)."""
-    # |lead - voice| is 1 mod 12 (a minor second, ninth or compound): with the lead above,
-    # its pitch class lies 1 over the voice's; with the lead below, 11 over it.  Read from
-    # a table by pitch class (voice x lead), with one comparison per pair for the side
-    lead_pc = lead % 12
-    step = (lead_pc[None, :] - np.arange(12)[:, None]) % 12          # (12, q): lead minus voice
-    layer_pc = layer % 12
-    above = lead[None, None, :] > layer[:, :, None]                   # (m, n, q)
-    hit = np.where(above, (step == 1)[layer_pc], (step == 11)[layer_pc])
-    root, b9 = chord.root, (chord.root + 1) % 12
-    if chord.is_dominant and ((lead_pc == root) | (lead_pc == b9)).any():
-        # the b9 over the root kept: the root below, the b9 at least a ninth above it
-        d = lead[None, None, :] - layer[:, :, None]
-        lp = layer_pc[:, :, None]
-        ok = (((lp == root) & (lead_pc == b9)[None, None, :] & (d >= 13))
-              | ((lp == b9) & (lead_pc == root)[None, None, :] & (d <= -13)))
-        hit &= ~ok
-    return hit
+def _has_shape(g: Group) -> bool:
+    """Some stack of the group's tones fits between its parts' ``lo`` and ``hi``."""
+    k = g.pcs[0]
+    return any(g.hi - (g.hi - first - k) % 12 - offsets[-1] >= g.lo
+               for first, stacks in _rel_by_first(tuple(p - k for p in g.pcs), len(g.sounding)).items()
+               for offsets, _floor in stacks)
 
 
-def clash_counts(P: np.ndarray, plays: np.ndarray, pitches: tuple[int, ...], chord: Chord) -> np.ndarray:
-    """``(k,)``: how many (voice, lead pitch) pairs of each candidate :func:`clash_pairs`
-    marks, counting the voices that play (``plays``).  A voice's clashes depend on its own
-    pitch only, so they are counted once per pitch (a table of 128) and summed per row."""
-    if not len(P):
-        return np.zeros(0, dtype=np.int64)
-    lead = np.array(pitches, dtype=np.int64)
-    values = np.arange(max(int(P.max()), 0) + 1, dtype=np.int64)
-    per_pitch = clash_pairs(values[:, None], lead, chord)[:, 0, :].sum(axis=1)
-    return (per_pitch[P] * plays).sum(axis=1)
+def candidates(chord: Chord, section: Section, lead: tuple[int, ...] = (),
+               lows: tuple[int, ...] | None = None) -> list[tuple[Group, tuple[tuple[int, ...], ...]]]:
+    """Candidate voicings of ``chord`` for ``section`` in the search's order: each tone set
+    (:func:`_groups`) with its voicings of the parts that sound (top to bottom, in
+    descending order of pitches; :meth:`Group.pitches` spreads one over every part).
+    ``lead``: every lead-section pitch sounding during the chord; when no full voicing is
+    free of clashes with it, thinner clash-free ones join (the lead matters only through its
+    clash-free tones).  ``lows``: the lead section's lowest note of each stretch sounding
+    with the chord; given, only the voicings that sit under the section within the
+    low-interval limits (:func:`fits_under`) are listed, found without placing the others
+    (the top below each low and its interval to it open, every adjacent pair open: a
+    stack's own floor)."""
+    groups = _groups(chord, section, safe_pcs(chord, lead) if lead else None)
+    out: list[tuple[Group, tuple[tuple[int, ...], ...]]] = []
+    if lows is None:
+        for g in groups:
+            rows = _shapes(g.pcs, g.lo, g.hi, len(g.sounding))
+            if rows:
+                out.append((g, rows))
+        return out
+    lows = tuple(sorted(set(lows)))
+    ceiling = min(lows, default=max(g.hi for g in groups) + 1)
+    floor = min(g.lo for g in groups)
+    allowed = {t for t in range(ceiling - 1, floor - 1, -1) if not any(rules.below_limit(low, t) for low in lows)}
+    for g in groups:
+        t_n, lo = len(g.sounding), g.lo
+        rows: tuple[tuple[int, ...], ...] = ()
+        for top in _tops(g.pcs, g.hi):
+            if top in allowed:
+                rows += _at_top(g.pcs, t_n, lo, top, True)
+        if rows:
+            out.append((g, rows))
+    return out
 
 
-def fits_under(P: np.ndarray, lows: tuple[int, ...]) -> np.ndarray:
-    """``(k,)`` bool: the candidates (resting parts carrying the pitch above them) that sit
-    under the lead section within the low-interval limits (common practice: a background
-    sits below the section it backs and keeps its low intervals open): the top below each of
-    the section's lowest notes ``lows`` (one per stretch sounding with the chord), no two
+def fits_under(pitches: tuple[int, ...], lows: tuple[int, ...]) -> bool:
+    """A candidate (resting parts carrying the pitch above them) sits under the lead
+    section within the low-interval limits (common practice: a background sits below the
+    section it backs and keeps its low intervals open): the top below each of the
+    section's lowest notes ``lows`` (one per stretch sounding with the chord), no two
     adjacent sounding voices below their limit (``voicing_rules/limits.toml``), nor the top
     below the limit of its interval to each of ``lows``."""
-    cols = np.ascontiguousarray(P.T)
-    ok = np.ones(len(P), dtype=bool)
-    for upper, lower in zip(cols[:-1], cols[1:], strict=True):     # the voicing stage's own rule
-        ok &= ~rules.below_limit(upper, lower)
-    top = cols[0]
-    for low in sorted(set(lows)):
-        ok &= (low > top) & ~rules.below_limit(low, top)
-    return ok
+    top = pitches[0]
+    return (not any(rules.below_limit(u, w) for u, w in zip(pitches, pitches[1:], strict=False))
+            and all(low > top and not rules.below_limit(low, top) for low in lows))
 
 
-def cross_costs(P: np.ndarray, sounding: list[tuple[float, tuple[int, ...]]], chord: Chord,
-                R: np.ndarray | None = None) -> np.ndarray:
-    """Costs ``(k,)`` of each candidate against the lead-section notes sounding with it,
-    given as ``(share of the chord's time, pitches)`` pairs; resting voices (``R``)
-    cost nothing."""
-    lr = layer_rules()
-    cost = np.zeros(len(P))
+def rule_cost(chord: Chord, section: Section, pitches: tuple[int, ...], rests: tuple[bool, ...],
+              weights: dict[str, float]) -> float:
+    """The voicing stage's weighted rule penalties of one candidate (:func:`rules.masks` /
+    :func:`rules.penalties` with ``weights``, the ``voicings.toml`` weights of
+    ``rules.KINDS``: ranges, low-interval limits, crossing, minor ninths, doubling), a
+    resting part's marks cleared (it carries its neighbour's pitch only for the checks)."""
+    marks = rules.masks(pitches, rules.context(chord, "spread"), section)
+    if True in rests:
+        plays = [j for j, r in enumerate(rests) if not r]
+        marks = {k: [ms[j] for j in plays] for k, ms in marks.items()}
+    return rules.penalties(marks, weights)
+
+
+def clashes(voice: int, lead: int, chord: Chord) -> bool:
+    """A background pitch ``voice`` and a lead-section pitch ``lead`` lie a minor second,
+    minor ninth or compound apart.  The b9 over a dominant's root is kept, as inside a
+    section (:mod:`arrange.rules`): the root below, the b9 at least a ninth above it."""
+    d = lead - voice
+    if d % 12 != (1 if d > 0 else 11):
+        return False
+    if chord.is_dominant:
+        root, b9 = chord.root, (chord.root + 1) % 12
+        if voice % 12 == root and lead % 12 == b9 and d >= 13:
+            return False
+        if voice % 12 == b9 and lead % 12 == root and d <= -13:
+            return False
+    return True
+
+
+def clash_table(pitches: tuple[int, ...], chord: Chord) -> dict[int, int]:
+    """How many of the lead-section ``pitches`` each background pitch clashes with
+    (:func:`clashes`); pitches clashing with none are left out."""
+    out: dict[int, int] = {}
+    for q in set(pitches):
+        k = pitches.count(q)
+        for v in (q - 1, q + 1):
+            while 0 <= v < 128 + 24:
+                if clashes(v, q, chord):
+                    out[v] = out.get(v, 0) + k
+                v += 12 if v > q else -12
+    return out
+
+
+def cross_cost(sounding: list[tuple[float, tuple[int, ...]]], tables: list[dict[int, int]]
+               ) -> Callable[[tuple[int, ...]], float]:
+    """The cost of a voicing's sounding voices (a row, top to bottom) against the
+    lead-section notes sounding with it, given as ``(share of the chord's time, pitches)``
+    pairs with their :func:`clash_table`: per voice at or above the section's lowest note
+    (``above_lead``, and ``above_lead_step`` per semitone from one below it), per clash
+    ``clash`` times ``0.5 + share`` (resting parts cost nothing: they are not in the row)."""
     if not sounding:
-        return cost
-    plays = np.ones(P.shape, dtype=bool) if R is None else ~R
+        return lambda row: 0.0
+    lr = layer_rules()
     lowest = min(min(p) for _w, p in sounding)
-    above = (P >= lowest) & plays
-    cost += lr.weight("above_lead") * above.sum(axis=1)
-    cost += lr.weight("above_lead_step") * (np.clip(P - lowest + 1, 0, None) * plays).sum(axis=1)
-    for share, pitches in sounding:
-        cost += lr.weight("clash") * (0.5 + share) * clash_counts(P, plays, pitches, chord)
+    above, step = lr.weight("above_lead"), lr.weight("above_lead_step")
+    per_clash = [(lr.weight("clash") * (0.5 + share), table.get)
+                 for (share, _pitches), table in zip(sounding, tables, strict=True)]
+
+    def cost(row: tuple[int, ...]) -> float:
+        total = 0.0
+        total += above * sum([1 for p in row if p >= lowest])
+        total += step * sum([p - lowest + 1 for p in row if p >= lowest])
+        for weight, get in per_clash:
+            total += weight * sum([get(p, 0) for p in row])
+        return total
     return cost

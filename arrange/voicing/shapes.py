@@ -47,10 +47,16 @@ class Recipes:
     auto_steps: tuple[tuple[float, str], ...]
 
     def form(self, quality: str) -> tuple[int, ...] | None:
-        return dict(self.forms).get(quality)
+        return _tables(self)[0].get(quality)
 
     def weight(self, name: str) -> float:
-        return dict(self.weights)[name]
+        return _tables(self)[1][name]
+
+
+@lru_cache(maxsize=8)
+def _tables(rec: Recipes) -> tuple[dict[str, tuple[int, ...]], dict[str, float]]:
+    """A recipe's forms and weights as dicts, made once (the search asks for them often)."""
+    return dict(rec.forms), dict(rec.weights)
 
 
 # the voicing options a substitution may name (``[section]`` keys of the same name)
@@ -104,12 +110,14 @@ def _is_minor(chord: Chord) -> bool:
     return 3 in chord.intervals and 4 not in chord.intervals
 
 
+@lru_cache(maxsize=1024)
 def fifth_pc(chord: Chord) -> int:
     iv = {i % 12 for i in chord.intervals}
     fifth = 7 if 7 in iv else 6 if 6 in iv else 8 if 8 in iv else 7
     return (chord.root + fifth) % 12
 
 
+@lru_cache(maxsize=1024)
 def guide_tones(chord: Chord) -> tuple[int, ...]:
     """Pitch classes of the guide tones of ``chord``: the third (the 4th of a sus4 chord,
     the 2nd of a sus2), and the seventh (or the sixth)."""
@@ -155,8 +163,21 @@ def chord_forms(chord: Chord, rec: Recipes, options: frozenset[str] = frozenset(
                 ) -> list[tuple[tuple[int, ...], float]]:
     """The plain form and its tension substitutions, each with its cost.  A tension stands
     for the root or the fifth; in place of a guide tone only where ``options`` asks."""
+    return list(_chord_forms(chord, rec, options))
+
+
+@lru_cache(maxsize=1024)
+def _base_slots(chord: Chord, rec: Recipes) -> tuple[tuple[int, ...], dict[str, int | None]]:
+    """The chord's four-note form and the places of its root and fifth (:func:`_slots`),
+    worked out once per chord: every lead note over it asks (not to be changed)."""
     base = four_note_form(chord, rec)
-    slots = _slots(base, chord)
+    return base, _slots(base, chord)
+
+
+@lru_cache(maxsize=1024)
+def _chord_forms(chord: Chord, rec: Recipes, options: frozenset[str]) -> tuple[tuple[tuple[int, ...], float], ...]:
+    """:func:`chord_forms`, once per chord and options (the notes over a chord all ask)."""
+    base, slots = _base_slots(chord, rec)
     avail = {t % 12 for t in chord.tensions} - set(base)
     subs = []
     for t, r, on, option in rec.substitutions:
@@ -180,7 +201,7 @@ def chord_forms(chord: Chord, rec: Recipes, options: frozenset[str] = frozenset(
             rep = dict((pos, t) for t, pos, _c in combo)
             form = tuple(rep.get(j, i) for j, i in enumerate(base))
             out.append((form, sum(c for _t, _p, c in combo)))
-    return out
+    return tuple(out)
 
 
 def _with_lead(form: tuple[int, ...], lead_pc: int, chord: Chord, rec: Recipes
@@ -193,8 +214,7 @@ def _with_lead(form: tuple[int, ...], lead_pc: int, chord: Chord, rec: Recipes
     pcs = tuple((chord.root + i) % 12 for i in form)
     if lead_pc in pcs:
         return [(pcs, 0.0)]
-    base = four_note_form(chord, rec)
-    slots = _slots(base, chord)
+    base, slots = _base_slots(chord, rec)
     iv = (lead_pc - chord.root) % 12
     tension = iv in {t % 12 for t in chord.tensions}
     first = "root" if iv in (1, 2, 3) and tension else "fifth"
@@ -229,7 +249,7 @@ def structures(lead: int, chord: Chord, vtype: str, rec: Recipes,
                options: frozenset[str] = frozenset()) -> list[tuple[tuple[int, ...], float]]:
     """Four-voice structures under ``lead`` (distinct, each with its cost)."""
     out: dict[tuple[int, ...], float] = {}
-    for form, cost in chord_forms(chord, rec, options):
+    for form, cost in _chord_forms(chord, rec, options):
         for pcs, extra in _with_lead(form, lead % 12, chord, rec):
             if len(set(pcs)) < 4:
                 continue

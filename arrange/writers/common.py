@@ -1,6 +1,7 @@
 """Helpers that more than one file format shares (no format imports another's writer)."""
 from __future__ import annotations
 
+from bisect import bisect_left, bisect_right
 from fractions import Fraction
 from typing import Any
 
@@ -141,13 +142,22 @@ def bass_names(voiced: Any, layers: tuple[Any, ...], bass: Any) -> tuple[str, ..
         by_pc.setdefault(midi % 12, []).append((on, end, name))
     for v in by_pc.values():
         v.sort()
+    # each pitch class's onsets (sorted) and its longest note: a bass note looks only at the
+    # notes that can overlap it (one starting a longest note or more before it cannot)
+    onsets = {pc: [on for on, _end, _name in v] for pc, v in by_pc.items()}
+    longest = {pc: max(end - on for on, end, _name in v) for pc, v in by_pc.items()}
     pitches = [bn.pitch for bn in bass]
     out = []
     for i, bn in enumerate(bass):
         way = direction_of(pitches[i - 1] if i else None, pitches[i], pitches[i + 1] if i + 1 < len(pitches) else None)
         own = spell_pitch(bn.pitch, h.key_at(max(1, int(bn.onset // bar_len) + 1)), bn.chord, way)
         t0, t1 = bn.onset, bn.onset + bn.duration
-        here = [(on, split_name(name)[0]) for on, end, name in by_pc.get(bn.pitch % 12, ()) if on < t1 and t0 < end]
+        pc = bn.pitch % 12
+        near: list[tuple[Fraction, Fraction, str]] = []
+        if pc in by_pc:
+            starts = onsets[pc]
+            near = by_pc[pc][bisect_right(starts, t0 - longest[pc]):bisect_left(starts, t1)]
+        here = [(on, split_name(name)[0]) for on, end, name in near if on < t1 and t0 < end]
         # one name while it sounds: the score's, where the score has one; where the horns
         # spell the pitch class two ways while the bass holds (a tie keeps one name), the
         # bass's own by its chord if the horns use it (an anticipated root keeps the name of

@@ -6,6 +6,7 @@ staves of :mod:`.xml_score`.  Each rule is common practice of engraving, named b
 from __future__ import annotations
 
 from fractions import Fraction
+from functools import lru_cache
 from typing import Any
 
 from arrange.rhythm.meter import Meter
@@ -21,6 +22,7 @@ TYPES = {Q(4): ("whole", 0), Q(2): ("half", 0), Q(1): ("quarter", 0), Q(1, 2): (
           Q(3, 2): ("quarter", 1), Q(3, 4): ("eighth", 1), Q(3, 8): ("16th", 1), Q(3, 16): ("32nd", 1)}
 BEAMS = {"eighth": 1, "16th": 2, "32nd": 3}
 _LAST_TICK = Q(1, 96)     # a note's last moment: its end less the finest grid step
+_EIGHTH = Q(1, 2)
 
 def split_name(name: str) -> tuple[str, int, int]:
     """``Eb4`` -> ("E", -1, 4); the octave goes with the letter (``Cb4`` is B3's key)."""
@@ -76,13 +78,22 @@ def beams(notes: list[Any], meter: Meter, start: Fraction) -> dict[int, tuple[tu
     """Index -> ((level, begin|continue|end|forward hook|backward hook), ...) for the
     notes of one measure.  Beamable notes (eighths and shorter) that follow each other
     inside one beat are beamed; in 4/4 a half bar of four plain eighths is one group
-    (common practice), never across the middle of the bar."""
+    (common practice), never across the middle of the bar.  The beams depend only on the
+    measure's rhythm (each note's offset, value and whether it sounds), which the parts
+    of a section share: worked out once per rhythm (the answer is not to be changed)."""
+    return _beam_plan(tuple((n.offset, n.duration, n.name is not None) for n in notes), meter, start)
+
+
+@lru_cache(maxsize=4096)
+def _beam_plan(rhythm: tuple[tuple[Fraction, Fraction, bool], ...], meter: Meter,
+               start: Fraction) -> dict[int, tuple[tuple[int, str], ...]]:
     units = beat_units(meter)
-    if str(meter) == "4/4":
+    where = [start + offset for offset, _d, _sounds in rhythm]   # each note's bar position, once
+    if meter.numerator == 4 and meter.denominator == 4:
         halves = []
         for lo, hi in ((Q(0), Q(2)), (Q(2), Q(4))):
-            inside = [n for n in notes if lo <= start + n.offset < hi]
-            if len(inside) == 4 and all(n.name is not None and n.duration == Q(1, 2) for n in inside):
+            inside = [(d, sounds) for (_o, d, sounds), pos in zip(rhythm, where) if lo <= pos < hi]
+            if len(inside) == 4 and all(sounds and d == _EIGHTH for d, sounds in inside):
                 halves.append(lo + 1)
         units = [u for u in units if u not in halves]
 
@@ -91,15 +102,15 @@ def beams(notes: list[Any], meter: Meter, start: Fraction) -> dict[int, tuple[tu
 
     groups: list[list[int]] = []
     prev_unit = None
-    for i, n in enumerate(notes):
-        value = n.duration * 3 / 2 if is_triplet(n.duration) else n.duration
+    for i, (_offset, duration, sounds) in enumerate(rhythm):
+        value = duration * 3 / 2 if is_triplet(duration) else duration
         kind = TYPES.get(value)
-        if n.name is None or kind is None or kind[0] not in BEAMS:
+        if not sounds or kind is None or kind[0] not in BEAMS:
             prev_unit = None
             continue
-        pos = start + n.offset
+        pos = where[i]
         u = unit_of(pos)
-        end_u = unit_of(pos + n.duration - _LAST_TICK)
+        end_u = unit_of(pos + duration - _LAST_TICK)
         if u != end_u:
             prev_unit = None
             continue
@@ -114,7 +125,7 @@ def beams(notes: list[Any], meter: Meter, start: Fraction) -> dict[int, tuple[tu
             continue
         counts = []
         for i in g:
-            d = notes[i].duration
+            d = rhythm[i][1]
             counts.append(BEAMS[TYPES[d * 3 / 2 if is_triplet(d) else d][0]])
         for pos, i in enumerate(g):
             levels = []

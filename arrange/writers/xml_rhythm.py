@@ -18,6 +18,7 @@ statement ends.  Notes and rests are cut by :func:`arrange.rhythm.notation.piece
 from __future__ import annotations
 
 import xml.etree.ElementTree as ET
+from bisect import bisect_left
 from collections.abc import Sequence
 from fractions import Fraction
 
@@ -236,10 +237,31 @@ def _notations(n: ET.Element, pc: Piece, accent: bool) -> None:
         _sub(_sub(no, "articulations"), "accent")
 
 
+class _Timed:
+    """Items with a time each, asked for those whose time lies in ``[lo, hi)``, in their own
+    order: by bisection where the times stand in order (the parts' notes give them so), by a
+    scan otherwise, the same answer either way; a long part no longer scans every item for
+    each of its notes or bars."""
+
+    def __init__(self, items: Sequence, times: list[Fraction]) -> None:  # type: ignore[type-arg]
+        self.items = list(items)
+        self.times = times
+        self.ordered = all(a <= b for a, b in zip(times, times[1:]))
+
+    def between(self, lo: Fraction, hi: Fraction) -> list:  # type: ignore[type-arg]
+        if self.ordered:
+            return self.items[bisect_left(self.times, lo):bisect_left(self.times, hi)]
+        return [x for x, t in zip(self.items, self.times, strict=True) if lo <= t < hi]
+
+
+def _changes(changes: list[tuple[Fraction, Chord]]) -> _Timed:
+    return _Timed(changes, [t for t, _chord in changes])
+
+
 def _symbols_before(ms: _Measures, m: ET.Element, start: Fraction, end: Fraction,
-                    changes: Sequence[tuple[Fraction, Chord]], done: set[Fraction]) -> None:
-    for t, chord in changes:
-        if start <= t < end and t not in done:
+                    changes: _Timed, done: set[Fraction]) -> None:
+    for t, chord in changes.between(start, end):
+        if t not in done:
             done.add(t)
             m.append(harmony_element(chord, offset=int((t - start) * DIVISIONS)))
 
@@ -249,6 +271,7 @@ def _comp_part(ms: _Measures, rs: RhythmSection, meter, rs_part: str) -> None:  
     for s in rs.comping:
         if not s.rest and (not changes or changes[-1][1] != s.chord):
             changes.append((s.onset, s.chord))
+    timed = _changes(changes)
     done: set[Fraction] = set()
     _rests(ms, -rs.pickup, Fraction(0), meter)
     for s in rs.comping:
@@ -258,7 +281,7 @@ def _comp_part(ms: _Measures, rs: RhythmSection, meter, rs_part: str) -> None:  
         for j, pc in enumerate(pieces(s.onset, s.duration, meter, pickup=rs.pickup)):
             m = ms.measures[pc.measure]
             t = ms.start(pc.measure) + pc.offset
-            _symbols_before(ms, m, t, t + pc.duration, changes, done)
+            _symbols_before(ms, m, t, t + pc.duration, timed, done)
             # the guitar's 8vb clef: the file holds sounding pitch (as the guitar's other parts)
             at = ("B", 3) if rs_part == "guitar" else ("B", 4)
             alter = signature_alters(ms.harmonized.key_at(int(t // rs.bar) + 1).fifths).get("B", 0)
@@ -277,6 +300,7 @@ def _bass_part(ms: _Measures, rs: RhythmSection, meter, names: tuple[str, ...]) 
     for bn in rs.bass:
         if not changes or changes[-1][1] != bn.chord:
             changes.append((bn.onset, bn.chord))
+    timed = _changes(changes)
     done: set[Fraction] = set()
     _rests(ms, -rs.pickup, Fraction(0), meter)
     notes = rs.bass
@@ -291,7 +315,7 @@ def _bass_part(ms: _Measures, rs: RhythmSection, meter, names: tuple[str, ...]) 
         for pc in pieces(bn.onset, bn.duration, meter, pickup=rs.pickup):
             m = ms.measures[pc.measure]
             t = ms.start(pc.measure) + pc.offset
-            _symbols_before(ms, m, t, t + pc.duration, changes, done)
+            _symbols_before(ms, m, t, t + pc.duration, timed, done)
             ms.signature = signature_alters(written_key(key).fifths)
             acc = ms.accidental(pc.measure, step, octave, alter)
             n = _sub(m, "note")
@@ -315,6 +339,8 @@ def _drum_part(ms: _Measures, rs: RhythmSection, meter) -> None:  # noqa: ANN001
         return
     _rests(ms, -rs.pickup, Fraction(0), meter)
     bar = rs.bar
+    all_cues = _Timed(drums.cues, [c.onset for c in drums.cues])
+    all_times = _Timed(drums.time, list(drums.time))
     for k in range(int(rs.total / bar)):
         t0 = k * bar
         m = ms.measures[ms.index(t0)]
@@ -322,7 +348,7 @@ def _drum_part(ms: _Measures, rs: RhythmSection, meter) -> None:  # noqa: ANN001
             _words(m, drums.style, bold=True)
         if k + 1 in drums.fills:
             _words(m, "Fill", offset=bar - 2 if bar >= 3 else bar - 1)
-        cues = [c for c in drums.cues if t0 <= c.onset < t0 + bar]
+        cues = all_cues.between(t0, t0 + bar)
         if cues:   # voice 1: the figure above the staff, cue size; hidden rests between
             t = t0
             for i, c in enumerate(cues):
@@ -336,7 +362,7 @@ def _drum_part(ms: _Measures, rs: RhythmSection, meter) -> None:  # noqa: ANN001
             bk = _sub(m, "backup")
             _sub(bk, "duration", str(int(bar * DIVISIONS)))
         voice = "2" if cues else "1"
-        times = [t for t in drums.time if t0 <= t < t0 + bar]
+        times = all_times.between(t0, t0 + bar)
         ends = times[1:] + [t0 + bar]
         for on, end in zip(times, ends, strict=True):
             for pc in pieces(on, end - on, meter, pickup=rs.pickup):
@@ -416,11 +442,10 @@ def rhythm_score_bytes(root: ET.Element, rs: RhythmSection, harmonized: Harmoniz
     """The score file of ``root`` (``musicxml.score_tree``, the score not yet written) with
     the rhythm parts appended below the others, in one bracketed group; indented by two
     spaces (the score alone is indented by one)."""
-    from arrange.writers.xml_document import HEAD
+    from arrange.writers.xml_document import HEAD, xml_text
 
     _append(root, rs, harmonized, first_channel, bass_names)
-    ET.indent(root, space="  ")
-    return HEAD + ET.tostring(root, encoding="unicode").encode("utf-8")
+    return HEAD + xml_text(root, "  ").encode("utf-8")
 
 
 def _append(root: ET.Element, rs: RhythmSection, harmonized: Harmonized, first_channel: int,
@@ -447,6 +472,8 @@ _HEAD = (b'<?xml version="1.0" encoding="UTF-8"?>\n'
 def rhythm_part_files(rs: RhythmSection | None, harmonized: Harmonized, title: str, tempo: float,
                       style: str, version: str = "", *, bass_names: tuple[str, ...] = ()) -> list[tuple[str, bytes]]:
     """One printable MusicXML file per rhythm part: ``(part name, bytes)``."""
+    from arrange.writers.xml_document import xml_text
+
     if rs is None:
         return []
     out = []
@@ -474,7 +501,6 @@ def rhythm_part_files(rs: RhythmSection | None, harmonized: Harmonized, title: s
             _sub(_sub(w, "direction-type"), "words", style).set("font-weight", "bold")
             first.insert(at, w)
         root.append(part)
-        ET.indent(root, space="  ")
         name = sp.findtext("part-name") or "Part"
-        out.append((name, _HEAD + ET.tostring(root, encoding="utf-8")))
+        out.append((name, _HEAD + xml_text(root, "  ").encode("utf-8")))
     return out

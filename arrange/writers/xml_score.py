@@ -139,7 +139,14 @@ def _cut(onset: Fraction, duration: Fraction, meter: Meter, pickup: Fraction) ->
     return tuple(pieces(onset, duration, meter, pickup=pickup))
 
 
-@dataclass(slots=True)
+@lru_cache(maxsize=4096)
+def _rest_cut(onset: Fraction, duration: Fraction, meter: Meter, pickup: Fraction) -> tuple[Piece, ...]:
+    """The notation pieces of one rest, shared by every staff that rests there (the parts
+    of a section rest together)."""
+    return tuple(pieces(onset, duration, meter, pickup=pickup, rest=True))
+
+
+@dataclass(slots=True, eq=False)
 class _Note:
     """A written note or rest of a staff, before it becomes XML."""
     offset: Fraction
@@ -151,7 +158,7 @@ class _Note:
     whole_bar: bool = False
 
 
-@dataclass(slots=True)
+@dataclass(slots=True, eq=False)
 class Staff:
     """One part's measures under construction (``line``: the rhythm stage's Line)."""
     line: object
@@ -280,7 +287,7 @@ class Staff:
             if t < m_len:
                 gaps.append((t, m_len - t))
             for off, dur in gaps:
-                for pc in pieces(m_start + off, dur, meter, pickup=pickup, rest=True):
+                for pc in _rest_cut(m_start + off, dur, meter, pickup):
                     notes.append(_Note(pc.offset, pc.duration, None, whole_bar=pc.whole_bar))
 
     @staticmethod
