@@ -20,7 +20,7 @@ from collections.abc import Sequence
 from fractions import Fraction
 
 from arrange.harmony.events import Harmonized
-from arrange.rhythm_section.values import Cue, Slash
+from arrange.rhythm_section.values import Cue, Slash, Timed
 from arrange.theory.chords import Chord
 
 __all__ = ["hits", "comping", "chord_at", "comp_pitches", "COMP_FLOOR"]
@@ -153,13 +153,9 @@ def comping(harmonized: Harmonized, figures: Sequence[Cue]) -> tuple[Slash, ...]
     line = harmonized.line
     bar = line.meter.bar
     out: list[Slash] = []
-    onsets = [c.onset for c in figures]
-    in_order = all(a <= b for a, b in zip(onsets, onsets[1:]))
+    by_onset = Timed(figures, [c.onset for c in figures])
     for m in range(line.bars):
         t0 = m * bar
-        if in_order:      # the bar's figures by bisection: the same as the scan below
-            figure = list(figures[bisect_left(onsets, t0):bisect_left(onsets, t0 + bar)])
-        else:
-            figure = [c for c in figures if t0 <= c.onset < t0 + bar]
+        figure = by_onset.between(t0, t0 + bar)
         out.extend(_bar_slashes(harmonized, t0, bar, line.meter.beats, figure))
     return tuple(out)

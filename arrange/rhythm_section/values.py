@@ -7,13 +7,15 @@ page and the playback read the same values.
 """
 from __future__ import annotations
 
+from bisect import bisect_left
+from collections.abc import Sequence
 from dataclasses import dataclass
 from fractions import Fraction
 
 from arrange.rhythm_section.options import PARTS
 from arrange.theory.chords import Chord
 
-__all__ = ["BassNote", "Slash", "DrumHit", "Cue", "DrumPart", "RhythmSection", "PARTS"]
+__all__ = ["BassNote", "Slash", "DrumHit", "Cue", "DrumPart", "RhythmSection", "PARTS", "Timed"]
 
 
 @dataclass(frozen=True, slots=True, eq=False)
@@ -78,3 +80,21 @@ class RhythmSection:
     bar: Fraction = Fraction(4)        # written bar length in quarter notes
     total: Fraction = Fraction(0)      # written length from bar 1
     pickup: Fraction = Fraction(0)
+
+
+class Timed:
+    """Items with a time each, asked for those whose time lies in ``[lo, hi)``, in their own
+    order (a bar's comping figures, a rhythm part's chord changes, drum cues and time): by
+    bisection where the times stand in order (the stages give them so), by a scan otherwise,
+    the same answer either way; a long part no longer scans every item for each of its
+    notes or bars."""
+
+    def __init__(self, items: Sequence, times: list[Fraction]) -> None:  # type: ignore[type-arg]
+        self.items = list(items)
+        self.times = times
+        self.ordered = all(a <= b for a, b in zip(times, times[1:]))
+
+    def between(self, lo: Fraction, hi: Fraction) -> list:  # type: ignore[type-arg]
+        if self.ordered:
+            return self.items[bisect_left(self.times, lo):bisect_left(self.times, hi)]
+        return [x for x, t in zip(self.items, self.times, strict=True) if lo <= t < hi]

@@ -18,13 +18,12 @@ statement ends.  Notes and rests are cut by :func:`arrange.rhythm.notation.piece
 from __future__ import annotations
 
 import xml.etree.ElementTree as ET
-from bisect import bisect_left
 from collections.abc import Sequence
 from fractions import Fraction
 
 from arrange.harmony.events import Harmonized
 from arrange.rhythm.notation import Piece, pieces
-from arrange.rhythm_section.values import RhythmSection
+from arrange.rhythm_section.values import RhythmSection, Timed
 from arrange.theory.chords import Chord
 from arrange.theory.keys import signature_alters, written_key
 from arrange.voicing.sections import instruments
@@ -237,29 +236,12 @@ def _notations(n: ET.Element, pc: Piece, accent: bool) -> None:
         _sub(_sub(no, "articulations"), "accent")
 
 
-class _Timed:
-    """Items with a time each, asked for those whose time lies in ``[lo, hi)``, in their own
-    order: by bisection where the times stand in order (the parts' notes give them so), by a
-    scan otherwise, the same answer either way; a long part no longer scans every item for
-    each of its notes or bars."""
-
-    def __init__(self, items: Sequence, times: list[Fraction]) -> None:  # type: ignore[type-arg]
-        self.items = list(items)
-        self.times = times
-        self.ordered = all(a <= b for a, b in zip(times, times[1:]))
-
-    def between(self, lo: Fraction, hi: Fraction) -> list:  # type: ignore[type-arg]
-        if self.ordered:
-            return self.items[bisect_left(self.times, lo):bisect_left(self.times, hi)]
-        return [x for x, t in zip(self.items, self.times, strict=True) if lo <= t < hi]
-
-
-def _changes(changes: list[tuple[Fraction, Chord]]) -> _Timed:
-    return _Timed(changes, [t for t, _chord in changes])
+def _changes(changes: list[tuple[Fraction, Chord]]) -> Timed:
+    return Timed(changes, [t for t, _chord in changes])
 
 
 def _symbols_before(ms: _Measures, m: ET.Element, start: Fraction, end: Fraction,
-                    changes: _Timed, done: set[Fraction]) -> None:
+                    changes: Timed, done: set[Fraction]) -> None:
     for t, chord in changes.between(start, end):
         if t not in done:
             done.add(t)
@@ -339,8 +321,8 @@ def _drum_part(ms: _Measures, rs: RhythmSection, meter) -> None:  # noqa: ANN001
         return
     _rests(ms, -rs.pickup, Fraction(0), meter)
     bar = rs.bar
-    all_cues = _Timed(drums.cues, [c.onset for c in drums.cues])
-    all_times = _Timed(drums.time, list(drums.time))
+    all_cues = Timed(drums.cues, [c.onset for c in drums.cues])
+    all_times = Timed(drums.time, list(drums.time))
     for k in range(int(rs.total / bar)):
         t0 = k * bar
         m = ms.measures[ms.index(t0)]
